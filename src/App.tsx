@@ -1,0 +1,42 @@
+import { lazy, Suspense } from "react";
+import { Route, Routes } from "react-router-dom";
+import { AppShell } from "./components/shell/AppShell";
+import { RequireAuth } from "./components/shell/RequireAuth";
+import { Loading } from "./components/ui/Status";
+
+// Every page is its own chunk so the first load carries only the shell and the page in view.
+const LoginPage = lazy(() => import("./pages/LoginPage"));
+const LayoutsPage = lazy(() => import("./pages/LayoutsPage"));
+const LayoutOverviewPage = lazy(() => import("./pages/LayoutOverviewPage"));
+const RulebookPage = lazy(() => import("./pages/RulebookPage"));
+const SimulatePage = lazy(() => import("./pages/SimulatePage"));
+const LivePage = lazy(() => import("./pages/LivePage"));
+const DisplayPage = lazy(() => import("./pages/DisplayPage"));
+const NotFoundPage = lazy(() => import("./pages/NotFoundPage"));
+
+/** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
+export function App() {
+  return (
+    <Suspense fallback={<Loading what="page" />}>
+      <Routes>
+        <Route path="/login" element={<LoginPage />} />
+        {/* Visitors hold a display link, not an account: no sign-in, no shell. */}
+        <Route path="/display/:token" element={<DisplayPage />} />
+        <Route
+          element={
+            <RequireAuth>
+              <AppShell />
+            </RequireAuth>
+          }
+        >
+          <Route index element={<LayoutsPage />} />
+          <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
+          <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
+          <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
+          <Route path="layouts/:slug/live" element={<LivePage />} />
+          <Route path="*" element={<NotFoundPage />} />
+        </Route>
+      </Routes>
+    </Suspense>
+  );
+}

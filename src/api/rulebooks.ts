@@ -1,0 +1,57 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { RulebookVersionDetail, SaveDraftResponse } from "../../shared/contract/rest";
+import { http } from "./http";
+import { layoutKeys } from "./layouts";
+
+export const rulebookKeys = {
+  all: (slug: string) => ["rulebooks", slug] as const,
+  version: (slug: string, version: number) => [...rulebookKeys.all(slug), version] as const,
+};
+
+export interface RulebookVersionResponse {
+  version: RulebookVersionDetail;
+}
+
+function base(slug: string): string {
+  return `/api/layouts/${encodeURIComponent(slug)}/rulebooks`;
+}
+
+export function useRulebookVersion(slug: string | undefined, version: number | undefined) {
+  return useQuery({
+    queryKey: rulebookKeys.version(slug ?? "", version ?? 0),
+    queryFn: ({ signal }) => http.get<RulebookVersionResponse>(`${base(slug ?? "")}/${version}`, signal),
+    select: (body) => body.version,
+    enabled: Boolean(slug) && typeof version === "number" && version > 0,
+    // A stored version never changes except its status; keep it while the page is open.
+    staleTime: 30_000,
+  });
+}
+
+export interface SaveDraftInput {
+  rulebook: unknown;
+  note?: string;
+}
+
+/** Saves a new draft version. A 400 lists the rulebook's errors as `[{path,message}]`. */
+export function useSaveDraftMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: SaveDraftInput) => http.post<SaveDraftResponse>(base(slug), input),
+    onSuccess: async () => {
+      await queryClient.invalidateQueries({ queryKey: layoutKeys.detail(slug) });
+    },
+  });
+}
+
+export function usePublishMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (version: number) => http.post<{ version: unknown }>(`${base(slug)}/${version}/publish`),
+    onSuccess: async () => {
+      await Promise.all([
+        queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
+        queryClient.invalidateQueries({ queryKey: rulebookKeys.all(slug) }),
+      ]);
+    },
+  });
+}

@@ -1,0 +1,80 @@
+import { NavLink, Outlet, useMatch, useNavigate } from "react-router-dom";
+import { useLogout } from "../../api/auth";
+import { useCurrentUser } from "../../hooks/useCurrentUser";
+import { can, ROLE_LABELS } from "../../lib/permissions";
+import { SAFETY_TEXT } from "../ui/SafetyNote";
+
+const linkClass = ({ isActive }: { isActive: boolean }) =>
+  `rounded-md px-3 py-1.5 text-sm font-semibold ${isActive ? "bg-panel-700 text-ink" : "text-ink-soft hover:bg-panel-800 hover:text-ink"}`;
+
+/** Header, navigation for the signed-in role, and the operating-aid footer around every page. */
+export function AppShell() {
+  const user = useCurrentUser();
+  const logout = useLogout();
+  const navigate = useNavigate();
+  const layoutMatch = useMatch("/layouts/:slug/*");
+  const slug = layoutMatch?.params.slug;
+
+  const signOut = () => {
+    logout.mutate(undefined, { onSettled: () => navigate("/login", { replace: true }) });
+  };
+
+  return (
+    <div className="flex min-h-screen flex-col">
+      <header className="no-print border-b border-panel-700 bg-panel-900">
+        <div className="mx-auto flex max-w-7xl flex-wrap items-center gap-x-6 gap-y-2 px-4 py-3">
+          <NavLink to="/" className="flex items-center gap-2 text-xl font-bold tracking-tight text-ink">
+            <span aria-hidden="true" className="inline-block h-3 w-3 rounded-full bg-aspect-clear shadow-lamp text-aspect-clear" />
+            Blocklight
+          </NavLink>
+          <nav aria-label="Main" className="flex flex-1 flex-wrap items-center gap-1">
+            <NavLink to="/" end className={linkClass}>
+              Layouts
+            </NavLink>
+            {slug ? (
+              <>
+                <span aria-hidden="true" className="px-1 text-ink-faint">
+                  /
+                </span>
+                <NavLink to={`/layouts/${slug}`} end className={linkClass}>
+                  Overview
+                </NavLink>
+                <NavLink to={`/layouts/${slug}/rulebook`} className={linkClass}>
+                  {can.editRulebook(user.role) ? "Rulebook editor" : "Rulebook"}
+                </NavLink>
+                <NavLink to={`/layouts/${slug}/simulate`} className={linkClass}>
+                  Simulator
+                </NavLink>
+                <NavLink to={`/layouts/${slug}/live`} className={linkClass}>
+                  {can.controlLive(user.role) ? "Live control" : "Live mimic"}
+                </NavLink>
+              </>
+            ) : null}
+          </nav>
+          <div className="flex items-center gap-3 text-sm">
+            <span>
+              <span className="font-semibold text-ink">{user.name}</span>{" "}
+              <span className="rounded bg-panel-700 px-2 py-0.5 text-xs text-ink-soft" title="Your role">
+                {ROLE_LABELS[user.role]}
+              </span>
+            </span>
+            <button
+              type="button"
+              onClick={signOut}
+              disabled={logout.isPending}
+              className="rounded-md border border-panel-600 px-3 py-1 text-ink-soft hover:bg-panel-800 hover:text-ink"
+            >
+              Sign out
+            </button>
+          </div>
+        </div>
+      </header>
+      <main className="mx-auto w-full max-w-7xl flex-1 px-4 py-6">
+        <Outlet />
+      </main>
+      <footer className="no-print border-t border-panel-700 bg-panel-900 px-4 py-3 text-center text-xs text-ink-faint">
+        {SAFETY_TEXT}
+      </footer>
+    </div>
+  );
+}

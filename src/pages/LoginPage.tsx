@@ -1,0 +1,53 @@
+import { Navigate, useLocation, useNavigate } from "react-router-dom";
+import type { LoginBody } from "../../shared/contract/rest";
+import { useLogin, useMe } from "../api/auth";
+import { ApiError } from "../api/http";
+import { LoginForm } from "../components/auth/LoginForm";
+import { SAFETY_TEXT } from "../components/ui/SafetyNote";
+
+function destination(state: unknown): string {
+  const from = (state as { from?: unknown } | null)?.from;
+  // Only ever return to a path inside this app.
+  return typeof from === "string" && from.startsWith("/") && !from.startsWith("//") ? from : "/";
+}
+
+export default function LoginPage() {
+  const me = useMe();
+  const login = useLogin();
+  const navigate = useNavigate();
+  const location = useLocation();
+
+  if (me.data) return <Navigate to={destination(location.state)} replace />;
+
+  const submit = async (values: LoginBody) => {
+    try {
+      await login.mutateAsync(values);
+      navigate(destination(location.state), { replace: true });
+    } catch {
+      // The error is shown from the mutation state below.
+    }
+  };
+
+  const serverError =
+    login.error instanceof ApiError
+      ? login.error.status === 401
+        ? "Wrong email or password."
+        : login.error.message
+      : login.error
+        ? "Sign-in failed. Try again."
+        : null;
+
+  return (
+    <div className="flex min-h-screen flex-col items-center justify-center px-4">
+      <main className="w-full max-w-sm rounded-lg border border-panel-700 bg-panel-900 p-6">
+        <h1 className="mb-1 flex items-center gap-2 text-2xl font-bold">
+          <span aria-hidden="true" className="inline-block h-3 w-3 rounded-full bg-aspect-clear text-aspect-clear shadow-lamp" />
+          Blocklight
+        </h1>
+        <p className="mb-6 text-sm text-ink-soft">Sign in to your society's junctions.</p>
+        <LoginForm onSubmit={submit} serverError={serverError} />
+      </main>
+      <p className="mt-6 max-w-md text-center text-xs text-ink-faint">{SAFETY_TEXT}</p>
+    </div>
+  );
+}

@@ -1,0 +1,13 @@
+import { Link } from "react-router-dom";
+
+export default function NotFoundPage() {
+  return (
+    <div className="space-y-3">
+      <h1 className="text-2xl font-bold">Nothing here</h1>
+      <p className="text-ink-soft">This page does not exist.</p>
+      <Link to="/" className="text-brass underline">
+        Back to the layouts
+      </Link>
+    </div>
+  );
+}

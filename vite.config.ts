@@ -1,0 +1,24 @@
+import { defineConfig } from "vite";
+import react from "@vitejs/plugin-react";
+import tailwindcss from "@tailwindcss/vite";
+
+// The API server (server/index.ts) listens here; in dev the client is served by Vite
+// and forwards API calls and the live socket so cookies stay same-origin.
+const API_TARGET = "http://127.0.0.1:8080";
+
+export default defineConfig({
+  plugins: [react(), tailwindcss()],
+  build: {
+    outDir: "dist",
+    emptyOutDir: true,
+    // Routes are lazy chunks; a warning above this size means something heavy leaked into
+    // the first load.
+    chunkSizeWarningLimit: 400,
+  },
+  server: {
+    proxy: {
+      "/api": { target: API_TARGET, changeOrigin: false },
+      "/socket.io": { target: API_TARGET, ws: true, changeOrigin: false },
+    },
+  },
+});
