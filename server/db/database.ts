@@ -1,0 +1,40 @@
+/**
+ * The Sequelize connection and the migration runner. Migrations run on every start; umzug
+ * records the applied ones in `SequelizeMeta`, so a second start applies nothing.
+ */
+import { Sequelize } from "sequelize";
+import { Umzug, SequelizeStorage } from "umzug";
+import * as initial from "./migrations/001-initial";
+import { defineModels, type Models } from "./models";
+
+export interface Database {
+  sequelize: Sequelize;
+  models: Models;
+  close(): Promise<void>;
+}
+
+const MIGRATIONS = [{ name: "001-initial", ...initial }];
+
+export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {
+  const sequelize = new Sequelize(url, {
+    dialect: "postgres",
+    logging: false,
+    pool: { max: options.poolMax ?? 10, min: 0, idle: 10_000 },
+    define: { underscored: true, timestamps: false },
+  });
+  await sequelize.authenticate();
+  await migrate(sequelize);
+  const models = defineModels(sequelize);
+  return { sequelize, models, close: () => sequelize.close() };
+}
+
+export async function migrate(sequelize: Sequelize): Promise<string[]> {
+  const umzug = new Umzug({
+    migrations: MIGRATIONS.map((m) => ({ name: m.name, up: m.up, down: m.down })),
+    context: sequelize,
+    storage: new SequelizeStorage({ sequelize }),
+    logger: undefined,
+  });
+  const applied = await umzug.up();
+  return applied.map((m) => m.name);
+}

@@ -1,0 +1,20 @@
+/**
+ * Everything a feature needs, passed as one object (STYLE.md habit 4).
+ */
+import type { AppConfig } from "./config";
+import type { Database } from "./db/database";
+import type { Logger } from "./logger";
+import type { Bus } from "./bus";
+
+export interface BrokerStatus {
+  connected(): boolean;
+}
+
+export interface AppDeps {
+  config: AppConfig;
+  db: Database;
+  logger: Logger;
+  bus: Bus;
+  /** The live pipeline's view of the broker, when one runs; health reports "down" otherwise. */
+  broker?: BrokerStatus;
+}

@@ -1,0 +1,79 @@
+/**
+ * `npm start`: brings up PostgreSQL (embedded unless DATABASE_URL is set), runs migrations,
+ * seeds the demo, serves the API and the built client, and stops it all on Ctrl-C/SIGTERM.
+ */
+import http from "node:http";
+import { Bus } from "./bus";
+import { configFromEnv } from "./config";
+import { createApp } from "./app";
+import { openDatabase, type Database } from "./db/database";
+import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
+import { seedDemo } from "./db/seed/demo";
+import type { AppDeps } from "./deps";
+import { createLogger } from "./logger";
+import { loadOrCreateSecret } from "./secrets";
+
+const SHUTDOWN_GRACE_MS = 5_000;
+
+const logger = createLogger();
+/** Run in reverse order on the way out, whether start-up finished or not. */
+const cleanups: (() => Promise<void> | void)[] = [];
+let shuttingDown = false;
+
+async function shutdown(reason: string, exitCode = 0): Promise<void> {
+  if (shuttingDown) return;
+  shuttingDown = true;
+  logger.info({ reason }, "stopping Blocklight");
+  const timer = setTimeout(() => process.exit(1), SHUTDOWN_GRACE_MS + 30_000);
+  for (const cleanup of cleanups.reverse()) {
+    try {
+      await cleanup();
+    } catch (err) {
+      logger.error({ err }, "error while stopping");
+    }
+  }
+  clearTimeout(timer);
+  process.exit(exitCode);
+}
+
+async function main(): Promise<void> {
+  const startedAt = Date.now();
+  process.on("SIGINT", () => void shutdown("SIGINT"));
+  process.on("SIGTERM", () => void shutdown("SIGTERM"));
+  const config = configFromEnv(process.env, { demo: true });
+  config.sessionSecret ||= loadOrCreateSecret(config.dataDir, "session");
+  config.serverMqttPassword ||= loadOrCreateSecret(config.dataDir, "server-mqtt");
+
+  let pg: EmbeddedPostgres | null = null;
+  let databaseUrl = config.databaseUrl;
+  if (!databaseUrl) {
+    pg = await startEmbeddedPostgres({ dataDir: config.dataDir, port: config.pgPort, log: (m) => logger.info(m) });
+    cleanups.push(() => pg!.stop());
+    databaseUrl = pg.url;
+    logger.info({ port: config.pgPort, dataDir: config.dataDir }, "embedded PostgreSQL is up");
+  }
+  const db: Database = await openDatabase(databaseUrl);
+  cleanups.push(() => db.close());
+
+  const deps: AppDeps = { config, db, logger, bus: new Bus() };
+  if (config.demo) {
+    const seeded = await seedDemo(deps);
+    logger.info(seeded, "demo data ready (Fernmoor Garden Railway Society)");
+  }
+
+  const app = createApp(deps);
+  const server = http.createServer(app);
+  await new Promise<void>((resolve, reject) => {
+    server.once("error", reject);
+    server.listen(config.port, config.host, resolve);
+  });
+  cleanups.push(() => new Promise<void>((resolve) => server.close(() => resolve())));
+  const url = `http://${config.host}:${config.port}`;
+  logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
+  process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);
+}
+
+main().catch((err) => {
+  process.stderr.write(`Blocklight could not start: ${err instanceof Error ? err.message : String(err)}\n`);
+  void shutdown("start-up failed", 1);
+});

@@ -1,0 +1,114 @@
+/**
+ * REST request and response shapes shared by the Express server and the React client
+ * (CONTRACT.md §6 plus the product's own read endpoints). The server validates bodies
+ * with the zod schemas here; the client imports the types.
+ */
+import { z } from "zod";
+import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../layout/schema";
+import type { Rulebook } from "../rulebook/schema";
+import { idSchema } from "../rulebook/schema";
+
+export const ROLES = ["admin", "engineer", "signaller", "maintainer", "viewer"] as const;
+export const roleSchema = z.enum(ROLES);
+export type Role = z.infer<typeof roleSchema>;
+
+/** Every REST error: CONTRACT.md §6. */
+export interface ApiErrorBody {
+  error: { code: string; message: string; details?: unknown };
+}
+
+export const loginBodySchema = z.strictObject({
+  email: z.string().trim().toLowerCase().email().max(200),
+  password: z.string().min(1).max(200),
+});
+export type LoginBody = z.infer<typeof loginBodySchema>;
+
+export interface UserDto {
+  id: number;
+  email: string;
+  name: string;
+  role: Role;
+}
+export interface MeResponse {
+  user: UserDto;
+}
+
+export interface HealthResponse {
+  ok: boolean;
+  db: "up" | "down";
+  broker: "up" | "down";
+}
+
+export const RULEBOOK_STATUSES = ["draft", "proved", "published"] as const;
+export type RulebookStatus = (typeof RULEBOOK_STATUSES)[number];
+
+export interface RulebookVersionSummary {
+  version: number;
+  status: RulebookStatus;
+  /** True for the one version that runs live. */
+  live: boolean;
+  author: string | null;
+  note: string | null;
+  createdAt: string;
+}
+export interface RulebookVersionDetail extends RulebookVersionSummary {
+  rulebook: Rulebook;
+  proof: unknown | null;
+}
+
+export interface LayoutSummary {
+  slug: string;
+  name: string;
+  scale: { name: string; ratio: number };
+  liveVersion: number | null;
+  detectorCount: number;
+  signalCount: number;
+  nodeCount: number;
+}
+export interface LayoutsResponse {
+  layouts: LayoutSummary[];
+}
+
+export interface NodeDto {
+  id: string;
+  name: string;
+  detectors: string[];
+  signals: string[];
+}
+
+export interface LayoutDetail {
+  slug: string;
+  name: string;
+  scale: { name: string; ratio: number };
+  lines: LayoutLine[];
+  detectors: LayoutDetector[];
+  signals: LayoutSignal[];
+  points: LayoutPoints[];
+  nodes: NodeDto[];
+  schematic: Record<string, unknown> | null;
+  versions: RulebookVersionSummary[];
+}
+export interface LayoutResponse {
+  layout: LayoutDetail;
+}
+
+export const createNodeBodySchema = z.strictObject({
+  id: idSchema,
+  name: z.string().min(1).max(120),
+  detectors: z.array(idSchema).default([]),
+  signals: z.array(idSchema).default([]),
+});
+export type CreateNodeBody = z.infer<typeof createNodeBodySchema>;
+export interface CreateNodeResponse {
+  id: string;
+  /** Shown only in this response; stored hashed. */
+  secret: string;
+}
+
+export const saveDraftBodySchema = z.strictObject({
+  rulebook: z.unknown(),
+  note: z.string().max(500).optional(),
+});
+export interface SaveDraftResponse {
+  version: number;
+}
