@@ -1,0 +1,337 @@
+/**
+ * Validation of layout files (CONTRACT.md §3) and rulebooks (§4) with every error listed.
+ *
+ * Two passes: the zod shape check from `schema.ts`, then — only when the shape is sound —
+ * the cross-reference checks that need the whole file (undeclared names, unknown detectors
+ * and signals, aspects a signal cannot show, duplicate ids, node wiring). Every error
+ * carries a JSONPath from the root of the file that was given, e.g.
+ * `$.rulebook.rules[2].do[0].aspect`, so an editor can put the message beside the field.
+ *
+ * @example
+ * const result = validateLayoutFile(JSON.parse(text));
+ * if (!result.ok) for (const e of result.errors) console.log(`${e.path}: ${e.message}`);
+ */
+import type { z } from "zod";
+import { layoutFileSchema, type LayoutFile } from "../layout/schema";
+import { rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
+
+export interface ValidationError {
+  /** JSONPath from the root of the validated file, `$` being the root. */
+  path: string;
+  message: string;
+}
+
+export type LayoutValidation = { ok: true; layout: LayoutFile } | { ok: false; errors: ValidationError[] };
+export type RulebookValidation = { ok: true; rulebook: Rulebook } | { ok: false; errors: ValidationError[] };
+
+/** What a rulebook can be checked against when it belongs to a known layout. */
+export interface RulebookContext {
+  detectors: string[];
+  signals: { id: string; aspects: Aspect[] }[];
+}
+
+type PathSegment = string | number;
+
+const PLAIN_KEY = /^[A-Za-z_$][A-Za-z0-9_$]*$/;
+
+/** `["rules", 2, "do", 0, "aspect"]` → `$.rules[2].do[0].aspect`, starting from `base`. */
+export function toJsonPath(segments: readonly PropertyKey[], base = "$"): string {
+  let path = base;
+  for (const segment of segments) {
+    if (typeof segment === "number") path += `[${segment}]`;
+    else if (typeof segment === "string" && PLAIN_KEY.test(segment)) path += `.${segment}`;
+    else path += `[${JSON.stringify(String(segment))}]`;
+  }
+  return path;
+}
+
+// ---------------------------------------------------------------------------------------
+// Shape errors (zod issues → ValidationError)
+// ---------------------------------------------------------------------------------------
+
+type Issue = z.core.$ZodIssue;
+
+function isRootIssue(issue: Issue): boolean {
+  return issue.path.length === 0;
+}
+
+/** Name of the kind of thing a union sits at, for a readable message when no form fits. */
+function unionSubject(path: readonly PropertyKey[]): string {
+  const last = [...path].reverse().find((segment) => typeof segment === "string");
+  if (last === "on") return "a trigger: \"standing\", { pass } or { quiet, ms }";
+  if (last === "do") return "an action: set, clear, add, zero, select, show or alarm";
+  return "a condition: latch, count, selector, aspect, not, all or any";
+}
+
+function collectIssues(issues: readonly Issue[], prefix: readonly PropertyKey[], out: ValidationError[]): void {
+  for (const issue of issues) {
+    const path = [...prefix, ...issue.path];
+    if (issue.code === "invalid_union" && "errors" in issue && Array.isArray(issue.errors) && issue.errors.length > 0) {
+      // Conditions, actions and triggers are unions keyed by which fields are present. Report
+      // the errors of the form the author evidently meant: the branch whose own keys fit.
+      let best: readonly Issue[] | undefined;
+      let bestScore = Number.POSITIVE_INFINITY;
+      for (const branch of issue.errors as Issue[][]) {
+        const score = branch.filter(isRootIssue).length * 1000 + branch.length;
+        if (score < bestScore) {
+          best = branch;
+          bestScore = score;
+        }
+      }
+      if (best && !best.some(isRootIssue)) {
+        collectIssues(best, path, out);
+      } else {
+        out.push({ path: toJsonPath(path), message: `is not ${unionSubject(path)}` });
+      }
+      continue;
+    }
+    if (issue.code === "unrecognized_keys") {
+      for (const key of issue.keys) out.push({ path: toJsonPath([...path, key]), message: "is not a known field" });
+      continue;
+    }
+    out.push({ path: toJsonPath(path), message: issue.message });
+  }
+}
+
+function shapeErrors(error: z.ZodError, prefix: readonly PropertyKey[] = []): ValidationError[] {
+  const out: ValidationError[] = [];
+  collectIssues(error.issues, prefix, out);
+  return out;
+}
+
+// ---------------------------------------------------------------------------------------
+// Semantic checks
+// ---------------------------------------------------------------------------------------
+
+function duplicates<T extends { id: string }>(
+  items: readonly T[],
+  base: string,
+  what: string,
+  errors: ValidationError[],
+): Set<string> {
+  const seen = new Set<string>();
+  items.forEach((item, index) => {
+    if (seen.has(item.id)) {
+      errors.push({ path: `${base}[${index}].id`, message: `duplicate ${what} id "${item.id}"` });
+    }
+    seen.add(item.id);
+  });
+  return seen;
+}
+
+/** Every signal a rulebook mentions, in order of first mention. */
+function signalsMentioned(rulebook: Rulebook): Set<string> {
+  const found = new Set<string>(Object.keys(rulebook.initial));
+  const visit = (condition: Condition | undefined): void => {
+    if (!condition) return;
+    if ("aspect" in condition) found.add(condition.aspect);
+    else if ("not" in condition) visit(condition.not);
+    else if ("all" in condition) condition.all.forEach(visit);
+    else if ("any" in condition) condition.any.forEach(visit);
+  };
+  for (const rule of rulebook.rules) {
+    visit(rule.if);
+    for (const action of rule.do) if ("show" in action) found.add(action.show);
+  }
+  return found;
+}
+
+function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContext | undefined, errors: ValidationError[]): void {
+  const latches = new Set(Object.keys(rulebook.latches));
+  const counters = new Set(Object.keys(rulebook.counters));
+  const selectors = rulebook.selectors;
+  const detectors = context ? new Set(context.detectors) : undefined;
+  const aspectsOf = new Map<string, Set<Aspect>>();
+  if (context) for (const signal of context.signals) aspectsOf.set(signal.id, new Set(signal.aspects));
+  const signals = context ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook);
+
+  const checkSignal = (signal: string, path: string): boolean => {
+    if (signals.has(signal)) return true;
+    errors.push({ path, message: `unknown signal "${signal}"` });
+    return false;
+  };
+  const checkAspect = (signal: string, aspect: Aspect, path: string): void => {
+    const allowed = aspectsOf.get(signal);
+    if (allowed && !allowed.has(aspect)) {
+      errors.push({ path, message: `signal "${signal}" cannot show ${aspect} (it shows ${[...allowed].join(", ")})` });
+    }
+  };
+  const checkSelectorValue = (selector: string, value: string, path: string): void => {
+    const declared = selectors[selector];
+    if (declared && !declared.values.includes(value)) {
+      errors.push({ path, message: `"${value}" is not a value of selector "${selector}" (${declared.values.join(", ")})` });
+    }
+  };
+  const checkDetector = (detector: string, path: string): void => {
+    if (detectors && !detectors.has(detector)) errors.push({ path, message: `unknown detector "${detector}"` });
+  };
+
+  for (const [name, selector] of Object.entries(selectors)) {
+    const path = `${base}.selectors${toJsonPath([name], "")}`;
+    if (!selector.values.includes(selector.initial)) {
+      errors.push({ path: `${path}.initial`, message: `"${selector.initial}" is not one of this selector's values` });
+    }
+    const seen = new Set<string>();
+    selector.values.forEach((value, index) => {
+      if (seen.has(value)) errors.push({ path: `${path}.values[${index}]`, message: `duplicate value "${value}"` });
+      seen.add(value);
+    });
+  }
+
+  for (const [signal, aspect] of Object.entries(rulebook.initial)) {
+    const path = `${base}.initial${toJsonPath([signal], "")}`;
+    if (checkSignal(signal, path)) checkAspect(signal, aspect, path);
+  }
+
+  const checkCondition = (condition: Condition, path: string): void => {
+    if ("latch" in condition) {
+      if (!latches.has(condition.latch)) errors.push({ path: `${path}.latch`, message: `undeclared latch "${condition.latch}"` });
+    } else if ("count" in condition) {
+      if (!counters.has(condition.count)) errors.push({ path: `${path}.count`, message: `undeclared counter "${condition.count}"` });
+    } else if ("selector" in condition) {
+      if (!(condition.selector in selectors)) {
+        errors.push({ path: `${path}.selector`, message: `undeclared selector "${condition.selector}"` });
+      } else checkSelectorValue(condition.selector, condition.is, `${path}.is`);
+    } else if ("aspect" in condition) {
+      if (checkSignal(condition.aspect, `${path}.aspect`)) checkAspect(condition.aspect, condition.is, `${path}.is`);
+    } else if ("not" in condition) {
+      checkCondition(condition.not, `${path}.not`);
+    } else if ("all" in condition) {
+      condition.all.forEach((inner, index) => checkCondition(inner, `${path}.all[${index}]`));
+    } else {
+      condition.any.forEach((inner, index) => checkCondition(inner, `${path}.any[${index}]`));
+    }
+  };
+
+  const ruleIds = new Set<string>();
+  rulebook.rules.forEach((rule, ruleIndex) => {
+    const rulePath = `${base}.rules[${ruleIndex}]`;
+    if (ruleIds.has(rule.id)) errors.push({ path: `${rulePath}.id`, message: `duplicate rule id "${rule.id}"` });
+    ruleIds.add(rule.id);
+    if (rule.on !== "standing") {
+      if ("pass" in rule.on) checkDetector(rule.on.pass, `${rulePath}.on.pass`);
+      else checkDetector(rule.on.quiet, `${rulePath}.on.quiet`);
+    }
+    if (rule.if) checkCondition(rule.if, `${rulePath}.if`);
+    rule.do.forEach((action, actionIndex) => {
+      const path = `${rulePath}.do[${actionIndex}]`;
+      if ("set" in action) {
+        if (!latches.has(action.set)) errors.push({ path: `${path}.set`, message: `undeclared latch "${action.set}"` });
+      } else if ("clear" in action) {
+        if (!latches.has(action.clear)) errors.push({ path: `${path}.clear`, message: `undeclared latch "${action.clear}"` });
+      } else if ("add" in action) {
+        if (!counters.has(action.add)) errors.push({ path: `${path}.add`, message: `undeclared counter "${action.add}"` });
+      } else if ("zero" in action) {
+        if (!counters.has(action.zero)) errors.push({ path: `${path}.zero`, message: `undeclared counter "${action.zero}"` });
+      } else if ("select" in action) {
+        if (!(action.select in selectors)) {
+          errors.push({ path: `${path}.select`, message: `undeclared selector "${action.select}"` });
+        } else checkSelectorValue(action.select, action.value, `${path}.value`);
+      } else if ("show" in action) {
+        if (checkSignal(action.show, `${path}.show`)) checkAspect(action.show, action.aspect, `${path}.aspect`);
+      } else if (rule.on === "standing") {
+        errors.push({ path: `${path}.alarm`, message: "a standing rule cannot raise an alarm (it would repeat on every settle)" });
+      }
+    });
+  });
+
+  const proving = rulebook.proving;
+  if (proving) {
+    const provingPath = `${base}.proving`;
+    const routeIds = duplicates(proving.routes, `${provingPath}.routes`, "route", errors);
+    proving.routes.forEach((route, index) => {
+      const path = `${provingPath}.routes[${index}]`;
+      checkSignal(route.signal, `${path}.signal`);
+      route.approach.forEach((detector, i) => checkDetector(detector, `${path}.approach[${i}]`));
+      checkDetector(route.entry, `${path}.entry`);
+      route.exit.forEach((detector, i) => checkDetector(detector, `${path}.exit[${i}]`));
+    });
+    proving.conflicts.forEach((pair, index) => {
+      pair.forEach((route, side) => {
+        if (!routeIds.has(route)) {
+          errors.push({ path: `${provingPath}.conflicts[${index}][${side}]`, message: `unknown route "${route}"` });
+        }
+      });
+    });
+    if (proving.priority !== undefined && !routeIds.has(proving.priority)) {
+      errors.push({ path: `${provingPath}.priority`, message: `unknown route "${proving.priority}"` });
+    }
+  }
+}
+
+function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
+  const lines = duplicates(layout.lines, "$.lines", "line", errors);
+  const detectors = duplicates(layout.detectors, "$.detectors", "detector", errors);
+  const signals = duplicates(layout.signals, "$.signals", "signal", errors);
+  duplicates(layout.points, "$.points", "points", errors);
+  duplicates(layout.nodes, "$.nodes", "node", errors);
+
+  const onLine = (items: readonly { line: string }[], base: string): void => {
+    items.forEach((item, index) => {
+      if (!lines.has(item.line)) errors.push({ path: `${base}[${index}].line`, message: `unknown line "${item.line}"` });
+    });
+  };
+  onLine(layout.detectors, "$.detectors");
+  onLine(layout.signals, "$.signals");
+  onLine(layout.points, "$.points");
+
+  layout.signals.forEach((signal, index) => {
+    if (!signal.aspects.includes("danger")) {
+      errors.push({ path: `$.signals[${index}].aspects`, message: `signal "${signal.id}" must be able to show danger` });
+    }
+  });
+
+  const servedBy = new Map<string, string>();
+  layout.nodes.forEach((node, nodeIndex) => {
+    node.detectors.forEach((detector, index) => {
+      const path = `$.nodes[${nodeIndex}].detectors[${index}]`;
+      if (!detectors.has(detector)) errors.push({ path, message: `unknown detector "${detector}"` });
+      const other = servedBy.get(detector);
+      if (other !== undefined && other !== node.id) {
+        errors.push({ path, message: `detector "${detector}" is already served by node "${other}"` });
+      } else if (other === node.id) {
+        errors.push({ path, message: `detector "${detector}" is listed twice` });
+      }
+      servedBy.set(detector, node.id);
+    });
+    node.signals.forEach((signal, index) => {
+      if (!signals.has(signal)) errors.push({ path: `$.nodes[${nodeIndex}].signals[${index}]`, message: `unknown signal "${signal}"` });
+    });
+  });
+
+  checkRulebook(
+    layout.rulebook,
+    "$.rulebook",
+    {
+      detectors: layout.detectors.map((detector) => detector.id),
+      signals: layout.signals.map((signal) => ({ id: signal.id, aspects: signal.aspects })),
+    },
+    errors,
+  );
+}
+
+/**
+ * Checks a layout file (`blocklight.layout/1`, rulebook included) and lists every error.
+ * Shape errors come first and, when there are any, alone: cross-references are only
+ * checked once the shape is sound.
+ */
+export function validateLayoutFile(input: unknown): LayoutValidation {
+  const parsed = layoutFileSchema.safeParse(input);
+  if (!parsed.success) return { ok: false, errors: shapeErrors(parsed.error) };
+  const errors: ValidationError[] = [];
+  checkLayout(parsed.data, errors);
+  return errors.length > 0 ? { ok: false, errors } : { ok: true, layout: parsed.data };
+}
+
+/**
+ * Checks a rulebook file (`blocklight.rulebook/1`) on its own or against a layout's detectors
+ * and signals. Without a context the known signals are those the rulebook itself mentions
+ * (initial aspects, show actions, aspect conditions) and aspect lists are not checked.
+ */
+export function validateRulebookFile(input: unknown, context?: RulebookContext): RulebookValidation {
+  const parsed = rulebookSchema.safeParse(input);
+  if (!parsed.success) return { ok: false, errors: shapeErrors(parsed.error) };
+  const errors: ValidationError[] = [];
+  checkRulebook(parsed.data, "$", context, errors);
+  return errors.length > 0 ? { ok: false, errors } : { ok: true, rulebook: parsed.data };
+}
