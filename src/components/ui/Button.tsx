@@ -1,4 +1,4 @@
-import type { ButtonHTMLAttributes } from "react";
+import type { ButtonHTMLAttributes, Ref } from "react";
 
 type Tone = "primary" | "plain" | "danger";
 
@@ -10,6 +10,7 @@ const TONES: Record<Tone, string> = {
 
 interface ButtonProps extends ButtonHTMLAttributes<HTMLButtonElement> {
   tone?: Tone;
+  ref?: Ref<HTMLButtonElement>;
 }
 
 export function Button({ tone = "plain", className = "", type = "button", ...rest }: ButtonProps) {

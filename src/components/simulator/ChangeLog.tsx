@@ -1,0 +1,53 @@
+import { useEffect, useRef } from "react";
+import { changeCause, describeChange, type SimEntry } from "../../lib/simulation";
+
+interface ChangeLogProps {
+  history: SimEntry[];
+  cursor: number;
+  onGoto: (index: number) => void;
+}
+
+/** Every input with each change it made and the rule (or command) that made it. */
+export function ChangeLog({ history, cursor, onGoto }: ChangeLogProps) {
+  const currentRef = useRef<HTMLLIElement>(null);
+  useEffect(() => {
+    currentRef.current?.scrollIntoView?.({ block: "nearest" });
+  }, [cursor]);
+
+  return (
+    <ol className="max-h-[32rem] space-y-2 overflow-y-auto pr-1" aria-label="Change log">
+      {history.map((entry, index) => {
+        const isCurrent = index === cursor;
+        const isFuture = index > cursor;
+        return (
+          <li
+            key={index}
+            ref={isCurrent ? currentRef : undefined}
+            aria-current={isCurrent ? "step" : undefined}
+            className={`rounded-md border p-2 text-sm ${isCurrent ? "border-brass bg-panel-800" : "border-panel-700 bg-panel-950"} ${isFuture ? "opacity-50" : ""}`}
+          >
+            <button type="button" onClick={() => onGoto(index)} className="w-full text-left font-semibold hover:text-brass">
+              <span className="mr-2 text-ink-faint">{index}.</span>
+              {entry.label}
+            </button>
+            {entry.violates && entry.violates.length > 0 ? (
+              <p className="mt-1 text-xs font-bold text-aspect-danger">Breaks: {entry.violates.join(", ")}</p>
+            ) : null}
+            {entry.changes.length === 0 ? (
+              <p className="mt-1 text-xs text-ink-faint">No change.</p>
+            ) : (
+              <ul className="mt-1 space-y-0.5">
+                {entry.changes.map((change, i) => (
+                  <li key={i} className="flex flex-wrap gap-x-2 text-xs">
+                    <span className={change.kind === "alarm" || change.kind === "fault" ? "text-aspect-danger" : "text-ink"}>{describeChange(change)}</span>
+                    <span className="text-brass">← {changeCause(change)}</span>
+                  </li>
+                ))}
+              </ul>
+            )}
+          </li>
+        );
+      })}
+    </ol>
+  );
+}
