@@ -7,11 +7,10 @@ describe("migrations", () => {
   it("build the whole schema on an empty database and apply nothing the second time", async () => {
     const db = await openDatabase(await createTestDatabase());
     try {
-      const tables = await db.sequelize.query<{ table_name: string }>(
-        "SELECT table_name FROM information_schema.tables WHERE table_schema = 'public'",
-        { type: QueryTypes.SELECT },
-      );
-      const names = tables.map((t) => t.table_name);
+      const tables = await db.sequelize.query<{ tablename: string }>("SELECT tablename FROM pg_tables WHERE schemaname = 'public'", {
+        type: QueryTypes.SELECT,
+      });
+      const names = tables.map((t) => t.tablename);
       for (const table of ["users", "layouts", "lines", "detectors", "signals", "points", "nodes", "rulebook_versions", "sessions", "events", "changes", "alarms", "audit_entries", "display_links", "invitations", "mail_outbox", "snapshots"]) {
         expect(names).toContain(table);
       }
