@@ -1,0 +1,225 @@
+/**
+ * `npm start` (after `vite build`): brings up the whole of Blocklight on one machine.
+ *
+ * 1. PostgreSQL: embedded unless DATABASE_URL is set; the launcher owns it and stops it last.
+ * 2. Migrations and (DEMO on) the Fernmoor demo data and the demo boards' secrets, once,
+ *    so every child finds a ready database.
+ * 3. Child processes, each `node --import tsx <file>` with DATABASE_URL set:
+ *    the broker (unless MQTT_URL is set), the server, and with DEMO on the fake layout
+ *    playing a day at Kestrel Bank once the server answers /api/health; with DEV=1 also
+ *    the Vite dev server. A child that dies unexpectedly is restarted.
+ * Ctrl-C / SIGTERM stops the children (SIGTERM, then SIGKILL after a grace) and then
+ * PostgreSQL. `server/index.ts` still runs on its own; the two agree only through env.
+ */
+import fs from "node:fs";
+import net from "node:net";
+import path from "node:path";
+import { fileURLToPath } from "node:url";
+import { Bus } from "./bus";
+import { configFromEnv, type AppConfig } from "./config";
+import { openDatabase } from "./db/database";
+import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
+import { DEMO_PASSWORD, demoEmail, issueDemoNodeSecrets, seedDemo } from "./db/seed/demo";
+import { createLogger } from "./logger";
+import { loadOrCreateSecret } from "./secrets";
+import { SupervisedChild } from "./supervisor";
+
+const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
+const HEALTH_TIMEOUT_MS = 120_000;
+const HEALTH_POLL_MS = 250;
+const BROKER_TIMEOUT_MS = 30_000;
+const DEMO_LAYOUT = "kestrel-bank";
+const DEMO_SCENARIO = "broker/fakeLayout/scenarios/kestrel-bank-day.json";
+const VITE_PORT = 5173;
+
+const launchedAt = Date.now();
+const elapsed = () => `${((Date.now() - launchedAt) / 1000).toFixed(1)} s`;
+const say = (line: string) => process.stdout.write(`[launcher]    ${line}  (+${elapsed()})\n`);
+const children: SupervisedChild[] = [];
+let pg: EmbeddedPostgres | null = null;
+let shuttingDown = false;
+
+async function shutdown(reason: string, exitCode = 0): Promise<never> {
+  if (shuttingDown) return new Promise<never>(() => {});
+  shuttingDown = true;
+  say(`stopping (${reason})`);
+  for (const child of children) child.markStopping();
+  // Reverse start order: the fake layout and the server before the broker they talk to.
+  for (const child of [...children].reverse()) {
+    try {
+      await child.stop();
+    } catch (err) {
+      say(`error while stopping a child: ${String(err)}`);
+    }
+  }
+  if (pg) {
+    try {
+      pg.stop();
+      say("PostgreSQL stopped");
+    } catch (err) {
+      say(`error while stopping PostgreSQL: ${String(err)}`);
+      exitCode = 1;
+    }
+  }
+  process.exit(exitCode);
+}
+
+function childEnv(config: AppConfig, databaseUrl: string, extra: NodeJS.ProcessEnv = {}): NodeJS.ProcessEnv {
+  return { ...process.env, DATA_DIR: config.dataDir, DATABASE_URL: databaseUrl, ...extra };
+}
+
+function supervise(name: string, args: string[], env: NodeJS.ProcessEnv): SupervisedChild {
+  const child = new SupervisedChild({
+    name,
+    args,
+    env,
+    cwd: ROOT,
+    log: say,
+    prefixWidth: 11,
+    onGiveUp: (who) => void shutdown(`${who} keeps failing`, 1),
+  });
+  children.push(child);
+  child.start();
+  return child;
+}
+
+const nodeFile = (file: string, ...args: string[]) => ["--import", "tsx", path.join(ROOT, file), ...args];
+
+function waitForPort(host: string, port: number, timeoutMs: number): Promise<boolean> {
+  const deadline = Date.now() + timeoutMs;
+  return new Promise((resolve) => {
+    const attempt = () => {
+      const socket = net.connect({ host, port });
+      socket.once("connect", () => {
+        socket.destroy();
+        resolve(true);
+      });
+      socket.once("error", () => {
+        socket.destroy();
+        if (shuttingDown || Date.now() > deadline) resolve(false);
+        else setTimeout(attempt, HEALTH_POLL_MS);
+      });
+    };
+    attempt();
+  });
+}
+
+/** Healthy enough to use: the server answers and its database is up (the broker may lag). */
+async function waitForHealth(baseUrl: string, timeoutMs: number): Promise<boolean> {
+  const deadline = Date.now() + timeoutMs;
+  while (!shuttingDown && Date.now() < deadline) {
+    try {
+      const res = await fetch(`${baseUrl}/api/health`, { signal: AbortSignal.timeout(2_000) });
+      const body = (await res.json()) as { db?: string };
+      if (body.db === "up") return true;
+    } catch {
+      /* not listening yet */
+    }
+    await new Promise((resolve) => setTimeout(resolve, HEALTH_POLL_MS));
+  }
+  return false;
+}
+
+async function prepareDatabase(config: AppConfig): Promise<string> {
+  let databaseUrl = config.databaseUrl;
+  if (!databaseUrl) {
+    pg = await startEmbeddedPostgres({ dataDir: config.dataDir, port: config.pgPort, log: say });
+    databaseUrl = pg.url;
+    say(`embedded PostgreSQL is up on 127.0.0.1:${config.pgPort} (cluster in ${path.join(config.dataDir, "pg")})`);
+  }
+  const db = await openDatabase(databaseUrl, { poolMax: 2 });
+  say("database migrated");
+  try {
+    if (config.demo) {
+      const deps = { config, db, logger: createLogger(process.env.LOG_LEVEL ?? "warn"), bus: new Bus() };
+      const seeded = await seedDemo(deps);
+      const secrets = await issueDemoNodeSecrets(deps);
+      const added = seeded.layoutsAdded.length ? `; layouts added: ${seeded.layoutsAdded.join(", ")}` : "";
+      const issued = Object.entries(secrets.issued).map(([slug, nodes]) => `${slug} (${nodes.join(", ")})`);
+      say(`demo data ready (Fernmoor Garden Railway Society${added})`);
+      if (issued.length) say(`demo board secrets issued for ${issued.join("; ")} → ${path.join(config.dataDir, "secrets", "nodes")}`);
+    }
+  } finally {
+    await db.close();
+  }
+  return databaseUrl;
+}
+
+async function main(): Promise<void> {
+  const startedAt = Date.now();
+  process.on("SIGINT", () => void shutdown("SIGINT"));
+  process.on("SIGTERM", () => void shutdown("SIGTERM"));
+  process.on("uncaughtException", (err) => {
+    say(`unexpected error: ${err.stack ?? err.message}`);
+    void shutdown("unexpected error", 1);
+  });
+
+  const config = configFromEnv(process.env, { demo: true });
+  const dev = process.env.DEV === "1";
+  // Made here, before any child runs, so the server and the broker read the same files
+  // instead of racing to create them.
+  fs.mkdirSync(config.dataDir, { recursive: true });
+  loadOrCreateSecret(config.dataDir, "session");
+  loadOrCreateSecret(config.dataDir, "server-mqtt");
+
+  const databaseUrl = await prepareDatabase(config);
+  if (shuttingDown) return;
+  const env = childEnv(config, databaseUrl);
+
+  const mqttUrl = config.mqttUrl ?? `mqtt://127.0.0.1:${config.mqttPort}`;
+  // Broker and server start side by side: the server's MQTT client retries until the
+  // broker listens, and loading each child (tsx) is most of the start-up time.
+  if (config.mqttUrl) {
+    say(`using the external broker at ${config.mqttUrl}`);
+  } else if (fs.existsSync(path.join(ROOT, "broker/index.ts"))) {
+    say(`starting the broker on port ${config.mqttPort}`);
+    supervise("broker", nodeFile("broker/index.ts"), env);
+  } else {
+    say("broker/index.ts is missing: starting without a broker (live control needs one)");
+  }
+  say("starting the server");
+  supervise("server", nodeFile("server/index.ts"), env);
+  if (dev) {
+    supervise("vite", [path.join(ROOT, "node_modules/vite/bin/vite.js"), "--port", String(VITE_PORT), "--strictPort"], env);
+  }
+
+  const host = config.host === "0.0.0.0" || config.host === "::" ? "127.0.0.1" : config.host;
+  const baseUrl = `http://${host}:${config.port}`;
+  if (!(await waitForHealth(baseUrl, HEALTH_TIMEOUT_MS))) {
+    if (!shuttingDown) await shutdown(`the server did not answer ${baseUrl}/api/health within ${HEALTH_TIMEOUT_MS / 1000} s`, 1);
+    return;
+  }
+
+  if (config.demo) {
+    const broker = new URL(mqttUrl);
+    if (!(await waitForPort(broker.hostname, Number(broker.port || 1883), BROKER_TIMEOUT_MS)) && !shuttingDown) {
+      say(`the broker at ${mqttUrl} is not answering yet; the fake layout will keep trying`);
+    }
+    supervise(
+      "fake-layout",
+      nodeFile("broker/fakeLayout/cli.ts", "--layout", DEMO_LAYOUT, "--scenario", path.join(ROOT, DEMO_SCENARIO), "--speed", "1", "--loop", "--broker", mqttUrl),
+      env,
+    );
+  }
+
+  const seconds = ((Date.now() - startedAt) / 1000).toFixed(1);
+  const url = dev ? `http://127.0.0.1:${VITE_PORT}` : baseUrl;
+  const lines = [
+    "",
+    `Blocklight is running at ${url}  (started in ${seconds} s; Ctrl-C stops it)`,
+    ...(config.demo
+      ? [
+          `Demo accounts: ${demoEmail("admin")}, ${demoEmail("engineer")}, ${demoEmail("signaller")}, ${demoEmail("maintainer")}, ${demoEmail("viewer")}`,
+          `  password "${DEMO_PASSWORD}" (demo only: change it, or run with DEMO=off). The fake layout is running trains at Kestrel Bank.`,
+        ]
+      : []),
+    "Blocklight is an operating aid, not a certified interlocking: keep independent protection on passenger-carrying lines.",
+    "",
+  ];
+  process.stdout.write(lines.join("\n") + "\n");
+}
+
+main().catch((err: unknown) => {
+  say(`could not start: ${err instanceof Error ? err.message : String(err)}`);
+  void shutdown("start-up failed", 1);
+});
