@@ -23,6 +23,7 @@
  * - **Out-of-order input**: the clock never goes back (max). A quiet trigger armed by a pulse
  *   whose `at` is earlier than the clock gets deadline `at + ms` as written; if that is already
  *   past, it fires at the start of the next input.
+ * - **Commands** fire due quiet triggers first, like every other input (§4 step 1).
  * - **"Would change the state"** (settle) is judged on the rule's net effect on latches,
  *   counters, selectors and wanted aspects. A standing rule whose only effect would be a
  *   counter held at 0 by the floor does not run (and so raises no underflow alarm).
