@@ -112,3 +112,18 @@ export const saveDraftBodySchema = z.strictObject({
 export interface SaveDraftResponse {
   version: number;
 }
+
+/** Reply to `POST /api/layouts/import` (201). */
+export interface ImportLayoutResponse {
+  slug: string;
+}
+
+/** Reply to `GET /api/layouts/:slug/rulebooks/:version`. */
+export interface RulebookVersionResponse {
+  version: RulebookVersionDetail;
+}
+
+/** Reply to `POST /api/layouts/:slug/rulebooks/:version/publish`: the version now live. */
+export interface PublishResponse {
+  version: number;
+}

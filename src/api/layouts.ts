@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
+import type { ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
 import { http } from "./http";
 
 export const layoutKeys = {
@@ -23,11 +23,6 @@ export function useLayout(slug: string | undefined) {
     select: (body) => body.layout,
     enabled: Boolean(slug),
   });
-}
-
-/** Reply to a successful import (CONTRACT.md §6). */
-export interface ImportLayoutResponse {
-  slug: string;
 }
 
 /** Sends a layout file (already parsed from JSON; the server validates it). */

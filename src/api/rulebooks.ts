@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { RulebookVersionDetail, SaveDraftResponse } from "../../shared/contract/rest";
+import type { PublishResponse, RulebookVersionResponse, SaveDraftResponse } from "../../shared/contract/rest";
 import { http } from "./http";
 import { layoutKeys } from "./layouts";
 
@@ -7,10 +7,6 @@ export const rulebookKeys = {
   all: (slug: string) => ["rulebooks", slug] as const,
   version: (slug: string, version: number) => [...rulebookKeys.all(slug), version] as const,
 };
-
-export interface RulebookVersionResponse {
-  version: RulebookVersionDetail;
-}
 
 function base(slug: string): string {
   return `/api/layouts/${encodeURIComponent(slug)}/rulebooks`;
@@ -46,7 +42,7 @@ export function useSaveDraftMutation(slug: string) {
 export function usePublishMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (version: number) => http.post<{ version: unknown }>(`${base(slug)}/${version}/publish`),
+    mutationFn: (version: number) => http.post<PublishResponse>(`${base(slug)}/${version}/publish`),
     onSuccess: async () => {
       await Promise.all([
         queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
