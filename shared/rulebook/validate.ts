@@ -12,8 +12,8 @@
  * if (!result.ok) for (const e of result.errors) console.log(`${e.path}: ${e.message}`);
  */
 import type { z } from "zod";
-import { layoutFileSchema, type LayoutFile } from "../layout/schema";
-import { rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
+import { LAYOUT_FORMAT, layoutFileSchema, type LayoutFile } from "../layout/schema";
+import { ID_PATTERN, RULEBOOK_FORMAT, rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
 
 export interface ValidationError {
   /** JSONPath from the root of the validated file, `$` being the root. */
@@ -29,8 +29,6 @@ export interface RulebookContext {
   detectors: string[];
   signals: { id: string; aspects: Aspect[] }[];
 }
-
-type PathSegment = string | number;
 
 const PLAIN_KEY = /^[A-Za-z_$][A-Za-z0-9_$]*$/;
 
@@ -97,6 +95,103 @@ function shapeErrors(error: z.ZodError, prefix: readonly PropertyKey[] = []): Va
   const out: ValidationError[] = [];
   collectIssues(error.issues, prefix, out);
   return out;
+}
+
+// ---------------------------------------------------------------------------------------
+// Salvage: cross-reference checks on a file that also has shape errors
+// ---------------------------------------------------------------------------------------
+
+/**
+ * How to stand in for a malformed part. Keys are paths with `*` for an array index. An
+ * element placeholder keeps the original's `id` and `line` when those are well formed (so
+ * references to it still resolve) and otherwise takes a marked id that errors are then
+ * filtered on.
+ */
+type Placeholder = (index: number, original: unknown) => unknown;
+const SALVAGE_MARK = "__salvaged_";
+const keptOr = (original: unknown, field: string, fallback: string): string => {
+  const value = typeof original === "object" && original !== null ? (original as Record<string, unknown>)[field] : undefined;
+  return typeof value === "string" && ID_PATTERN.test(value) ? value : fallback;
+};
+const idOf = (index: number, original: unknown) => keptOr(original, "id", `${SALVAGE_MARK}${index}`);
+const lineOf = (original: unknown) => keptOr(original, "line", `${SALVAGE_MARK}line`);
+
+const RULEBOOK_PLACEHOLDERS: Record<string, Placeholder> = {
+  format: () => RULEBOOK_FORMAT,
+  "rules.*": (i, original) => ({ id: idOf(i, original), on: "standing", do: [] }),
+  rules: () => [],
+  latches: () => ({}),
+  counters: () => ({}),
+  selectors: () => ({}),
+  initial: () => ({}),
+  proving: () => undefined,
+};
+const LAYOUT_PLACEHOLDERS: Record<string, Placeholder> = {
+  format: () => LAYOUT_FORMAT,
+  slug: () => "placeholder",
+  name: () => "placeholder",
+  scale: () => ({ name: "placeholder", ratio: 1 }),
+  schematic: () => undefined,
+  lines: () => [{ id: `${SALVAGE_MARK}line`, name: "placeholder" }],
+  "lines.*": (i, original) => ({ id: idOf(i, original), name: "placeholder" }),
+  "detectors.*": (i, original) => ({ id: idOf(i, original), name: "placeholder", line: lineOf(original), at: 0 }),
+  "signals.*": (i, original) => ({ id: idOf(i, original), name: "placeholder", line: lineOf(original), at: 0, aspects: ["danger", "caution", "clear"] }),
+  "points.*": (i, original) => ({ id: idOf(i, original), name: "placeholder", line: lineOf(original), at: 0 }),
+  "nodes.*": (i, original) => ({ id: idOf(i, original), name: "placeholder", detectors: [], signals: [] }),
+  detectors: () => [],
+  signals: () => [],
+  points: () => [],
+  nodes: () => [],
+  rulebook: () => ({ format: RULEBOOK_FORMAT, rules: [] }),
+  ...Object.fromEntries(Object.entries(RULEBOOK_PLACEHOLDERS).map(([key, value]) => [`rulebook.${key}`, value])),
+};
+
+/**
+ * Replaces every malformed part named by the zod issues with a placeholder, choosing the
+ * deepest part the table knows how to stand in for, and parses again. Returns null when
+ * some issue sits where no placeholder fits (then only the shape errors are reported).
+ */
+function salvage<T>(input: unknown, error: z.ZodError, table: Record<string, Placeholder>, schema: z.ZodType<T>): T | null {
+  if (typeof input !== "object" || input === null || Array.isArray(input)) return null;
+  const copy = structuredClone(input) as Record<string, unknown>;
+  for (const issue of error.issues) {
+    if (!replaceDeepestKnownPart(copy, issue.path, table)) return null;
+  }
+  const again = schema.safeParse(copy);
+  return again.success ? again.data : null;
+}
+
+function replaceDeepestKnownPart(root: Record<string, unknown>, path: readonly PropertyKey[], table: Record<string, Placeholder>): boolean {
+  for (let length = path.length; length >= 1; length--) {
+    const prefix = path.slice(0, length);
+    const key = prefix.map((segment) => (typeof segment === "number" ? "*" : String(segment))).join(".");
+    const placeholder = table[key];
+    if (!placeholder) continue;
+    let parent: unknown = root;
+    for (const segment of prefix.slice(0, -1)) {
+      if (typeof parent !== "object" || parent === null) return false;
+      parent = (parent as Record<PropertyKey, unknown>)[segment as string];
+    }
+    if (typeof parent !== "object" || parent === null) return false;
+    const last = prefix[prefix.length - 1];
+    const value = placeholder(typeof last === "number" ? last : 0, (parent as Record<PropertyKey, unknown>)[last as string]);
+    if (value === undefined) delete (parent as Record<PropertyKey, unknown>)[last as string];
+    else (parent as Record<PropertyKey, unknown>)[last as string] = value;
+    return true;
+  }
+  return false;
+}
+
+/** Cross-reference errors of a salvaged file, minus anything about the placeholders or already reported. */
+function crossReferenceErrorsOf<T>(salvaged: T, check: (value: T, out: ValidationError[]) => void, shape: readonly ValidationError[]): ValidationError[] {
+  const found: ValidationError[] = [];
+  check(salvaged, found);
+  const shapePaths = shape.map((e) => e.path);
+  return found.filter(
+    (e) =>
+      !e.message.includes(SALVAGE_MARK) &&
+      !shapePaths.some((p) => e.path === p || e.path.startsWith(p + ".") || e.path.startsWith(p + "[")),
+  );
 }
 
 // ---------------------------------------------------------------------------------------
@@ -312,12 +407,18 @@ function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
 
 /**
  * Checks a layout file (`blocklight.layout/1`, rulebook included) and lists every error.
- * Shape errors come first and, when there are any, alone: cross-references are only
- * checked once the shape is sound.
+ * Shape errors come first; cross-references are then checked on a salvaged copy in which
+ * each malformed element is replaced by a harmless placeholder (see `salvage`), so one
+ * upload lists every mistake rather than the first kind only.
  */
 export function validateLayoutFile(input: unknown): LayoutValidation {
   const parsed = layoutFileSchema.safeParse(input);
-  if (!parsed.success) return { ok: false, errors: shapeErrors(parsed.error) };
+  if (!parsed.success) {
+    const errors = shapeErrors(parsed.error);
+    const salvaged = salvage(input, parsed.error, LAYOUT_PLACEHOLDERS, layoutFileSchema);
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (file, out) => checkLayout(file, out), errors));
+    return { ok: false, errors };
+  }
   const errors: ValidationError[] = [];
   checkLayout(parsed.data, errors);
   return errors.length > 0 ? { ok: false, errors } : { ok: true, layout: parsed.data };
@@ -330,7 +431,12 @@ export function validateLayoutFile(input: unknown): LayoutValidation {
  */
 export function validateRulebookFile(input: unknown, context?: RulebookContext): RulebookValidation {
   const parsed = rulebookSchema.safeParse(input);
-  if (!parsed.success) return { ok: false, errors: shapeErrors(parsed.error) };
+  if (!parsed.success) {
+    const errors = shapeErrors(parsed.error);
+    const salvaged = salvage(input, parsed.error, RULEBOOK_PLACEHOLDERS, rulebookSchema);
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (rb, out) => checkRulebook(rb, "$", context, out), errors));
+    return { ok: false, errors };
+  }
   const errors: ValidationError[] = [];
   checkRulebook(parsed.data, "$", context, errors);
   return errors.length > 0 ? { ok: false, errors } : { ok: true, rulebook: parsed.data };
