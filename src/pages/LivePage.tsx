@@ -1,14 +1,123 @@
-import { useParams } from "react-router-dom";
+import { useCallback, useMemo, useState } from "react";
+import { Link, useParams } from "react-router-dom";
+import type { CommandBody } from "../../shared/contract/live";
+import { ApiError } from "../api/http";
+import { useLayout } from "../api/layouts";
+import { useCommandMutation, useConnection, useLiveState, usePulses, useTicker } from "../api/live";
+import { useRulebookVersion } from "../api/rulebooks";
+import { AlarmBanner } from "../components/live/AlarmBanner";
+import { CommandDialog, type CommandDraft } from "../components/live/CommandDialog";
+import { ConnectionIndicator } from "../components/live/ConnectionIndicator";
+import { EventTicker } from "../components/live/EventTicker";
+import { NodeStrip } from "../components/live/NodeStrip";
+import { StatePanel } from "../components/live/StatePanel";
+import { Mimic } from "../components/mimic/Mimic";
+import { Button } from "../components/ui/Button";
+import { Panel } from "../components/ui/Panel";
 import { SafetyNote } from "../components/ui/SafetyNote";
+import { LoadError, Loading } from "../components/ui/Status";
+import { useCurrentUser } from "../hooks/useCurrentUser";
+import { useLiveLayout } from "../hooks/useLiveLayout";
+import { useNow } from "../hooks/useNow";
+import { can } from "../lib/permissions";
 
-// Placeholder: the live mimic and control room are being built separately.
+/** The control room: mimic, state, events, nodes, alarms and (for signallers) commands. */
 export default function LivePage() {
-  const { slug } = useParams();
+  const { slug = "" } = useParams();
+  const user = useCurrentUser();
+  const layout = useLayout(slug);
+  const live = useLiveState(slug);
+  useLiveLayout(slug);
+  const connection = useConnection(slug);
+  const ticker = useTicker(slug);
+  const pulses = usePulses(slug);
+  const rulebook = useRulebookVersion(slug, live.data?.rulebookVersion ?? undefined);
+  const now = useNow();
+  const command = useCommandMutation(slug);
+  const [draft, setDraft] = useState<CommandDraft | null>(null);
+  const [notice, setNotice] = useState<string | null>(null);
+  const canControl = can.controlLive(user.role);
+
+  const routes = rulebook.data?.rulebook.proving?.routes;
+  const mimicLayout = useMemo(() => layout.data, [layout.data]);
+  const onCommand = useCallback((c: CommandDraft) => {
+    command.reset();
+    setDraft(c);
+  }, [command]);
+
+  if (layout.isPending || (live.isPending && !live.isError)) return <Loading what="the live layout" />;
+  if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
+  if (live.isError || !live.data || !mimicLayout) return <LoadError error={live.error} what="the live state" />;
+  const state = live.data;
+
+  const send = (body: CommandBody) =>
+    command.mutate(body, {
+      onSuccess: () => {
+        setDraft(null);
+        setNotice(`Done: ${body.type}${"signal" in body ? ` ${body.signal}` : "latch" in body ? ` ${body.latch}` : "counter" in body ? ` ${body.counter}` : ""}.`);
+      },
+    });
+
   return (
     <div className="space-y-4">
-      <h1 className="text-2xl font-bold">Live — {slug}</h1>
-      <p className="text-ink-soft">The live mimic for this layout is coming soon.</p>
+      <div className="flex flex-wrap items-center justify-between gap-3">
+        <div>
+          <h1 className="text-2xl font-bold">{mimicLayout.name}</h1>
+          <p className="text-sm text-ink-soft">
+            Live control room
+            {state.rulebookVersion ? ` · rulebook version ${state.rulebookVersion}` : " · no rulebook running"}
+            {state.session ? ` · session ${state.session.id}` : ""}
+          </p>
+        </div>
+        <div className="flex flex-wrap items-center gap-3">
+          <ConnectionIndicator connection={connection} />
+          <Link to={`/layouts/${slug}/alarms`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+            Alarms
+          </Link>
+          <Link to={`/layouts/${slug}/audit`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+            Audit log
+          </Link>
+          {canControl ? (
+            <Button tone="danger" onClick={() => onCommand({ type: "restart" })}>
+              Restart rulebook
+            </Button>
+          ) : null}
+        </div>
+      </div>
+
+      <AlarmBanner slug={slug} state={state} />
+      {notice ? (
+        <p role="status" className="text-sm text-notice-ok">
+          {notice}
+        </p>
+      ) : null}
+
+      <Mimic title={mimicLayout.name} layout={mimicLayout} state={state} routes={routes} pulses={pulses} className="border border-panel-700" />
+
+      <Panel title="Nodes">
+        <NodeStrip nodes={mimicLayout.nodes} live={state.nodes} now={now} />
+      </Panel>
+
+      <div className="grid gap-4 lg:grid-cols-2">
+        <Panel title="State">
+          <StatePanel state={state} signals={mimicLayout.signals} now={now} onCommand={canControl ? onCommand : undefined} />
+        </Panel>
+        <Panel title="Events">
+          <EventTicker entries={ticker} />
+        </Panel>
+      </div>
+
       <SafetyNote />
+
+      {draft ? (
+        <CommandDialog
+          command={draft}
+          busy={command.isPending}
+          error={command.error ? (command.error instanceof ApiError ? command.error.message : String(command.error)) : null}
+          onSend={send}
+          onCancel={() => setDraft(null)}
+        />
+      ) : null}
     </div>
   );
 }

@@ -1,0 +1,26 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { AlarmsResponse, AlarmStateFilter } from "../../shared/contract/controlRoom";
+import type { AlarmDto } from "../../shared/contract/live";
+import { http } from "./http";
+
+export const alarmKeys = {
+  all: ["alarms"] as const,
+  list: (slug: string, state: AlarmStateFilter) => ["alarms", slug, state] as const,
+};
+
+export function useAlarms(slug: string, state: AlarmStateFilter) {
+  return useQuery({
+    queryKey: alarmKeys.list(slug, state),
+    queryFn: ({ signal }) => http.get<AlarmsResponse>(`/api/layouts/${encodeURIComponent(slug)}/alarms?state=${state}`, signal),
+    select: (body) => body.alarms,
+    enabled: Boolean(slug),
+  });
+}
+
+export function useAcknowledgeAlarm() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ id, comment }: { id: number; comment: string }) => http.post<{ alarm?: AlarmDto }>(`/api/alarms/${id}/acknowledge`, { comment }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: alarmKeys.all }),
+  });
+}

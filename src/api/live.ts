@@ -1,0 +1,84 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { ChangeDto, CommandBody, LiveEventDto, LiveState } from "../../shared/contract/live";
+import type { DisplayResponse } from "../../shared/contract/controlRoom";
+import { http } from "./http";
+
+/** What the socket is doing for one layout, as shown by the connection indicator. */
+export type ConnectionStatus = "connecting" | "live" | "catching-up" | "reconnecting" | "refused";
+export interface ConnectionInfo {
+  status: ConnectionStatus;
+  /** When the status last changed (ms since epoch). */
+  since: number;
+  message?: string;
+}
+
+/** One line of the event ticker. */
+export interface TickerEntry {
+  version: number;
+  event: LiveEventDto | null;
+  changes: ChangeDto[];
+}
+export const TICKER_LENGTH = 80;
+
+export const liveKeys = {
+  all: ["live"] as const,
+  state: (slug: string) => ["live", slug, "state"] as const,
+  ticker: (slug: string) => ["live", slug, "ticker"] as const,
+  pulses: (slug: string) => ["live", slug, "pulses"] as const,
+  connection: (slug: string) => ["live", slug, "connection"] as const,
+  display: (token: string) => ["display", token] as const,
+};
+
+export const livePath = (slug: string, displayToken?: string) =>
+  `/api/layouts/${encodeURIComponent(slug)}/live${displayToken ? `?display=${encodeURIComponent(displayToken)}` : ""}`;
+
+/**
+ * The layout's live state. The socket hook (useLiveLayout) keeps it current by writing
+ * pushes into this cache entry; the REST fetch is only the first answer.
+ */
+export function useLiveState(slug: string | undefined, displayToken?: string) {
+  const queryClient = useQueryClient();
+  return useQuery({
+    queryKey: liveKeys.state(slug ?? ""),
+    queryFn: async ({ signal }) => {
+      const fetched = await http.get<LiveState>(livePath(slug ?? "", displayToken), signal);
+      // The socket may have written a newer state while this request was in flight.
+      const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug ?? ""));
+      return current && current.version > fetched.version ? current : fetched;
+    },
+    enabled: Boolean(slug),
+    staleTime: Infinity,
+  });
+}
+
+/** A value only ever written with setQueryData (ticker, pulses, connection): no fetching. */
+function useCacheOnly<T>(key: readonly unknown[], fallback: T): T {
+  const query = useQuery<T>({ queryKey: key, queryFn: () => fallback, enabled: false, staleTime: Infinity });
+  return query.data ?? fallback;
+}
+
+const NO_TICKER: TickerEntry[] = [];
+const NO_PULSES: Record<string, number> = {};
+const CONNECTING: ConnectionInfo = { status: "connecting", since: 0 };
+
+export const useTicker = (slug: string) => useCacheOnly(liveKeys.ticker(slug), NO_TICKER);
+export const usePulses = (slug: string) => useCacheOnly(liveKeys.pulses(slug), NO_PULSES);
+export const useConnection = (slug: string) => useCacheOnly(liveKeys.connection(slug), CONNECTING);
+
+export function useCommandMutation(slug: string) {
+  return useMutation({
+    mutationFn: (body: CommandBody) => http.post<unknown>(`/api/layouts/${encodeURIComponent(slug)}/commands`, body),
+  });
+}
+
+/** What a display link opens (no sign-in). */
+export function useDisplay(token: string | undefined) {
+  return useQuery({
+    queryKey: liveKeys.display(token ?? ""),
+    queryFn: ({ signal }) => http.get<DisplayResponse>(`/api/display/${encodeURIComponent(token ?? "")}`, signal),
+    select: (body) => body.layout,
+    enabled: Boolean(token),
+    staleTime: Infinity,
+    retry: 3,
+  });
+}

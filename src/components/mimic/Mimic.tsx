@@ -1,0 +1,231 @@
+import { memo, useMemo } from "react";
+import type { LayoutDetector, LayoutSignal } from "../../../shared/layout/schema";
+import type { ShownAspect } from "../../../shared/rulebook/schema";
+import { layoutGeometry, pathBetween, type MimicLayout, type Pt } from "./geometry";
+import { deriveOccupancy, type RouteShape } from "./occupancy";
+
+export type { MimicLayout } from "./geometry";
+
+export interface MimicState {
+  shown: Record<string, ShownAspect | undefined>;
+  counters?: Record<string, number>;
+  selectors?: Record<string, string>;
+  held?: string[];
+}
+
+export interface MimicProps {
+  layout: MimicLayout;
+  state: MimicState;
+  /** The rulebook's proving routes: used to shade set and occupied sections (see occupancy.ts). */
+  routes?: RouteShape[];
+  /** Pulses seen per detector; a detector flashes whenever its count goes up. */
+  pulses?: Record<string, number>;
+  /** Heading for screen readers, e.g. the layout's name. */
+  title: string;
+  /** `display`: thicker strokes and larger words for the screen across the room. */
+  size?: "panel" | "display";
+  className?: string;
+}
+
+/** "Signal M1, Main home: clear" — the accessible name CONTRACT.md §7 promises. */
+export function signalLabel(signal: Pick<LayoutSignal, "id" | "name">, aspect: ShownAspect): string {
+  return `Signal ${signal.id}, ${signal.name}: ${aspect}`;
+}
+
+const ASPECT_FILL: Record<ShownAspect, string> = {
+  danger: "#ef3b34",
+  caution: "#f5b82e",
+  clear: "#2fcf6a",
+  dark: "#55606b",
+};
+const TRACK = "#3a4b5c";
+const INK = "#e4ebf2";
+const INK_FAINT = "#7f8fa0";
+const BRASS = "#d9b35f";
+const SET_ROUTE = "#9fc3e6";
+const PULSE = "#7fe3ff";
+
+const toPoints = (pts: Pt[]) => pts.map((p) => `${p[0].toFixed(1)},${p[1].toFixed(1)}`).join(" ");
+
+// The flash restarts because the ring is re-keyed on every pulse; no timers in React.
+const MIMIC_CSS = `
+@keyframes blocklight-pulse { 0% { opacity: 1; r: 7px; } 100% { opacity: 0; r: 22px; } }
+.bl-pulse { animation: blocklight-pulse 700ms ease-out forwards; }
+@keyframes blocklight-held { 0%, 100% { opacity: 1; } 50% { opacity: 0.35; } }
+.bl-held { animation: blocklight-held 1.6s ease-in-out infinite; }
+@media (prefers-reduced-motion: reduce) { .bl-pulse, .bl-held { animation: none; } }
+`;
+
+/**
+ * The drawn mimic: tracks, points, detectors and signals of a layout with each signal's
+ * shown aspect, detector pulses, set/occupied sections and trains waiting at signals.
+ * Read-only (no controls), so the visitor display uses it as it is.
+ */
+export function Mimic({ layout, state, routes, pulses = {}, title, size = "panel", className = "" }: MimicProps) {
+  const geometry = useMemo(() => layoutGeometry(layout), [layout]);
+  const held = useMemo(() => new Set(state.held ?? []), [state.held]);
+  const occupancy = useMemo(
+    () => deriveOccupancy(routes, { counters: state.counters ?? {}, selectors: state.selectors ?? {}, shown: state.shown }),
+    [routes, state.counters, state.selectors, state.shown],
+  );
+  const routePaths = useMemo(() => {
+    const out: Record<string, Pt[]> = {};
+    for (const r of routes ?? []) {
+      const path = [r.entry, ...r.exit];
+      const pts: Pt[] = [];
+      for (let i = 1; i < path.length; i++) pts.push(...pathBetween(geometry, layout, path[i - 1], path[i]));
+      out[r.id] = pts;
+    }
+    return out;
+  }, [routes, geometry, layout]);
+
+  const waiting = new Set(occupancy.waiting);
+  const scale = size === "display" ? 1.25 : 1;
+  const vb = geometry.viewBox;
+
+  return (
+    <svg
+      role="group"
+      aria-label={`Mimic of ${title}`}
+      viewBox={`${vb.x} ${vb.y} ${vb.width} ${vb.height}`}
+      className={`block h-auto w-full select-none rounded-lg bg-panel-950 ${className}`}
+      preserveAspectRatio="xMidYMid meet"
+      fontFamily='"JetBrains Mono", ui-monospace, monospace'
+    >
+      <style>{MIMIC_CSS}</style>
+      {/* Plain tracks */}
+      <g aria-hidden="true">
+        {geometry.tracks.map((t, i) => (
+          <polyline key={`${t.line}-${i}`} points={toPoints(t.points)} fill="none" stroke={TRACK} strokeWidth={7 * scale} strokeLinecap="round" strokeLinejoin="round" />
+        ))}
+      </g>
+      {/* Set and occupied sections over the tracks */}
+      <g aria-hidden="true">
+        {occupancy.routes.map(({ route, set, occupied }) => {
+          const pts = routePaths[route.id];
+          if (!pts || pts.length < 2 || (!set && !occupied)) return null;
+          return (
+            <polyline
+              key={route.id}
+              data-route={route.id}
+              data-route-state={occupied ? "occupied" : "set"}
+              points={toPoints(pts)}
+              fill="none"
+              stroke={occupied ? BRASS : SET_ROUTE}
+              strokeWidth={(occupied ? 7 : 3) * scale}
+              strokeDasharray={occupied ? undefined : `${10 * scale} ${6 * scale}`}
+              strokeLinecap="round"
+              strokeLinejoin="round"
+              opacity={occupied ? 0.95 : 0.85}
+            />
+          );
+        })}
+      </g>
+      <g aria-hidden="true">
+        {geometry.labels.map((l, i) => (
+          <text key={i} x={l.at[0]} y={l.at[1]} fill={INK_FAINT} fontSize={12 * scale}>
+            {l.text}
+          </text>
+        ))}
+        {layout.points.map((p) => {
+          const at = geometry.points[p.id];
+          if (!at) return null;
+          return (
+            <g key={p.id} transform={`translate(${at[0]} ${at[1]})`}>
+              <rect x={-5} y={-5} width={10} height={10} transform="rotate(45)" fill="#1c2835" stroke={INK_FAINT} strokeWidth={1.5} />
+              <text y={-12 * scale} textAnchor="middle" fill={INK_FAINT} fontSize={11 * scale}>
+                {p.id}
+              </text>
+            </g>
+          );
+        })}
+      </g>
+      <g>
+        {layout.detectors.map((d) => {
+          const at = geometry.detectors[d.id];
+          return at ? <DetectorMark key={d.id} detector={d} at={at} pulses={pulses[d.id] ?? 0} scale={scale} /> : null;
+        })}
+      </g>
+      <g>
+        {layout.signals.map((s) => {
+          const at = geometry.signals[s.id];
+          const post = geometry.signalTrack[s.id] ?? at;
+          return at ? (
+            <SignalMark key={s.id} signal={s} at={at} post={post} aspect={state.shown[s.id] ?? "dark"} held={held.has(s.id)} waiting={waiting.has(s.id)} scale={scale} />
+          ) : null;
+        })}
+      </g>
+    </svg>
+  );
+}
+
+interface DetectorMarkProps {
+  detector: LayoutDetector;
+  at: Pt;
+  pulses: number;
+  scale: number;
+}
+
+const DetectorMark = memo(function DetectorMark({ detector, at, pulses, scale }: DetectorMarkProps) {
+  return (
+    <g role="img" aria-label={`Detector ${detector.id}, ${detector.name}`} data-detector={detector.id} data-pulses={pulses} transform={`translate(${at[0]} ${at[1]})`}>
+      <title>{`${detector.name} at ${detector.at} m`}</title>
+      {pulses > 0 ? <circle key={pulses} className="bl-pulse" r={7} fill="none" stroke={PULSE} strokeWidth={3} /> : null}
+      <rect x={-2.5 * scale} y={-9 * scale} width={5 * scale} height={18 * scale} rx={1.5} fill={pulses > 0 ? "#b9ecf7" : "#c9d3dd"} stroke="#0b1016" strokeWidth={1} />
+      <text y={24 * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
+        {detector.id}
+      </text>
+    </g>
+  );
+});
+
+interface SignalMarkProps {
+  signal: LayoutSignal;
+  at: Pt;
+  post: Pt;
+  aspect: ShownAspect;
+  held: boolean;
+  waiting: boolean;
+  scale: number;
+}
+
+const SignalMark = memo(function SignalMark({ signal, at, post, aspect, held, waiting, scale }: SignalMarkProps) {
+  const r = 11 * scale;
+  const below = at[1] >= post[1];
+  const wordY = below ? r + 16 * scale : -r - 8 * scale;
+  return (
+    <g role="img" aria-label={signalLabel(signal, aspect)} data-signal={signal.id} data-aspect={aspect} data-held={held ? "true" : undefined} data-waiting={waiting ? "true" : undefined}>
+      <title>{`${signal.name} at ${signal.at} m`}</title>
+      <line x1={post[0]} y1={post[1]} x2={at[0]} y2={at[1]} stroke={INK_FAINT} strokeWidth={2} />
+      <g transform={`translate(${at[0]} ${at[1]})`}>
+        {aspect !== "dark" ? <circle r={r + 6 * scale} fill={ASPECT_FILL[aspect]} opacity={0.22} /> : null}
+        <circle r={r} fill={aspect === "dark" ? "#0b1016" : ASPECT_FILL[aspect]} stroke={aspect === "dark" ? ASPECT_FILL.dark : "#0b1016"} strokeWidth={aspect === "dark" ? 3 : 2} />
+        {held ? <circle className="bl-held" r={r + 5 * scale} fill="none" stroke={INK} strokeWidth={2.5} strokeDasharray="4 3" /> : null}
+        <text x={r + 6 * scale} y={5 * scale} fill={INK} fontSize={15 * scale} fontWeight={700} aria-hidden="true">
+          {signal.id}
+        </text>
+        <text y={wordY} textAnchor="middle" fill={aspect === "dark" ? INK_FAINT : ASPECT_FILL[aspect]} fontSize={11 * scale} fontWeight={700} letterSpacing={1} aria-hidden="true">
+          {held ? `HELD · ${aspect.toUpperCase()}` : aspect.toUpperCase()}
+        </text>
+      </g>
+      {waiting ? <WaitingTrain post={post} scale={scale} /> : null}
+    </g>
+  );
+});
+
+/** A small train symbol just before the signal, above the track. */
+function WaitingTrain({ post, scale }: { post: Pt; scale: number }) {
+  const w = 26 * scale;
+  const h = 10 * scale;
+  const x = post[0] - w - 8 * scale;
+  const y = post[1] - h / 2;
+  return (
+    <g data-train-waiting="true" aria-hidden="true">
+      <rect x={x} y={y} width={w} height={h} rx={3} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
+      <path d={`M ${x + w} ${y} l ${7 * scale} ${h / 2} l ${-7 * scale} ${h / 2} z`} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
+      <text x={x + w / 2} y={y - 5 * scale} textAnchor="middle" fill={BRASS} fontSize={10 * scale} fontWeight={700}>
+        waiting
+      </text>
+    </g>
+  );
+}

@@ -1,0 +1,169 @@
+import { useQueryClient, type QueryClient } from "@tanstack/react-query";
+import { useEffect } from "react";
+import type { AlarmDto, LiveState, LiveUpdate } from "../../shared/contract/live";
+import { alarmKeys } from "../api/alarms";
+import { liveKeys, TICKER_LENGTH, type ConnectionInfo, type ConnectionStatus, type TickerEntry } from "../api/live";
+import { acquireLiveSocket, JoinError, joinLive, leaveLive, releaseLiveSocket } from "../api/socket";
+
+/** After a failed join, try again this much later (the socket's own reconnection covers drops). */
+const REJOIN_DELAY_MS = 2_000;
+/** Pushes are applied once per frame; this bounds the wait when no frame comes (hidden tab). */
+const FLUSH_FALLBACK_MS = 100;
+
+/**
+ * Joins a layout's live room and keeps the TanStack Query cache current: the live state
+ * (`liveKeys.state`), the event ticker, per-detector pulse counts and the connection status.
+ * No second store: components read those cache entries with the hooks in api/live.ts.
+ *
+ * Updates carry `version`, one more than the last per layout. Each is applied in order; a gap
+ * (a missed push) or a reconnect asks for the whole state again with a fresh `live:join`.
+ */
+export function useLiveLayout(slug: string | undefined, options: { displayToken?: string } = {}): void {
+  const queryClient = useQueryClient();
+  const { displayToken } = options;
+
+  useEffect(() => {
+    if (!slug) return;
+    const socket = acquireLiveSocket();
+    let stopped = false;
+    let joining = false;
+    let rejoinTimer: ReturnType<typeof setTimeout> | undefined;
+    let pending: LiveUpdate[] = [];
+    let frame: number | undefined;
+    let fallback: ReturnType<typeof setTimeout> | undefined;
+
+    const setConnection = (status: ConnectionStatus, message?: string) => {
+      const current = queryClient.getQueryData<ConnectionInfo>(liveKeys.connection(slug));
+      if (current?.status === status && current.message === message) return;
+      queryClient.setQueryData<ConnectionInfo>(liveKeys.connection(slug), { status, since: Date.now(), message });
+    };
+
+    const join = async (status: ConnectionStatus) => {
+      if (joining || stopped) return;
+      joining = true;
+      setConnection(status);
+      try {
+        const state = await joinLive(slug, displayToken);
+        if (stopped) return;
+        const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
+        // A newer state may already have been pieced together from pushes: keep the newer.
+        if (!current || current.version <= state.version) queryClient.setQueryData(liveKeys.state(slug), state);
+        joining = false;
+        setConnection("live");
+        flush();
+      } catch (error) {
+        joining = false;
+        if (stopped) return;
+        if (error instanceof JoinError && error.code !== "timeout") {
+          setConnection("refused", error.message);
+        } else {
+          setConnection("reconnecting", error instanceof Error ? error.message : String(error));
+        }
+        rejoinTimer = setTimeout(() => socket.connected && void join("catching-up"), REJOIN_DELAY_MS);
+      }
+    };
+
+    const flush = () => {
+      if (frame !== undefined) cancelAnimationFrame(frame);
+      if (fallback !== undefined) clearTimeout(fallback);
+      frame = undefined;
+      fallback = undefined;
+      if (joining || stopped || pending.length === 0) return;
+      const batch = pending;
+      pending = [];
+      applyBatch(queryClient, slug, batch, () => void join("catching-up"));
+    };
+
+    const schedule = () => {
+      if (frame !== undefined || fallback !== undefined) return;
+      frame = requestAnimationFrame(flush);
+      fallback = setTimeout(flush, FLUSH_FALLBACK_MS);
+    };
+
+    const onUpdate = (update: LiveUpdate) => {
+      if (update.slug !== slug) return;
+      pending.push(update);
+      schedule();
+    };
+    const onState = (state: LiveState) => {
+      if (state.slug !== slug) return;
+      const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
+      if (!current || current.version <= state.version) queryClient.setQueryData(liveKeys.state(slug), state);
+    };
+    const onAlarm = (alarm: AlarmDto & { slug: string }) => {
+      if (alarm.slug !== slug) return;
+      const { slug: _slug, ...dto } = alarm;
+      queryClient.setQueryData<LiveState>(liveKeys.state(slug), (state) => (state ? { ...state, alarms: mergeAlarm(state.alarms, dto) } : state));
+      void queryClient.invalidateQueries({ queryKey: alarmKeys.all });
+    };
+    const onConnect = () => void join("catching-up");
+    const onDisconnect = () => setConnection("reconnecting");
+    const onConnectError = (err: Error) => setConnection("reconnecting", err.message);
+
+    socket.on("live:update", onUpdate);
+    socket.on("live:state", onState);
+    socket.on("alarm:changed", onAlarm);
+    socket.on("connect", onConnect);
+    socket.on("disconnect", onDisconnect);
+    socket.on("connect_error", onConnectError);
+    if (socket.connected) void join("connecting");
+    else setConnection("connecting");
+
+    return () => {
+      stopped = true;
+      if (frame !== undefined) cancelAnimationFrame(frame);
+      clearTimeout(fallback);
+      clearTimeout(rejoinTimer);
+      socket.off("live:update", onUpdate);
+      socket.off("live:state", onState);
+      socket.off("alarm:changed", onAlarm);
+      socket.off("connect", onConnect);
+      socket.off("disconnect", onDisconnect);
+      socket.off("connect_error", onConnectError);
+      leaveLive(slug);
+      releaseLiveSocket();
+    };
+  }, [slug, displayToken, queryClient]);
+}
+
+export function mergeAlarm(alarms: AlarmDto[], alarm: AlarmDto): AlarmDto[] {
+  const index = alarms.findIndex((a) => a.id === alarm.id);
+  if (index === -1) return [alarm, ...alarms];
+  const next = alarms.slice();
+  next[index] = alarm;
+  return next;
+}
+
+/**
+ * Applies pushes in version order to the cached state. Stops at the first gap and asks for a
+ * re-join; updates at or below the cached version are already in it and are skipped.
+ */
+export function applyBatch(queryClient: QueryClient, slug: string, batch: LiveUpdate[], onGap: () => void): void {
+  let state = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
+  if (!state) {
+    onGap();
+    return;
+  }
+  const pulses = { ...(queryClient.getQueryData<Record<string, number>>(liveKeys.pulses(slug)) ?? {}) };
+  const entries: TickerEntry[] = [];
+  let pulsed = false;
+  for (const update of batch) {
+    if (update.version <= state.version) continue;
+    if (update.version !== state.version + 1) {
+      onGap();
+      break;
+    }
+    state = { ...state, ...update.patch, version: update.version };
+    const event = update.event;
+    if (event?.kind === "pulse" && event.status === "accepted" && event.detector) {
+      pulses[event.detector] = (pulses[event.detector] ?? 0) + 1;
+      pulsed = true;
+    }
+    entries.push({ version: update.version, event, changes: update.changes });
+  }
+  queryClient.setQueryData(liveKeys.state(slug), state);
+  if (pulsed) queryClient.setQueryData(liveKeys.pulses(slug), pulses);
+  if (entries.length > 0) {
+    queryClient.setQueryData<TickerEntry[]>(liveKeys.ticker(slug), (old = []) => [...entries.reverse(), ...old].slice(0, TICKER_LENGTH));
+  }
+}
