@@ -13,6 +13,12 @@ const SimulatePage = lazy(() => import("./pages/SimulatePage"));
 const LivePage = lazy(() => import("./pages/LivePage"));
 const DisplayPage = lazy(() => import("./pages/DisplayPage"));
 const NotFoundPage = lazy(() => import("./pages/NotFoundPage"));
+const AlarmsPage = lazy(() => import("./pages/AlarmsPage"));
+const AuditPage = lazy(() => import("./pages/AuditPage"));
+const DisplayLinksPage = lazy(() => import("./pages/DisplayLinksPage"));
+const OutboxPage = lazy(() => import("./pages/OutboxPage"));
+const MembersPage = lazy(() => import("./pages/MembersPage"));
+const InvitePage = lazy(() => import("./pages/InvitePage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -22,6 +28,7 @@ export function App() {
         <Route path="/login" element={<LoginPage />} />
         {/* Visitors hold a display link, not an account: no sign-in, no shell. */}
         <Route path="/display/:token" element={<DisplayPage />} />
+        <Route path="/invite/:token" element={<InvitePage />} />
         <Route
           element={
             <RequireAuth>
@@ -34,6 +41,11 @@ export function App() {
           <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
           <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
           <Route path="layouts/:slug/live" element={<LivePage />} />
+          <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
+          <Route path="layouts/:slug/audit" element={<AuditPage />} />
+          <Route path="layouts/:slug/display-links" element={<DisplayLinksPage />} />
+          <Route path="admin/outbox" element={<OutboxPage />} />
+          <Route path="admin/members" element={<MembersPage />} />
           <Route path="*" element={<NotFoundPage />} />
         </Route>
       </Routes>

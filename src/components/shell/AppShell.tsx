@@ -48,6 +48,19 @@ export function AppShell() {
                 <NavLink to={`/layouts/${slug}/live`} className={linkClass}>
                   {can.controlLive(user.role) ? "Live control" : "Live mimic"}
                 </NavLink>
+                <NavLink to={`/layouts/${slug}/alarms`} className={linkClass}>
+                  Alarms
+                </NavLink>
+              </>
+            ) : null}
+            {user.role === "admin" ? (
+              <>
+                <NavLink to="/admin/members" className={linkClass}>
+                  Members
+                </NavLink>
+                <NavLink to="/admin/outbox" className={linkClass}>
+                  Outbox
+                </NavLink>
               </>
             ) : null}
           </nav>
