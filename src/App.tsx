@@ -19,6 +19,7 @@ const DisplayLinksPage = lazy(() => import("./pages/DisplayLinksPage"));
 const OutboxPage = lazy(() => import("./pages/OutboxPage"));
 const MembersPage = lazy(() => import("./pages/MembersPage"));
 const InvitePage = lazy(() => import("./pages/InvitePage"));
+const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -40,6 +41,7 @@ export function App() {
           <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
           <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
           <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
+          <Route path="layouts/:slug/placement" element={<PlacementPage />} />
           <Route path="layouts/:slug/live" element={<LivePage />} />
           <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />

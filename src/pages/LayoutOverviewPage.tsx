@@ -67,6 +67,9 @@ export default function LayoutOverviewPage() {
           <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/simulate`}>
             Simulator
           </Link>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/placement`}>
+            Detector placement
+          </Link>
           <a className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" href={layoutExportUrl(l.slug)} download={`${l.slug}.layout.json`}>
             Export layout file
           </a>
