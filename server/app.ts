@@ -14,6 +14,9 @@ import { healthRoutes } from "./features/health";
 import { layoutRoutes } from "./features/layouts/routes";
 import { rulebookRoutes } from "./features/rulebooks/routes";
 import { simulateRoutes } from "./features/simulate/routes";
+import { alarmRoutes } from "./features/alarms/routes";
+import { liveRoutes } from "./features/live/routes";
+import { sessionRoutes } from "./features/sessions/routes";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics and simulator input lists stay well under this. */
@@ -22,7 +25,16 @@ const JSON_BODY_LIMIT = "5mb";
 export type ApiRouterFactory = (deps: AppDeps) => express.Router;
 
 /** Feature routers mounted under /api; later features append theirs here. */
-export const API_ROUTERS: ApiRouterFactory[] = [healthRoutes, authRoutes, layoutRoutes, rulebookRoutes, simulateRoutes];
+export const API_ROUTERS: ApiRouterFactory[] = [
+  healthRoutes,
+  authRoutes,
+  layoutRoutes,
+  rulebookRoutes,
+  simulateRoutes,
+  alarmRoutes,
+  liveRoutes,
+  sessionRoutes,
+];
 
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {
   const app = express();

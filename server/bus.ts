@@ -3,10 +3,17 @@
  * (e.g. publishing a rulebook tells the live runtime to load it).
  */
 import { EventEmitter } from "node:events";
+import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
 
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];
   "layout.nodes-changed": [{ layoutId: number; slug: string }];
+  /** A committed step of a layout's live pipeline, to push to its room. */
+  "live.update": [LiveUpdate];
+  /** An alarm was raised, acknowledged or cleared. */
+  "alarm.changed": [AlarmDto & { slug: string; layoutId: number }];
+  /** A display link was revoked: sockets holding it are disconnected. */
+  "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }
 
 export class Bus extends EventEmitter<BusEvents> {}

@@ -5,6 +5,7 @@ import type { AppConfig } from "./config";
 import type { Database } from "./db/database";
 import type { Logger } from "./logger";
 import type { Bus } from "./bus";
+import type { LiveRuntime } from "./runtime/liveRuntime";
 
 export interface BrokerStatus {
   connected(): boolean;
@@ -17,4 +18,6 @@ export interface AppDeps {
   bus: Bus;
   /** The live pipeline's view of the broker, when one runs; health reports "down" otherwise. */
   broker?: BrokerStatus;
+  /** The live pipeline (runners per layout), when the process runs one. */
+  live?: LiveRuntime;
 }

@@ -10,7 +10,9 @@ import { openDatabase, type Database } from "./db/database";
 import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
 import { seedDemo } from "./db/seed/demo";
 import type { AppDeps } from "./deps";
+import { attachLiveSocket } from "./features/live/socket";
 import { createLogger } from "./logger";
+import { startLiveRuntime } from "./runtime/liveRuntime";
 import { loadOrCreateSecret } from "./secrets";
 
 const SHUTDOWN_GRACE_MS = 5_000;
@@ -61,6 +63,16 @@ async function main(): Promise<void> {
     logger.info(seeded, "demo data ready (Fernmoor Garden Railway Society)");
   }
 
+  // The broker runs in its own process (started by the launcher) unless MQTT_URL names another.
+  const mqttUrl = config.mqttUrl ?? `mqtt://127.0.0.1:${config.mqttPort}`;
+  const live = await startLiveRuntime({
+    deps,
+    mqtt: { url: mqttUrl, username: config.serverMqttUsername, password: config.serverMqttPassword },
+  });
+  deps.live = live;
+  deps.broker = live;
+  cleanups.push(() => live.stop());
+
   const app = createApp(deps);
   const server = http.createServer(app);
   await new Promise<void>((resolve, reject) => {
@@ -68,6 +80,8 @@ async function main(): Promise<void> {
     server.listen(config.port, config.host, resolve);
   });
   cleanups.push(() => new Promise<void>((resolve) => server.close(() => resolve())));
+  const sockets = attachLiveSocket(server, deps);
+  cleanups.push(() => sockets.close());
   const url = `http://${config.host}:${config.port}`;
   logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
   process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);

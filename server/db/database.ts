@@ -5,6 +5,7 @@
 import { Sequelize } from "sequelize";
 import { Umzug, SequelizeStorage } from "umzug";
 import * as initial from "./migrations/001-initial";
+import * as live from "./migrations/002-live";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -13,7 +14,10 @@ export interface Database {
   close(): Promise<void>;
 }
 
-const MIGRATIONS = [{ name: "001-initial", ...initial }];
+const MIGRATIONS = [
+  { name: "001-initial", ...initial },
+  { name: "002-live", ...live },
+];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {
   const sequelize = new Sequelize(url, {

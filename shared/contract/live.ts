@@ -60,7 +60,8 @@ export type AspectPayload = MqttTopicPayloads["aspect"];
 // ───────────────────────────── live state (REST + socket) ─────────────────────────────
 
 export type EventStatus = "accepted" | "duplicate" | "rejected";
-export type EventKind = "pulse" | "tick" | "status" | "shown" | "command";
+/** `message`: a message on a topic that is none of the others (always rejected, kept for the log). */
+export type EventKind = "pulse" | "tick" | "status" | "shown" | "command" | "message";
 
 /** One row of a session's event log, as the client and the exports see it. */
 export interface LiveEventDto {

@@ -1,0 +1,49 @@
+/**
+ * The broker as its own process, so restarting the server does not drop the boards: the
+ * server's persistent MQTT session (clean session off) keeps its QoS 1 pulses queued here.
+ *
+ * Environment: DATABASE_URL (required: node secrets are checked against it), MQTT_PORT
+ * (default 1883), MQTT_HOST (default 127.0.0.1), SERVER_MQTT_USERNAME / SERVER_MQTT_PASSWORD
+ * (the password defaults to DATA_DIR/secrets/server-mqtt, made on first start, the same file
+ * the server reads).
+ */
+import pg from "pg";
+import { configFromEnv } from "../server/config";
+import { createLogger } from "../server/logger";
+import { loadOrCreateSecret } from "../server/secrets";
+import { databaseAuthenticator } from "./auth";
+import { startBroker } from "./server";
+
+const logger = createLogger();
+
+async function main(): Promise<void> {
+  const config = configFromEnv(process.env);
+  if (!config.databaseUrl) throw new Error("DATABASE_URL must be set: the broker checks node secrets against the database");
+  const serverPassword = config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
+  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 4 });
+  const broker = await startBroker({
+    port: config.mqttPort,
+    host: process.env.MQTT_HOST ?? "127.0.0.1",
+    authenticate: databaseAuthenticator({ pool, serverUsername: config.serverMqttUsername, serverPassword }),
+    onRefusal: (refusal) => logger.warn(refusal, "MQTT refused"),
+    onClient: (event, clientId, identity) => logger.info({ clientId, identity }, `MQTT client ${event}`),
+  });
+  logger.info({ port: broker.port }, "MQTT broker is up");
+
+  let stopping = false;
+  const stop = async (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    logger.info({ signal }, "stopping the MQTT broker");
+    await broker.close();
+    await pool.end();
+    process.exit(0);
+  };
+  process.on("SIGINT", () => void stop("SIGINT"));
+  process.on("SIGTERM", () => void stop("SIGTERM"));
+}
+
+main().catch((err) => {
+  process.stderr.write(`the MQTT broker could not start: ${err instanceof Error ? err.message : String(err)}\n`);
+  process.exit(1);
+});

@@ -1,0 +1,28 @@
+import { Router } from "express";
+import { z } from "zod";
+import type { AppDeps } from "../../deps";
+import { parseWith } from "../../http/errors";
+import { requireRole, requireSignedIn } from "../auth/middleware";
+import { findLayout } from "../layouts/service";
+import { acknowledgeAlarm, listAlarms } from "./service";
+
+const listQuerySchema = z.object({ state: z.enum(["open", "all"]).default("open") });
+const acknowledgeBodySchema = z.strictObject({ comment: z.string().trim().max(1000).optional() });
+
+export function alarmRoutes(deps: AppDeps): Router {
+  const router = Router();
+
+  router.get("/layouts/:slug/alarms", requireSignedIn, async (req, res) => {
+    const { state } = parseWith(listQuerySchema, req.query, "query");
+    const layout = await findLayout(deps, String(req.params.slug));
+    res.json({ alarms: await listAlarms(deps, layout.id, state) });
+  });
+
+  router.post("/alarms/:id/acknowledge", requireRole("signaller", "maintainer", "admin"), async (req, res) => {
+    const id = parseWith(z.coerce.number().int().positive(), req.params.id, "alarm id");
+    const { comment } = parseWith(acknowledgeBodySchema, req.body ?? {});
+    res.json({ alarm: await acknowledgeAlarm(deps, id, req.user!.id, comment || null) });
+  });
+
+  return router;
+}

@@ -1,0 +1,71 @@
+/**
+ * The live control room over REST (CONTRACT.md §6): live state, signaller commands,
+ * running sessions open/closed by hand, and display links.
+ */
+import { Router, type RequestHandler } from "express";
+import { z } from "zod";
+import { commandBodySchema } from "../../../shared/contract/live";
+import type { AppDeps } from "../../deps";
+import { HttpError, parseWith } from "../../http/errors";
+import { requireRole } from "../auth/middleware";
+import { findLayout } from "../layouts/service";
+import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
+
+const displayLinkBodySchema = z.strictObject({ label: z.string().trim().max(100).optional() });
+const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]) });
+
+export function liveRoutes(deps: AppDeps): Router {
+  const router = Router();
+  const live = () => {
+    if (!deps.live) throw new HttpError(503, "live_unavailable", "the live pipeline is not running");
+    return deps.live;
+  };
+
+  /** Signed in, or holding a live display link for this very layout. */
+  const signedInOrDisplay: RequestHandler = async (req, _res, next) => {
+    try {
+      if (req.user) return next();
+      const token = typeof req.query.display === "string" ? req.query.display : "";
+      if (!token) return next(new HttpError(401, "unauthenticated", "sign in first, or open a display link"));
+      const link = await layoutOfDisplayToken(deps, token);
+      if (!link || link.slug !== String(req.params.slug)) return next(new HttpError(401, "unauthenticated", "this display link is not valid"));
+      next();
+    } catch (err) {
+      next(err);
+    }
+  };
+
+  router.get("/layouts/:slug/live", signedInOrDisplay, async (req, res) => {
+    res.json(await live().liveState(String(req.params.slug)));
+  });
+
+  router.post("/layouts/:slug/commands", requireRole("signaller", "admin"), async (req, res) => {
+    const body = parseWith(commandBodySchema, req.body);
+    res.json(await live().command(String(req.params.slug), body, { id: req.user!.id, name: req.user!.name }));
+  });
+
+  router.post("/layouts/:slug/sessions", requireRole("signaller", "admin"), async (req, res) => {
+    const { action } = parseWith(sessionBodySchema, req.body);
+    res.json(await live().session(String(req.params.slug), action, { id: req.user!.id, name: req.user!.name }));
+  });
+
+  router.post("/layouts/:slug/display-links", requireRole("admin"), async (req, res) => {
+    const { label } = parseWith(displayLinkBodySchema, req.body ?? {});
+    const layout = await findLayout(deps, String(req.params.slug));
+    const { token, url } = await createDisplayLink(deps, layout.id, req.user!.id, label || null);
+    res.status(201).json({ token, url });
+  });
+
+  router.get("/layouts/:slug/display-links", requireRole("admin"), async (req, res) => {
+    const layout = await findLayout(deps, String(req.params.slug));
+    res.json({ links: await listDisplayLinks(deps, layout.id) });
+  });
+
+  router.delete("/layouts/:slug/display-links/:token", requireRole("admin"), async (req, res) => {
+    const layout = await findLayout(deps, String(req.params.slug));
+    await revokeDisplayLink(deps, layout.id, String(req.params.token), req.user!.id);
+    res.status(204).end();
+  });
+
+  return router;
+}

@@ -1,0 +1,109 @@
+/**
+ * Live pushes over socket.io, attached to the HTTP server. One room per layout. A socket is
+ * let in by the session cookie (a signed-in user) or by a display link's token; `live:join`
+ * answers with the full LiveState, then `live:update` follows every committed step with a
+ * version one higher than the last (a client that sees a gap joins again).
+ */
+import type http from "node:http";
+import { Server, type Socket } from "socket.io";
+import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "../../../shared/contract/live";
+import type { AppDeps } from "../../deps";
+import { SESSION_COOKIE, readSession } from "../auth/service";
+import { layoutOfDisplayToken } from "./displayLinks";
+
+interface SocketData {
+  userId: number | null;
+  /** sha256 of the display token this socket joined with, per layout slug. */
+  displayHashes: Map<string, string>;
+}
+
+type LiveSocket = Socket<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
+export type LiveIo = Server<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
+
+const room = (slug: string) => `layout:${slug}`;
+
+function cookieValue(header: string | undefined, name: string): string | undefined {
+  if (!header) return undefined;
+  for (const part of header.split(";")) {
+    const eq = part.indexOf("=");
+    if (eq > 0 && part.slice(0, eq).trim() === name) {
+      try {
+        return decodeURIComponent(part.slice(eq + 1).trim());
+      } catch {
+        return undefined;
+      }
+    }
+  }
+  return undefined;
+}
+
+export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: LiveIo; close(): Promise<void> } {
+  const io: LiveIo = new Server(server, { serveClient: false, cors: { origin: false } });
+
+  io.use(async (socket, next) => {
+    try {
+      const claims = readSession(cookieValue(socket.handshake.headers.cookie, SESSION_COOKIE), deps.config.sessionSecret);
+      const user = claims ? await deps.db.models.User.findByPk(claims.sub) : null;
+      socket.data.userId = user?.id ?? null;
+      socket.data.displayHashes = new Map();
+      next();
+    } catch (err) {
+      next(err as Error);
+    }
+  });
+
+  io.on("connection", (socket: LiveSocket) => {
+    socket.on("live:join", async (request, ack) => {
+      const reply = typeof ack === "function" ? ack : () => {};
+      try {
+        const slug = String(request?.slug ?? "");
+        if (socket.data.userId === null) {
+          const link = request?.displayToken ? await layoutOfDisplayToken(deps, request.displayToken) : null;
+          if (!link || link.slug !== slug) {
+            reply({ ok: false, error: { code: "unauthenticated", message: "sign in first, or open a valid display link" } });
+            return;
+          }
+          socket.data.displayHashes.set(slug, link.tokenHash);
+        }
+        if (!deps.live?.runner(slug)) {
+          reply({ ok: false, error: { code: "not_found", message: `no live layout "${slug}"` } });
+          return;
+        }
+        // Join first, then read the state: an update in between is seen twice at worst
+        // (its version is not above the state's), never missed.
+        await socket.join(room(slug));
+        reply({ ok: true, data: await deps.live.liveState(slug) });
+      } catch (err) {
+        deps.logger.warn({ err }, "live:join failed");
+        reply({ ok: false, error: { code: "internal", message: "could not read the live state" } });
+      }
+    });
+    socket.on("live:leave", (request) => {
+      void socket.leave(room(String(request?.slug ?? "")));
+    });
+  });
+
+  const onUpdate = (update: LiveUpdate) => io.to(room(update.slug)).emit("live:update", update);
+  const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number }) => {
+    const { layoutId: _layoutId, ...dto } = alarm;
+    io.to(room(alarm.slug)).emit("alarm:changed", dto);
+  };
+  const onRevoked = ({ tokenHash }: { layoutId: number; tokenHash: string }) => {
+    for (const socket of io.sockets.sockets.values()) {
+      if ([...socket.data.displayHashes.values()].includes(tokenHash)) socket.disconnect(true);
+    }
+  };
+  deps.bus.on("live.update", onUpdate);
+  deps.bus.on("alarm.changed", onAlarm);
+  deps.bus.on("display-link.revoked", onRevoked);
+
+  return {
+    io,
+    close: async () => {
+      deps.bus.off("live.update", onUpdate);
+      deps.bus.off("alarm.changed", onAlarm);
+      deps.bus.off("display-link.revoked", onRevoked);
+      await new Promise<void>((resolve) => io.close(() => resolve()));
+    },
+  };
+}

@@ -1,0 +1,200 @@
+/**
+ * Group commit of the live pipeline: one transaction per batch of inputs, with array
+ * parameters (`unnest`) so a batch of thousands of events and changes is a handful of
+ * statements (STACK.md: unnest inserts ≈170k rows/s against ≈1k for one row at a time).
+ */
+import type pg from "pg";
+import type { Change } from "../../shared/rulebook/engine";
+import type { EventKind, EventStatus } from "../../shared/contract/live";
+
+/** A session this batch opens gets a temporary key until the commit gives it an id. */
+export type SessionRef = { id: number } | { temp: number };
+
+export interface PendingEvent {
+  kind: EventKind;
+  status: EventStatus;
+  reason: string | null;
+  node: string | null;
+  boot: string | null;
+  seq: number | null;
+  detector: string | null;
+  receivedAt: number;
+  boardT: number | null;
+  topic: string | null;
+  rawPayload: string | null;
+  userId: number | null;
+  /** The engine input for ticks and commands (pulses are rebuilt from detector + time). */
+  input: unknown;
+  session: SessionRef | null;
+  changes: Change[];
+}
+
+export interface PendingAudit {
+  userId: number | null;
+  action: string;
+  target: string | null;
+  reason: string | null;
+  before: unknown;
+  after: unknown;
+}
+
+export interface PendingSnapshot {
+  rulebookVersion: number;
+  session: SessionRef | null;
+  state: unknown;
+}
+
+export interface Batch {
+  layoutId: number;
+  sessionOpens: { temp: number; openedAt: number; rulebookVersion: number | null; openedBy: number | null }[];
+  sessionCloses: { session: SessionRef; closedAt: number; reason: string }[];
+  events: PendingEvent[];
+  audits: PendingAudit[];
+  /** The layout's aspect rev after this batch, when it published anything. */
+  aspectRev: number | null;
+  /** Taken after the batch's last event. */
+  snapshot: PendingSnapshot | null;
+}
+
+export function emptyBatch(layoutId: number): Batch {
+  return { layoutId, sessionOpens: [], sessionCloses: [], events: [], audits: [], aspectRev: null, snapshot: null };
+}
+
+export function batchIsEmpty(batch: Batch): boolean {
+  return (
+    batch.events.length === 0 &&
+    batch.sessionOpens.length === 0 &&
+    batch.sessionCloses.length === 0 &&
+    batch.audits.length === 0 &&
+    batch.snapshot === null &&
+    batch.aspectRev === null
+  );
+}
+
+export interface CommitResult {
+  eventIds: string[];
+  /** temp key → session id */
+  sessionIds: Map<number, number>;
+}
+
+const json = (value: unknown) => (value === undefined ? null : JSON.stringify(value));
+
+/** Writes a batch in one transaction; throws (after ROLLBACK) if anything fails. */
+export async function commitBatch(pool: pg.Pool, batch: Batch): Promise<CommitResult> {
+  const client = await pool.connect();
+  let broken = false;
+  try {
+    await client.query("BEGIN");
+    const sessionIds = new Map<number, number>();
+    for (const open of batch.sessionOpens) {
+      const { rows } = await client.query<{ id: number }>(
+        `INSERT INTO sessions (layout_id, rulebook_version, opened_at, opened_by) VALUES ($1, $2, $3, $4) RETURNING id`,
+        [batch.layoutId, open.rulebookVersion, new Date(open.openedAt), open.openedBy],
+      );
+      sessionIds.set(open.temp, rows[0].id);
+    }
+    const resolve = (ref: SessionRef | null) => (ref === null ? null : "id" in ref ? ref.id : sessionIds.get(ref.temp)!);
+    for (const close of batch.sessionCloses) {
+      await client.query(`UPDATE sessions SET closed_at = $2, close_reason = $3 WHERE id = $1 AND closed_at IS NULL`, [
+        resolve(close.session),
+        new Date(close.closedAt),
+        close.reason,
+      ]);
+    }
+
+    let eventIds: string[] = [];
+    const events = batch.events;
+    if (events.length > 0) {
+      // Ids first, so changes can point at their events without relying on RETURNING order.
+      const ids = await client.query<{ id: string }>(`SELECT nextval('events_id_seq')::text AS id FROM generate_series(1, $1)`, [events.length]);
+      eventIds = ids.rows.map((r) => r.id);
+      await client.query(
+        `INSERT INTO events (id, layout_id, session_id, kind, status, reason, node_id, boot, seq, detector, received_at,
+                             board_t, topic, raw_payload, user_id, input)
+         SELECT id, $1, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic, raw_payload,
+                user_id, input
+           FROM unnest($2::bigint[], $3::int[], $4::text[], $5::text[], $6::text[], $7::text[], $8::text[], $9::bigint[],
+                       $10::text[], $11::timestamptz[], $12::bigint[], $13::text[], $14::text[], $15::int[], $16::jsonb[])
+             AS t(id, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic, raw_payload, user_id, input)`,
+        [
+          batch.layoutId,
+          eventIds,
+          events.map((e) => resolve(e.session)),
+          events.map((e) => e.kind),
+          events.map((e) => e.status),
+          events.map((e) => e.reason),
+          events.map((e) => e.node),
+          events.map((e) => e.boot),
+          events.map((e) => e.seq),
+          events.map((e) => e.detector),
+          events.map((e) => new Date(e.receivedAt)),
+          events.map((e) => e.boardT),
+          events.map((e) => e.topic),
+          events.map((e) => e.rawPayload),
+          events.map((e) => e.userId),
+          events.map((e) => json(e.input)),
+        ],
+      );
+      const changeEvent: string[] = [];
+      const kind: string[] = [];
+      const name: string[] = [];
+      const from: (string | null)[] = [];
+      const to: (string | null)[] = [];
+      const rule: (string | null)[] = [];
+      const command: (string | null)[] = [];
+      const detail: (string | null)[] = [];
+      events.forEach((event, i) => {
+        for (const change of event.changes) {
+          changeEvent.push(eventIds[i]);
+          kind.push(change.kind);
+          name.push(change.name);
+          from.push(json(change.from));
+          to.push(json(change.to));
+          rule.push(change.rule ?? null);
+          command.push(change.command ?? null);
+          detail.push(change.detail ?? null);
+        }
+      });
+      if (changeEvent.length > 0) {
+        await client.query(
+          `INSERT INTO changes (event_id, kind, name, from_value, to_value, rule, command, detail)
+           SELECT * FROM unnest($1::bigint[], $2::text[], $3::text[], $4::jsonb[], $5::jsonb[], $6::text[], $7::text[], $8::text[])`,
+          [changeEvent, kind, name, from, to, rule, command, detail],
+        );
+      }
+    }
+    for (const audit of batch.audits) {
+      await client.query(
+        `INSERT INTO audit_entries (layout_id, user_id, action, target, reason, before, after) VALUES ($1, $2, $3, $4, $5, $6, $7)`,
+        [batch.layoutId, audit.userId, audit.action, audit.target, audit.reason, json(audit.before), json(audit.after)],
+      );
+    }
+    if (batch.aspectRev !== null) {
+      await client.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [batch.layoutId, batch.aspectRev]);
+    }
+    if (batch.snapshot) {
+      await client.query(
+        `INSERT INTO snapshots (layout_id, session_id, rulebook_version, last_event_id, state)
+         VALUES ($1, $2, $3, COALESCE($4::bigint, (SELECT max(id) FROM events WHERE layout_id = $1), 0), $5)`,
+        [
+          batch.layoutId,
+          resolve(batch.snapshot.session),
+          batch.snapshot.rulebookVersion,
+          eventIds.length ? eventIds[eventIds.length - 1] : null,
+          json(batch.snapshot.state),
+        ],
+      );
+    }
+    await client.query("COMMIT");
+    return { eventIds, sessionIds };
+  } catch (err) {
+    try {
+      await client.query("ROLLBACK");
+    } catch {
+      broken = true; // the connection is gone: do not hand it back to the pool
+    }
+    throw err;
+  } finally {
+    client.release(broken ? true : undefined);
+  }
+}

@@ -1,0 +1,161 @@
+/**
+ * The live pipeline for tests: a real aedes broker in-process on a free port (authenticating
+ * against the test database), the runtime connected to it, the app on a real HTTP port with
+ * socket.io, and helpers for boards and browsers.
+ */
+import http from "node:http";
+import type { AddressInfo } from "node:net";
+import { randomBytes } from "node:crypto";
+import mqtt, { type MqttClient } from "mqtt";
+import type pg from "pg";
+import { io as ioClient, type Socket } from "socket.io-client";
+import { databaseAuthenticator } from "../../broker/auth";
+import { startBroker, type BrokerRefusal, type RunningBroker } from "../../broker/server";
+import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "../../shared/contract/live";
+import { attachLiveSocket } from "../../server/features/live/socket";
+import { poolFromDeps, startLiveRuntime, type LiveRuntime } from "../../server/runtime/liveRuntime";
+import type { RunnerOptions } from "../../server/runtime/runner";
+import type { TestApp } from "./testApp";
+
+export const SERVER_MQTT_USERNAME = "blocklight-server";
+
+export interface LiveHarness {
+  broker: RunningBroker;
+  runtime: LiveRuntime;
+  refusals: BrokerRefusal[];
+  mqttUrl: string;
+  httpUrl: string;
+  serverPassword: string;
+  /** Starts a fresh runtime on the same database and broker (after stop or crash). */
+  startRuntime(options?: Partial<RunnerOptions>): Promise<LiveRuntime>;
+  close(): Promise<void>;
+}
+
+export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions> = {}): Promise<LiveHarness> {
+  const serverPassword = randomBytes(12).toString("hex");
+  const authPool: pg.Pool = poolFromDeps(t.deps, 2);
+  const refusals: BrokerRefusal[] = [];
+  const broker = await startBroker({
+    port: 0,
+    authenticate: databaseAuthenticator({ pool: authPool, serverUsername: SERVER_MQTT_USERNAME, serverPassword }),
+    onRefusal: (r) => refusals.push(r),
+  });
+  const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
+  const startRuntime = async (options: Partial<RunnerOptions> = runner) => {
+    const runtime = await startLiveRuntime({
+      deps: t.deps,
+      mqtt: { url: mqttUrl, username: SERVER_MQTT_USERNAME, password: serverPassword },
+      runner: options,
+    });
+    t.deps.live = runtime;
+    t.deps.broker = runtime;
+    harness.runtime = runtime;
+    await waitFor(() => runtime.connected(), "the runtime to connect");
+    return runtime;
+  };
+  const server = http.createServer(t.app);
+  await new Promise<void>((resolve) => server.listen(0, "127.0.0.1", resolve));
+  const sockets = attachLiveSocket(server, t.deps);
+  const harness: LiveHarness = {
+    broker,
+    runtime: undefined as unknown as LiveRuntime,
+    refusals,
+    mqttUrl,
+    httpUrl: `http://127.0.0.1:${(server.address() as AddressInfo).port}`,
+    serverPassword,
+    startRuntime,
+    async close() {
+      await harness.runtime.stop().catch(() => {});
+      await sockets.close();
+      server.closeAllConnections();
+      await new Promise<void>((resolve) => server.close(() => resolve()));
+      await broker.close();
+      await authPool.end();
+    },
+  };
+  await startRuntime();
+  return harness;
+}
+
+export async function waitFor(check: () => boolean | Promise<boolean>, what: string, timeoutMs = 10_000): Promise<void> {
+  const until = Date.now() + timeoutMs;
+  while (!(await check())) {
+    if (Date.now() > until) throw new Error(`timed out waiting for ${what}`);
+    await new Promise((resolve) => setTimeout(resolve, 20));
+  }
+}
+
+/** A board: an mqtt.js client with the node's credentials, collecting aspect commands. */
+export interface Board {
+  client: MqttClient;
+  aspects: Map<string, AspectPayload>;
+  seq: number;
+  boot: string;
+  pulse(detector: string): Promise<void>;
+  publish(topic: string, payload: string | Buffer): Promise<void>;
+  end(): Promise<void>;
+}
+
+export async function connectBoard(
+  mqttUrl: string,
+  layout: string,
+  node: string,
+  secret: string,
+  options: { subscribe?: boolean; boot?: string } = {},
+): Promise<Board> {
+  const client = mqtt.connect(mqttUrl, {
+    protocolVersion: 4,
+    username: node,
+    password: secret,
+    clientId: `board-${node}-${randomBytes(3).toString("hex")}`,
+    reconnectPeriod: 0,
+    will: { topic: `blocklight/v1/${layout}/node/${node}/status`, payload: Buffer.from(JSON.stringify({ online: false })), qos: 1, retain: true },
+  });
+  await new Promise<void>((resolve, reject) => {
+    client.once("connect", () => resolve());
+    client.once("error", reject);
+  });
+  const aspects = new Map<string, AspectPayload>();
+  client.on("message", (topic, payload) => {
+    const signal = topic.split("/")[4];
+    aspects.set(signal, JSON.parse(payload.toString()));
+  });
+  if (options.subscribe) await client.subscribeAsync(`blocklight/v1/${layout}/signal/#`, { qos: 1 });
+  const board: Board = {
+    client,
+    aspects,
+    seq: 0,
+    boot: options.boot ?? randomBytes(3).toString("hex"),
+    async pulse(detector) {
+      board.seq++;
+      await client.publishAsync(`blocklight/v1/${layout}/node/${node}/pulse`, JSON.stringify({ detector, seq: board.seq, boot: board.boot }), { qos: 1 });
+    },
+    async publish(topic, payload) {
+      await client.publishAsync(topic, payload, { qos: 1 });
+    },
+    end: () => client.endAsync(),
+  };
+  return board;
+}
+
+/** A browser: a socket.io client with the session cookie of a signed-in agent (or none). */
+export async function connectBrowser(httpUrl: string, cookie?: string): Promise<{ socket: Socket<ServerToClientEvents, ClientToServerEvents>; updates: LiveUpdate[] }> {
+  const socket: Socket<ServerToClientEvents, ClientToServerEvents> = ioClient(httpUrl, {
+    transports: ["websocket"],
+    extraHeaders: cookie ? { cookie } : {},
+    reconnection: false,
+  });
+  await new Promise<void>((resolve, reject) => {
+    socket.once("connect", () => resolve());
+    socket.once("connect_error", reject);
+  });
+  const updates: LiveUpdate[] = [];
+  socket.on("live:update", (u) => updates.push(u));
+  return { socket, updates };
+}
+
+export function join(socket: Socket<ServerToClientEvents, ClientToServerEvents>, slug: string, displayToken?: string) {
+  return new Promise<{ ok: true; data: LiveState } | { ok: false; error: { code: string; message: string } }>((resolve) =>
+    socket.emit("live:join", { slug, ...(displayToken ? { displayToken } : {}) }, resolve),
+  );
+}
