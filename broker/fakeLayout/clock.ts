@@ -1,0 +1,61 @@
+/**
+ * Time for the fake layout, injected so the player can run without real time in tests.
+ * All times are scenario milliseconds; `speed` only decides how fast they pass on the wall.
+ */
+
+export type Cancel = () => void;
+
+export interface Scheduler {
+  /** Scenario milliseconds since the scheduler started. */
+  now(): number;
+  /** Runs `fn` once, `ms` scenario milliseconds from now. */
+  after(ms: number, fn: () => void): Cancel;
+}
+
+/** Real time, `speed` times faster (speed 10: one wall second is ten scenario seconds). */
+export function realScheduler(speed = 1): Scheduler {
+  const startedAt = performance.now();
+  return {
+    now: () => (performance.now() - startedAt) * speed,
+    after(ms, fn) {
+      const timer = setTimeout(fn, Math.max(0, ms / speed));
+      return () => clearTimeout(timer);
+    },
+  };
+}
+
+/** A scheduler that moves only when told to: `advanceBy` runs due timers in time order. */
+export class ManualScheduler implements Scheduler {
+  private time = 0;
+  private nextId = 0;
+  private timers: { id: number; due: number; fn: () => void }[] = [];
+
+  now(): number {
+    return this.time;
+  }
+
+  after(ms: number, fn: () => void): Cancel {
+    const id = this.nextId++;
+    this.timers.push({ id, due: this.time + Math.max(0, ms), fn });
+    return () => {
+      this.timers = this.timers.filter((t) => t.id !== id);
+    };
+  }
+
+  /** Moves time forward, running every timer that falls due on the way, earliest first. */
+  advanceBy(ms: number): void {
+    const target = this.time + ms;
+    for (;;) {
+      const due = this.timers.filter((t) => t.due <= target).sort((a, b) => a.due - b.due || a.id - b.id)[0];
+      if (!due) break;
+      this.timers = this.timers.filter((t) => t !== due);
+      this.time = Math.max(this.time, due.due);
+      due.fn();
+    }
+    this.time = target;
+  }
+
+  get pending(): number {
+    return this.timers.length;
+  }
+}

@@ -1,0 +1,440 @@
+/**
+ * The fake layout's playing core: moves the trains of a scenario along their routes and says
+ * which board reports which pulse, and when. No MQTT and no real time here: messages go out
+ * through `send`, aspects come in through `onAspect`, time comes from the injected scheduler,
+ * so tests can play a whole day in microseconds.
+ *
+ * Model (documented in the README's fake-layout section):
+ * - A route's path is its approach detectors, then entry (at the signal), then its exit
+ *   detectors. Consecutive path detectors on the same line are |Δat| metres apart; on
+ *   different lines (a branch joining the main line) CROSS_LINE_GAP_M apart.
+ * - A train appears with its leading axle LEAD_IN_M before the first detector and moves at
+ *   its own constant speed; axle k is k × axleSpacing behind the leading axle. Each axle
+ *   crossing a detector is one pulse, from the board serving that detector.
+ * - Trains obey the aspects: while their signal shows danger (or nothing is known yet) the
+ *   leading axle stops STOP_SHORT_M before the entry detector; at any other aspect it goes.
+ *   A train stops FOLLOW_GAP_M behind the last axle of the train ahead on the same track.
+ * - A train given a list of routes takes the first road with none of our trains on it, at
+ *   the moment its signal clears for it (as a "first free road" rulebook would choose).
+ */
+import type { AspectPayload, PulsePayload, ShownPayload } from "../../shared/contract/live";
+import type { LayoutFile } from "../../shared/layout/schema";
+import type { Cancel, Scheduler } from "./clock";
+import type { Scenario, ScenarioTrain } from "./scenario";
+
+export const CROSS_LINE_GAP_M = 4;
+export const LEAD_IN_M = 2;
+export const STOP_SHORT_M = 0.3;
+export const FOLLOW_GAP_M = 1;
+/** How often a train held behind a moving train looks again whether it may move on. */
+export const FOLLOW_RECHECK_MS = 250;
+export const DEFAULT_LOOP_PAUSE_S = 20;
+export const FAKE_FIRMWARE = "fake-layout-1";
+/** Two detectors closer than this along a path are treated as this far apart. */
+const MIN_GAP_M = 0.05;
+const EPS_M = 1e-9;
+/** A timer that fires this early (rounding) still counts as due. */
+const TIMER_SLACK_MS = 1;
+
+export type OutMessage =
+  | { kind: "pulse"; node: string; payload: PulsePayload }
+  | { kind: "shown"; node: string; payload: ShownPayload };
+
+export interface BoardState {
+  node: string;
+  boot: string;
+  /** Scenario time at power-up; `t` of a pulse is wall milliseconds since then. */
+  bootAt: number;
+  seq: number;
+  detectors: string[];
+  signals: string[];
+}
+
+export type TrainEvent =
+  | { type: "appears"; train: number; name: string; route: string }
+  | { type: "waits"; train: number; name: string; signal: string }
+  | { type: "proceeds"; train: number; name: string; signal: string; aspect: string }
+  | { type: "takes-road"; train: number; name: string; route: string }
+  | { type: "leaves"; train: number; name: string }
+  | { type: "day-over"; cycle: number };
+
+export interface PlayerOptions {
+  layout: LayoutFile;
+  scenario: Scenario;
+  scheduler: Scheduler;
+  send: (message: OutMessage) => void;
+  /** Wall-clock speed-up, used only to turn scenario time into the boards' `t`. */
+  speed?: number;
+  /** Start the day again once every train has left. */
+  loop?: boolean;
+  /** A fresh boot id per board (random by default). */
+  newBoot?: () => string;
+  onEvent?: (event: TrainEvent) => void;
+}
+
+interface PathDetector {
+  id: string;
+  /** Metres from the first detector of the path. */
+  pos: number;
+  node: string;
+}
+
+interface RoutePath {
+  id: string;
+  signal: string;
+  /** Index of the entry detector in `detectors`. */
+  entryIndex: number;
+  detectors: PathDetector[];
+}
+
+interface Train {
+  no: number;
+  name: string;
+  /** Candidate paths; the first until a road is chosen. All share approach and entry. */
+  candidates: RoutePath[];
+  path: RoutePath;
+  roadChosen: boolean;
+  axles: number;
+  spacing: number;
+  /** Metres per scenario millisecond. */
+  speed: number;
+  /** Position of the leading axle on the path, metres. */
+  lead: number;
+  /** Per axle, the index of the next detector it will cross. */
+  next: number[];
+  /** The furthest the leading axle may go now (recomputed after every event). */
+  limit: number;
+  limitedBy: "none" | "signal" | "train";
+  waitingReported: boolean;
+}
+
+interface Spawn {
+  at: number;
+  spec: ScenarioTrain;
+  index: number;
+}
+
+function randomBoot(): string {
+  return Math.floor(Math.random() * 0xffffffff)
+    .toString(16)
+    .padStart(8, "0");
+}
+
+/** Builds every route's path with distances, from the layout's detector positions. */
+export function routePaths(layout: LayoutFile): Map<string, RoutePath> {
+  const detectors = new Map(layout.detectors.map((d) => [d.id, d]));
+  const nodeOf = new Map(layout.nodes.flatMap((n) => n.detectors.map((d) => [d, n.id] as const)));
+  const paths = new Map<string, RoutePath>();
+  for (const route of (layout.rulebook.proving?.routes ?? [])) {
+    const ids = [...route.approach, route.entry, ...route.exit];
+    const out: PathDetector[] = [];
+    ids.forEach((detectorId, i) => {
+      const here = detectors.get(detectorId);
+      let pos = 0;
+      if (i > 0) {
+        const before = detectors.get(ids[i - 1]);
+        const gap = here && before && here.line === before.line ? Math.abs(here.at - before.at) : CROSS_LINE_GAP_M;
+        pos = out[i - 1].pos + Math.max(gap, MIN_GAP_M);
+      }
+      out.push({ id: detectorId, pos, node: nodeOf.get(detectorId) ?? "" });
+    });
+    paths.set(route.id, { id: route.id, signal: route.signal, entryIndex: route.approach.length, detectors: out });
+  }
+  return paths;
+}
+
+export class FakeLayoutPlayer {
+  readonly boards: BoardState[];
+  private readonly paths: Map<string, RoutePath>;
+  private readonly aspects = new Map<string, { aspect: string; rev: number }>();
+  private readonly shownRev = new Map<string, number>();
+  private trains: Train[] = [];
+  private spawns: Spawn[] = [];
+  private trainCount = 0;
+  private cycle = 0;
+  private cycleEndsAt: number | null = null;
+  private lastTime = 0;
+  private cancelTimer: Cancel | null = null;
+  private running = false;
+  private advancing = false;
+  private readonly speed: number;
+
+  constructor(private readonly options: PlayerOptions) {
+    this.speed = options.speed ?? 1;
+    this.paths = routePaths(options.layout);
+    const newBoot = options.newBoot ?? randomBoot;
+    const now = options.scheduler.now();
+    this.boards = options.layout.nodes.map((n) => ({
+      node: n.id,
+      boot: newBoot(),
+      bootAt: now,
+      seq: 0,
+      detectors: [...n.detectors],
+      signals: [...n.signals],
+    }));
+  }
+
+  /** Powers up the boards and starts the day. */
+  start(): void {
+    this.running = true;
+    this.lastTime = this.options.scheduler.now();
+    this.startCycle(this.lastTime);
+    this.run();
+  }
+
+  stop(): void {
+    this.running = false;
+    this.cancelTimer?.();
+    this.cancelTimer = null;
+  }
+
+  /** The trains on the layout now, for logs and tests. */
+  snapshot(): { no: number; name: string; route: string; lead: number; stopped: boolean }[] {
+    return this.trains.map((t) => ({ no: t.no, name: t.name, route: t.path.id, lead: t.lead, stopped: t.limit <= t.lead + EPS_M }));
+  }
+
+  /**
+   * An aspect command reached board `node` (every board subscribes to the layout's signals).
+   * Trains see the newest aspect at once; the board serving the signal reports it shown.
+   */
+  onAspect(node: string, signal: string, payload: AspectPayload): void {
+    if (this.advancing) {
+      // Called back from inside `send` (a synchronous transport): take it after this step.
+      queueMicrotask(() => this.onAspect(node, signal, payload));
+      return;
+    }
+    const known = this.aspects.get(signal);
+    if (!known || payload.rev >= known.rev) {
+      this.advanceTo(this.options.scheduler.now());
+      this.aspects.set(signal, { aspect: payload.aspect, rev: payload.rev });
+      if (payload.aspect !== "danger" && known?.aspect !== payload.aspect) this.chooseRoads(signal);
+      this.updateLimits();
+    }
+    const board = this.boards.find((b) => b.node === node);
+    const key = `${node}/${signal}`;
+    if (board?.signals.includes(signal) && payload.rev >= (this.shownRev.get(key) ?? -1)) {
+      this.shownRev.set(key, payload.rev);
+      this.options.send({ kind: "shown", node, payload: { signal, aspect: payload.aspect, rev: payload.rev } });
+    }
+    if (this.running) this.run();
+  }
+
+  private aspectOf(signal: string): string {
+    return this.aspects.get(signal)?.aspect ?? "dark";
+  }
+
+  private startCycle(at: number): void {
+    this.cycle++;
+    this.cycleEndsAt = null;
+    const spawns: Spawn[] = [];
+    this.options.scenario.trains.forEach((spec, index) => {
+      const count = spec.repeat?.count ?? 1;
+      for (let i = 0; i < count; i++) spawns.push({ at: at + (spec.startS + i * (spec.repeat?.everyS ?? 0)) * 1000, spec, index });
+    });
+    this.spawns = spawns.sort((a, b) => a.at - b.at || a.index - b.index);
+  }
+
+  /** Plays every event up to now, then sleeps until the next one. */
+  private run(): void {
+    this.cancelTimer?.();
+    this.cancelTimer = null;
+    if (!this.running) return;
+    const now = this.options.scheduler.now();
+    this.advanceTo(now);
+    const next = this.nextEventTime();
+    if (next === null) return;
+    this.cancelTimer = this.options.scheduler.after(Math.max(0, next - now), () => {
+      this.cancelTimer = null;
+      this.run();
+    });
+  }
+
+  /** Processes events in time order up to `now` (plus timer slack). */
+  private advanceTo(now: number): void {
+    this.advancing = true;
+    try {
+      this.advanceSteps(now);
+    } finally {
+      this.advancing = false;
+    }
+  }
+
+  private advanceSteps(now: number): void {
+    for (let guard = 0; guard < 100_000; guard++) {
+      const next = this.nextEventTime();
+      if (next === null || next > now + TIMER_SLACK_MS) break;
+      this.moveTo(Math.max(next, this.lastTime));
+      this.handleEventsAt(this.lastTime);
+    }
+    if (now > this.lastTime) this.moveTo(now);
+  }
+
+  /** Moves every train to time `t`, each no further than its limit. */
+  private moveTo(t: number): void {
+    const dt = t - this.lastTime;
+    if (dt <= 0) return;
+    for (const train of this.trains) {
+      if (train.limit > train.lead) train.lead = Math.min(train.limit, train.lead + train.speed * dt);
+    }
+    this.lastTime = t;
+  }
+
+  private nextEventTime(): number | null {
+    let best: number | null = null;
+    const consider = (t: number) => {
+      if (best === null || t < best) best = t;
+    };
+    if (this.spawns.length) consider(this.spawns[0].at);
+    if (this.cycleEndsAt !== null) consider(this.cycleEndsAt);
+    for (const train of this.trains) {
+      const room = train.limit - train.lead;
+      if (room > EPS_M) {
+        for (let k = 0; k < train.axles; k++) {
+          const index = train.next[k];
+          if (index >= train.path.detectors.length) continue;
+          const distance = train.path.detectors[index].pos - (train.lead - k * train.spacing);
+          if (distance <= room + EPS_M) consider(this.lastTime + Math.max(0, distance) / train.speed);
+        }
+        if (Number.isFinite(room)) consider(this.lastTime + room / train.speed);
+      } else if (train.limitedBy === "train" && this.isMoving(this.trainAhead(train))) {
+        consider(this.lastTime + FOLLOW_RECHECK_MS);
+      }
+    }
+    return best;
+  }
+
+  private handleEventsAt(t: number): void {
+    while (this.spawns.length && this.spawns[0].at <= t + TIMER_SLACK_MS) this.appear(this.spawns.shift()!);
+    if (this.cycleEndsAt !== null && this.cycleEndsAt <= t + TIMER_SLACK_MS) this.startCycle(t);
+    this.crossDetectors(t);
+    this.trains = this.trains.filter((train) => {
+      const gone = train.next[train.axles - 1] >= train.path.detectors.length;
+      if (gone) this.options.onEvent?.({ type: "leaves", train: train.no, name: train.name });
+      return !gone;
+    });
+    this.updateLimits();
+    if (!this.trains.length && !this.spawns.length && this.cycleEndsAt === null) {
+      this.options.onEvent?.({ type: "day-over", cycle: this.cycle });
+      if (this.options.loop) this.cycleEndsAt = t + (this.options.scenario.loopPauseS ?? DEFAULT_LOOP_PAUSE_S) * 1000;
+    }
+  }
+
+  private appear(spawn: Spawn): void {
+    const routeIds = typeof spawn.spec.route === "string" ? [spawn.spec.route] : spawn.spec.route;
+    const candidates = routeIds.map((id) => {
+      const path = this.paths.get(id);
+      if (!path) throw new Error(`no route "${id}" on ${this.options.layout.slug}`);
+      return path;
+    });
+    const no = ++this.trainCount;
+    const name = spawn.spec.name ?? `Train ${no}`;
+    const lead = -LEAD_IN_M;
+    this.trains.push({
+      no,
+      name,
+      candidates,
+      path: candidates[0],
+      roadChosen: candidates.length === 1,
+      axles: spawn.spec.axles,
+      spacing: spawn.spec.axleSpacingM,
+      speed: spawn.spec.speedMps / 1000,
+      lead,
+      next: Array.from({ length: spawn.spec.axles }, () => 0),
+      limit: lead,
+      limitedBy: "none",
+      waitingReported: false,
+    });
+    this.options.onEvent?.({ type: "appears", train: no, name, route: routeIds.join("|") });
+    this.updateLimits();
+  }
+
+  /** Every axle that has reached its next detector pulses there, front train and axle first. */
+  private crossDetectors(t: number): void {
+    for (const train of this.trains) {
+      for (let k = 0; k < train.axles; k++) {
+        const position = train.lead - k * train.spacing;
+        while (train.next[k] < train.path.detectors.length && position >= train.path.detectors[train.next[k]].pos - EPS_M) {
+          const index = train.next[k];
+          if (k === 0 && index === train.path.entryIndex && !train.roadChosen) this.chooseRoad(train);
+          this.pulse(train.path.detectors[index], t);
+          train.next[k] = index + 1;
+        }
+      }
+    }
+  }
+
+  private pulse(detector: PathDetector, t: number): void {
+    const board = this.boards.find((b) => b.node === detector.node);
+    if (!board) return;
+    board.seq += 1;
+    this.options.send({
+      kind: "pulse",
+      node: board.node,
+      payload: { detector: detector.id, seq: board.seq, boot: board.boot, t: Math.max(0, Math.round((t - board.bootAt) / this.speed)) },
+    });
+  }
+
+  private updateLimits(): void {
+    for (const train of this.trains) {
+      let limit = Infinity;
+      let limitedBy: Train["limitedBy"] = "none";
+      const beforeEntry = train.next[0] <= train.path.entryIndex;
+      const signal = train.path.signal;
+      // "dark" (nothing heard yet) is treated as danger: fail-safe.
+      const aspect = this.aspectOf(signal);
+      if (beforeEntry && (aspect === "danger" || aspect === "dark")) {
+        limit = train.path.detectors[train.path.entryIndex].pos - STOP_SHORT_M;
+        limitedBy = "signal";
+      }
+      const ahead = this.trainAhead(train);
+      if (ahead) {
+        const tail = ahead.lead - (ahead.axles - 1) * ahead.spacing - FOLLOW_GAP_M;
+        if (tail < limit) {
+          limit = tail;
+          limitedBy = "train";
+        }
+      }
+      // A train never backs up: a limit behind it just means "stand".
+      train.limit = Math.max(train.lead, limit);
+      train.limitedBy = limitedBy;
+      const atSignal = limitedBy === "signal" && train.limit <= train.lead + EPS_M;
+      if (atSignal && !train.waitingReported) {
+        train.waitingReported = true;
+        this.options.onEvent?.({ type: "waits", train: train.no, name: train.name, signal });
+      } else if (train.waitingReported && limitedBy !== "signal") {
+        train.waitingReported = false;
+        this.options.onEvent?.({ type: "proceeds", train: train.no, name: train.name, signal, aspect: this.aspectOf(signal) });
+      }
+    }
+  }
+
+  private isMoving(train: Train | null): boolean {
+    return train !== null && train.limit > train.lead + EPS_M;
+  }
+
+  /** The nearest earlier train still on the same track (same first detector). */
+  private trainAhead(train: Train): Train | null {
+    let ahead: Train | null = null;
+    for (const other of this.trains) {
+      if (other.no >= train.no) continue;
+      if (other.path.detectors[0].id !== train.path.detectors[0].id) continue;
+      if (!ahead || other.no > ahead.no) ahead = other;
+    }
+    return ahead;
+  }
+
+  /** The signal cleared: the front train waiting for it that has a choice takes the first free road. */
+  private chooseRoads(signal: string): void {
+    const front = this.trains
+      .filter((t) => t.path.signal === signal && t.next[0] <= t.path.entryIndex)
+      .sort((a, b) => a.no - b.no)[0];
+    if (front && !front.roadChosen) this.chooseRoad(front);
+  }
+
+  private chooseRoad(train: Train): void {
+    const busy = new Set(this.trains.filter((t) => t !== train && t.roadChosen && t.next[0] > t.path.entryIndex).map((t) => t.path.id));
+    train.path = train.candidates.find((p) => !busy.has(p.id)) ?? train.candidates[0];
+    train.roadChosen = true;
+    this.options.onEvent?.({ type: "takes-road", train: train.no, name: train.name, route: train.path.id });
+  }
+}
