@@ -3,6 +3,7 @@
  * on the bus (pulses and latch/counter changes) plus a clock tick, and turns their answers
  * into alarms through the alarm service. Stoppable; one per process.
  */
+import { QueryTypes } from "sequelize";
 import type { LiveUpdate } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { findLayout, liveRulebookVersion } from "../layouts/service";
@@ -98,9 +99,9 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
 
   // Layouts already live are watched from the start, not only after their first pulse.
   void deps.db.sequelize
-    .query<{ slug: string }>(`SELECT slug FROM layouts WHERE live_version IS NOT NULL`, { type: "SELECT" as never })
+    .query<{ slug: string }>(`SELECT slug FROM layouts WHERE live_version IS NOT NULL`, { type: QueryTypes.SELECT })
     .then((rows) => {
-      for (const { slug } of rows as unknown as { slug: string }[]) void load(slug);
+      for (const { slug } of rows) void load(slug);
     })
     .catch((err) => deps.logger.warn({ err }, "alarm watchers could not list layouts"));
 
