@@ -21,6 +21,7 @@ async function main(): Promise<void> {
   if (!config.databaseUrl) throw new Error("DATABASE_URL must be set: the broker checks node secrets against the database");
   const serverPassword = config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
   const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 4 });
+  pool.on("error", (err) => logger.warn({ err }, "database connection lost; the next login reconnects"));
   const broker = await startBroker({
     port: config.mqttPort,
     host: process.env.MQTT_HOST ?? "127.0.0.1",

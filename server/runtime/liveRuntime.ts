@@ -31,6 +31,8 @@ export interface LiveRuntimeOptions {
 
 export interface LiveRuntime {
   connected(): boolean;
+  /** Board messages received but not yet acknowledged to the broker (not yet committed). */
+  pendingAcks(): number;
   runner(slug: string): LayoutRunner | undefined;
   liveState(slug: string): Promise<LiveState>;
   command(slug: string, body: CommandBody, user: CommandUser): Promise<LiveState>;
@@ -152,6 +154,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
 
   return {
     connected: () => client.connected,
+    pendingAcks: () => acks.pending(),
     runner: (slug) => runners.get(slug),
     liveState: (slug) => need(slug).liveState(),
     async command(slug, body, user) {

@@ -34,6 +34,7 @@ export interface LiveHarness {
 export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions> = {}): Promise<LiveHarness> {
   const serverPassword = randomBytes(12).toString("hex");
   const authPool: pg.Pool = poolFromDeps(t.deps, 2);
+  authPool.on("error", () => {}); // connections ended by an outage test
   const refusals: BrokerRefusal[] = [];
   const broker = await startBroker({
     port: 0,
