@@ -7,6 +7,8 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ROLES, type Role } from "../../shared/contract/rest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
 import { startTestApp, type TestApp } from "../support/testApp";
+import { startLiveHarness, type LiveHarness } from "../support/live";
+import { raiseAlarm } from "../../server/features/alarms/service";
 
 type Method = "get" | "post" | "delete";
 interface RouteCase {
@@ -49,16 +51,47 @@ const ROUTES: RouteCase[] = [
     allowed: EVERYONE,
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
   },
+  // Live pipeline (the matrix's beforeAll starts a broker and runtime, one alarm, one display link, one session)
+  { method: "get", path: "/api/layouts/kestrel-bank/live", allowed: EVERYONE },
+  {
+    method: "post",
+    path: "/api/layouts/kestrel-bank/commands",
+    allowed: ["signaller", "admin"],
+    body: () => ({ type: "hold", signal: "M1", reason: "matrix check" }),
+  },
+  { method: "post", path: "/api/layouts/kestrel-bank/sessions", allowed: ["signaller", "admin"], body: () => ({ action: "open" }) },
+  { method: "get", path: "/api/layouts/kestrel-bank/sessions", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/events?format=jsonl", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/events?format=csv", allowed: EVERYONE },
+  { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", allowed: EVERYONE },
+  {
+    method: "post",
+    path: "/api/alarms/1/acknowledge",
+    allowed: ["signaller", "maintainer", "admin"],
+    body: (role) => ({ comment: `seen by the ${role}` }),
+  },
+  { method: "post", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"], body: () => ({ label: "matrix" }), okStatus: 201 },
+  { method: "get", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"] },
+  { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", allowed: ["admin"], okStatus: 204 },
 ];
 
 describe("route × role matrix", () => {
   let t: TestApp;
+  let live: LiveHarness;
   const agents = new Map<Role, Awaited<ReturnType<TestApp["signIn"]>>>();
   beforeAll(async () => {
     t = await startTestApp();
     for (const role of ROLES) agents.set(role, await t.signIn(role));
+    live = await startLiveHarness(t);
+    const layout = await t.deps.db.models.Layout.findOne({ where: { slug: "kestrel-bank" } });
+    await raiseAlarm(t.deps, { layoutId: layout!.id, kind: "node-offline", subject: "junction", message: "matrix alarm" });
+    await live.runtime.session("kestrel-bank", "open", { id: 1, name: "matrix" });
+    await agents.get("admin")!.post("/api/layouts/kestrel-bank/display-links").send({ label: "matrix link 1" });
   });
-  afterAll(() => t.close());
+  afterAll(async () => {
+    await live?.close();
+    await t.close();
+  });
 
   const rows = ROUTES.flatMap((route) => [
     { route, role: "anonymous" as const },

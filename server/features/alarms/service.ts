@@ -6,7 +6,7 @@
 import { QueryTypes } from "sequelize";
 import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
-import { HttpError, notFound } from "../../http/errors";
+import { notFound } from "../../http/errors";
 
 export interface RaiseAlarmInput {
   layoutId: number;
@@ -94,10 +94,12 @@ export async function raiseAlarm(deps: AppDeps, input: RaiseAlarmInput): Promise
   return { alarm: created ? announce(deps, row) : toAlarmDto(row), created };
 }
 
+/** Records who acknowledged an alarm and why; acknowledging it again changes nothing. */
 export async function acknowledgeAlarm(deps: AppDeps, id: number, userId: number, comment: string | null): Promise<AlarmDto> {
   const existing = await readAlarm(deps, id);
   if (!existing) throw notFound(`alarm ${id}`);
-  if (existing.acknowledged_at) throw new HttpError(409, "conflict", "this alarm is acknowledged already");
+  // Two people acknowledging at once both succeed; the first one is recorded.
+  if (existing.acknowledged_at) return toAlarmDto(existing);
   await deps.db.sequelize.query(
     `UPDATE alarms SET acknowledged_at = now(), acknowledged_by = :userId, ack_comment = :comment WHERE id = :id`,
     { replacements: { id, userId, comment } },
