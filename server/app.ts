@@ -17,6 +17,7 @@ import { simulateRoutes } from "./features/simulate/routes";
 import { alarmRoutes } from "./features/alarms/routes";
 import { liveRoutes } from "./features/live/routes";
 import { sessionRoutes } from "./features/sessions/routes";
+import { proveRoutes } from "./features/prove/routes";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics and simulator input lists stay well under this. */
@@ -34,6 +35,7 @@ export const API_ROUTERS: ApiRouterFactory[] = [
   alarmRoutes,
   liveRoutes,
   sessionRoutes,
+  proveRoutes,
 ];
 
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {

@@ -11,6 +11,8 @@ import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostg
 import { seedDemo } from "./db/seed/demo";
 import type { AppDeps } from "./deps";
 import { attachLiveSocket } from "./features/live/socket";
+import { attachProofSocket } from "./features/prove/socket";
+import { closeProofJobs } from "./features/prove/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
 import { loadOrCreateSecret } from "./secrets";
@@ -82,6 +84,11 @@ async function main(): Promise<void> {
   cleanups.push(() => new Promise<void>((resolve) => server.close(() => resolve())));
   const sockets = attachLiveSocket(server, deps);
   cleanups.push(() => sockets.close());
+  const proofSockets = attachProofSocket(sockets.io, deps);
+  cleanups.push(async () => {
+    proofSockets.close();
+    await closeProofJobs(deps);
+  });
   const url = `http://${config.host}:${config.port}`;
   logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
   process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);

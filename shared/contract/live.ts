@@ -5,6 +5,7 @@
  */
 import { z } from "zod";
 import { aspectSchema, idSchema, nameSchema, type Aspect, type ShownAspect } from "../rulebook/schema";
+import type { ProofJobDto, ProofProgressDto } from "./rest";
 
 // ───────────────────────────── MQTT (CONTRACT.md §2) ─────────────────────────────
 
@@ -177,12 +178,19 @@ export interface ServerToClientEvents {
   "live:state": (state: LiveState) => void;
   "live:update": (update: LiveUpdate) => void;
   "alarm:changed": (alarm: AlarmDto & { slug: string }) => void;
+  /** A running proof job's search size, a few times a second, to the room `proof:<jobId>`. */
+  "proof:progress": (update: { jobId: string; progress: ProofProgressDto }) => void;
+  /** A proof job ended (done, cancelled or failed), to the room `proof:<jobId>`. */
+  "proof:done": (job: ProofJobDto) => void;
 }
 
 export interface ClientToServerEvents {
   /** Join a layout's room; the ack carries the full state to start from. */
   "live:join": (request: { slug: string; displayToken?: string }, ack: (reply: Ack<LiveState>) => void) => void;
   "live:leave": (request: { slug: string }) => void;
+  /** Follow a proof job (signed in only); the ack carries the job as it stands. */
+  "proof:watch": (request: { jobId: string }, ack: (reply: Ack<ProofJobDto>) => void) => void;
+  "proof:unwatch": (request: { jobId: string }) => void;
 }
 
 export type { Aspect, ShownAspect };

@@ -127,3 +127,76 @@ export interface RulebookVersionResponse {
 export interface PublishResponse {
   version: number;
 }
+
+// ───────────────────────────── proofs (CONTRACT.md §5, §6) ─────────────────────────────
+
+/** One move of a counterexample (CONTRACT.md §5); trains are numbered from 1 in order of arrival. */
+export type ProofMoveDto =
+  | { type: "arrive"; route: string; axles: number }
+  | { type: "pulse"; detector: string; route: string; train: number }
+  | { type: "quiet"; rule: string };
+
+export interface ProofPropertyDto {
+  id: string;
+  /** true: proved; false: refuted (see `counterexample`); null: not decided before a limit. */
+  holds: boolean | null;
+  counterexample?: ProofMoveDto[];
+  detail?: string;
+}
+
+/**
+ * Reply to `POST /api/prove`, and a finished proof job's result. "unfinished" (with a
+ * `reason`) when the state or time limit was reached or the proof was cancelled.
+ */
+export interface ProofResultDto {
+  verdict: "proved" | "refuted" | "unfinished";
+  properties: ProofPropertyDto[];
+  stats: { states: number; ms: number; transitions?: number };
+  reason?: string;
+}
+
+/** What `rulebook_versions.proof` holds: the result, when and by whom, and the limits used. */
+export interface StoredProofDto extends ProofResultDto {
+  provedAt: string;
+  by: string | null;
+  limits: { maxStates: number; maxMs: number };
+}
+
+export interface ProofProgressDto {
+  states: number;
+  frontier: number;
+  depth: number;
+}
+
+export type ProofJobState = "queued" | "running" | "done" | "cancelled" | "failed";
+
+/** A proof job of a stored rulebook version, as `GET /api/proofs/:jobId` and the socket show it. */
+export interface ProofJobDto {
+  jobId: string;
+  slug: string;
+  version: number;
+  state: ProofJobState;
+  progress: ProofProgressDto | null;
+  /** Set when the job has ended (for "cancelled", an "unfinished" verdict). */
+  result: ProofResultDto | null;
+  /** The version's status after the job (draft → proved when every property holds). */
+  status: RulebookStatus | null;
+  error: string | null;
+  startedAt: string;
+  finishedAt: string | null;
+}
+
+/** Reply to `POST /api/layouts/:slug/rulebooks/:version/proofs` (202). */
+export interface StartProofResponse {
+  jobId: string;
+}
+
+/** Reply to `GET /api/proofs/:jobId` and `DELETE /api/proofs/:jobId`. */
+export interface ProofJobResponse {
+  job: ProofJobDto;
+}
+
+/** Reply to `GET /api/layouts/:slug/proofs`: the jobs of a layout that are still running. */
+export interface ProofJobsResponse {
+  jobs: ProofJobDto[];
+}

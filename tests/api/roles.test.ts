@@ -51,6 +51,12 @@ const ROUTES: RouteCase[] = [
     allowed: EVERYONE,
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
   },
+  // Proving (a job of the published version never changes its status; unknown job ids are 404 past the role check)
+  { method: "post", path: "/api/prove", allowed: EVERYONE, body: () => kestrelBankLayout() },
+  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/proofs", allowed: ["engineer", "admin"], okStatus: 202 },
+  { method: "get", path: "/api/layouts/kestrel-bank/proofs", allowed: EVERYONE },
+  { method: "get", path: "/api/proofs/00000000-0000-4000-8000-000000000000", allowed: EVERYONE, okStatus: 404 },
+  { method: "delete", path: "/api/proofs/00000000-0000-4000-8000-000000000000", allowed: ["engineer", "admin"], okStatus: 404 },
   // Live pipeline (the matrix's beforeAll starts a broker and runtime, one alarm, one display link, one session)
   { method: "get", path: "/api/layouts/kestrel-bank/live", allowed: EVERYONE },
   {
