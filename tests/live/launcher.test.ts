@@ -1,0 +1,84 @@
+/**
+ * The launcher as a user runs it: a fresh data directory, free ports, DEMO off. It must bring
+ * the server up against its own PostgreSQL and, on SIGTERM, leave nothing running behind.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs";
+import os from "node:os";
+import path from "node:path";
+import { afterAll, describe, expect, it } from "vitest";
+import { freePort } from "../../server/db/embeddedPostgres";
+
+const ROOT = path.resolve(__dirname, "../..");
+const UP_TIMEOUT_MS = 60_000;
+const STOP_TIMEOUT_MS = 30_000;
+
+/** Processes whose command line mentions `text` (read from /proc; zombies are not running). */
+function processesMentioning(text: string): { pid: number; cmd: string }[] {
+  const found: { pid: number; cmd: string }[] = [];
+  for (const entry of fs.readdirSync("/proc")) {
+    if (!/^\d+$/.test(entry)) continue;
+    try {
+      const stat = fs.readFileSync(`/proc/${entry}/stat`, "utf8");
+      const state = stat.slice(stat.lastIndexOf(")") + 2, stat.lastIndexOf(")") + 3);
+      if (state === "Z") continue;
+      const cmd = fs.readFileSync(`/proc/${entry}/cmdline`, "utf8").replaceAll("\0", " ");
+      if (cmd.includes(text)) found.push({ pid: Number(entry), cmd });
+    } catch {
+      /* gone while we looked */
+    }
+  }
+  return found;
+}
+
+async function waitForDbUp(url: string, child: ChildProcess): Promise<unknown> {
+  const deadline = Date.now() + UP_TIMEOUT_MS;
+  while (Date.now() < deadline && child.exitCode === null) {
+    try {
+      const body = (await (await fetch(url, { signal: AbortSignal.timeout(2_000) })).json()) as { db?: string };
+      if (body.db === "up") return body;
+    } catch {
+      /* not yet */
+    }
+    await new Promise((resolve) => setTimeout(resolve, 250));
+  }
+  throw new Error(`no healthy server at ${url} (launcher exit code ${child.exitCode})`);
+}
+
+describe("npm start's launcher", () => {
+  const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), "blocklight-launcher-"));
+  let launcher: ChildProcess | null = null;
+  let output = "";
+
+  afterAll(() => {
+    if (launcher && launcher.exitCode === null) launcher.kill("SIGKILL");
+    fs.rmSync(dataDir, { recursive: true, force: true });
+  });
+
+  it(
+    "serves with its own PostgreSQL and leaves no PostgreSQL running after SIGTERM",
+    async () => {
+      const [port, mqttPort, pgPort] = [await freePort(), await freePort(), await freePort()];
+      const env: NodeJS.ProcessEnv = { ...process.env, DATA_DIR: dataDir, PORT: String(port), MQTT_PORT: String(mqttPort), PG_PORT: String(pgPort), DEMO: "off" };
+      delete env.DATABASE_URL;
+      delete env.MQTT_URL;
+      launcher = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "server/launcher.ts")], { cwd: ROOT, env, stdio: ["ignore", "pipe", "pipe"] });
+      launcher.stdout!.on("data", (chunk: Buffer) => (output += chunk.toString()));
+      launcher.stderr!.on("data", (chunk: Buffer) => (output += chunk.toString()));
+
+      const health = await waitForDbUp(`http://127.0.0.1:${port}/api/health`, launcher).catch((err: Error) => {
+        throw new Error(`${err.message}\n${output}`);
+      });
+      expect(health).toMatchObject({ db: "up" });
+      expect(processesMentioning(path.join(dataDir, "pg")).length).toBeGreaterThan(0);
+
+      const exited = new Promise<number | null>((resolve) => launcher!.once("exit", (code) => resolve(code)));
+      launcher.kill("SIGTERM");
+      const code = await Promise.race([exited, new Promise<"timeout">((resolve) => setTimeout(() => resolve("timeout"), STOP_TIMEOUT_MS))]);
+      expect(code, output).toBe(0);
+      expect(output).toContain("PostgreSQL stopped");
+      expect(processesMentioning(dataDir)).toEqual([]);
+    },
+    UP_TIMEOUT_MS + STOP_TIMEOUT_MS + 10_000,
+  );
+});
