@@ -183,12 +183,21 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
     emit(`    /* standing rule ${commentSafe(rule.id)} */`);
     emit(`    if`);
     emit(`    :: (!${P}found && ${cond(rule.if)}) ->`);
-    emit(`      ${stateVars.map((v) => `old_${v} = ${v}`).join("; ") || "skip"};`);
+    // Only what the actions write can change: snapshot just that (keeps pan.c small).
+    const written = [
+      ...new Set(
+        rule.do.flatMap((a) =>
+          "set" in a ? [latch(a.set)] : "clear" in a ? [latch(a.clear)] : "add" in a ? [counter(a.add)] : "zero" in a ? [counter(a.zero)]
+          : "select" in a ? [selector(a.select)] : "show" in a ? [wanted(a.show)] : [],
+        ),
+      ),
+    ];
+    emit(`      ${written.map((v) => `${P}old_${v} = ${v}`).join("; ") || "skip"};`);
     emit(`      ${P}uf_before = ${P}uf;`);
     emit(`      ${actions(rule.do)};`);
-    const same = stateVars.map((v) => `${P}old_${v} == ${v}`).join(" && ") || "1";
+    const same = written.map((v) => `${P}old_${v} == ${v}`).join(" && ") || "1";
     // A 65th run does not happen: the state after 64 runs is kept and the rulebook faults.
-    const restore = stateVars.map((v) => `${v} = ${P}old_${v}`).join("; ") || "skip";
+    const restore = written.map((v) => `${v} = ${P}old_${v}`).join("; ") || "skip";
     emit(`      if`);
     emit(`      :: (${same}) -> ${P}uf = ${P}uf_before`);
     emit(`      :: else -> ${P}found = 1;`);

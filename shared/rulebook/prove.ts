@@ -19,7 +19,7 @@
  * const result = prove(rulebook, { maxStates: 1_000_000 });
  * if (result.verdict === "refuted") console.log(result.properties.find((p) => p.holds === false));
  */
-import { initialState, shownAspects, step, type Change, type EngineInput, type EngineState } from "./engine";
+import { initialStep, shownAspects, step, type Change, type EngineInput, type EngineState } from "./engine";
 import type { Aspect, Rulebook } from "./schema";
 
 /** The properties of CONTRACT.md §5, in the order results are reported. */
@@ -650,12 +650,15 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   };
 
   cur.fill(0);
-  const startEngine = internEngine(initialState(rulebook, 0));
+  const start = initialStep(rulebook, 0);
+  const startEngine = internEngine(start.state);
   table.findOrAdd(startEngine, cur);
   parent.push(-1);
   moveOf.push(-1);
   depthOf.push(0);
   examine(0, startEngine, cur);
+  // The first settle can itself drive a counter below zero: then the counterexample is empty.
+  if (start.changes.some(isUnderflowChange)) firstBad.set("no-underflow", { state: 0 });
 
   let stopReason: string | undefined;
   for (let id = 0; id < table.size; id++) {
@@ -955,7 +958,8 @@ export function replayCounterexample(rulebook: Rulebook, moves: Move[]): Replay 
   const routeIndex = new Map(model.routes.map((r) => [r.id, r.index]));
   const queues: NumberedTrain[][] = model.routes.map(() => []);
   let arrivals = 0;
-  let state = initialState(rulebook, 0);
+  const start = initialStep(rulebook, 0);
+  let state = start.state;
   const initial = state;
   const view = (): TrainView[] =>
     queues.flatMap((q, r) =>
@@ -973,7 +977,7 @@ export function replayCounterexample(rulebook: Rulebook, moves: Move[]): Replay 
     if (priorityHindered(model, trainsNow(), facts.proceedMask)) out.push("priority-unhindered");
     return out;
   };
-  const initialViolates = stateViolations([]).filter((p) => p !== "no-stuck-train");
+  const initialViolates = stateViolations(start.changes).filter((p) => p !== "no-stuck-train");
 
   const steps = moves.map((move, index): ReplayStep => {
     const where = `move ${index + 1} (${JSON.stringify(move)})`;

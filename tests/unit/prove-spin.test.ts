@@ -1,0 +1,173 @@
+/**
+ * Cross-check of the prover against an independent model checker: SPIN 6.5.2 (Debian package
+ * `spin`), run on the Promela translation of each rulebook (shared/rulebook/promela.ts, which
+ * is written from the §4 semantics and does not call the engine). fast-check generates small
+ * random two-route rulebooks; on every one, our verdicts on the four safety properties must
+ * equal SPIN's. Rulebooks are checked in batches (one pan compilation per batch) to keep the
+ * test fast. A disagreement prints the rulebook.
+ */
+import fc from "fast-check";
+import { describe, expect, it } from "vitest";
+import { toPromela, toPromelaBatch, SPIN_PROPERTIES, type SpinProperty } from "../../shared/rulebook/promela";
+import { prove } from "../../shared/rulebook/prove";
+import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
+import { convergingJunction } from "../../shared/rulebook/templates";
+import { runSpin, spinAvailable } from "../support/spin";
+
+const SPIN_SOURCE = "SPIN 6.5.2 (Debian package spin)";
+const CASES = 36;
+const BATCH = 9;
+/** Rulebooks whose state space is bigger than this are left out (both tools would take long). */
+const MAX_STATES = 30_000;
+
+const COUNTERS = ["a", "b"] as const;
+const DETECTORS = ["MA", "ME", "JX", "BA", "BE"] as const;
+/** Counters stay small: every increment is guarded by `counter < COUNT_CAP`, so the models are finite. */
+const COUNT_CAP = 2;
+
+const condition: fc.Arbitrary<Condition> = fc.letrec<{ c: Condition }>((tie) => ({
+  c: fc.oneof(
+    { depthSize: "small", withCrossShrink: true },
+    fc.constant<Condition>({ latch: "x" }),
+    fc.record({ count: fc.constantFrom(...COUNTERS), op: fc.constantFrom("==", "!=", ">", "<="), value: fc.integer({ min: 0, max: 2 }) }) as fc.Arbitrary<Condition>,
+    fc.record({ selector: fc.constant("route"), is: fc.constantFrom("none", "main", "branch") }),
+    fc.record({ aspect: fc.constantFrom("M1", "B1"), is: fc.constantFrom("danger" as const, "clear" as const) }),
+    fc.record({ not: tie("c") }),
+    fc.record({ all: fc.array(tie("c"), { minLength: 1, maxLength: 2 }) }),
+    fc.record({ any: fc.array(tie("c"), { minLength: 1, maxLength: 2 }) }),
+  ),
+})).c;
+
+const action: fc.Arbitrary<Action> = fc.oneof(
+  fc.constant<Action>({ set: "x" }),
+  fc.constant<Action>({ clear: "x" }),
+  fc.record({ add: fc.constantFrom(...COUNTERS), by: fc.constantFrom(1, -1, -2) }),
+  fc.record({ zero: fc.constantFrom(...COUNTERS) }),
+  fc.record({ select: fc.constant("route"), value: fc.constantFrom("none", "main", "branch") }),
+  fc.record({ show: fc.constantFrom("M1", "B1"), aspect: fc.constantFrom("danger" as const, "clear" as const) }),
+);
+
+const trigger = fc.oneof(
+  fc.constantFrom(...DETECTORS).map((pass) => ({ pass })),
+  fc.constantFrom("ME", "JX").map((quiet) => ({ quiet, ms: 2000 })),
+  fc.constant("standing" as const),
+);
+
+const rule = fc.record({ on: trigger, if: fc.option(condition, { nil: undefined }), do: fc.array(action, { minLength: 1, maxLength: 3 }) });
+
+const rulebookArb: fc.Arbitrary<Rulebook> = fc
+  .record({
+    rules: fc.array(rule, { minLength: 2, maxLength: 6 }),
+    maxAxles: fc.integer({ min: 1, max: 2 }),
+    maxTrainsPerRoute: fc.integer({ min: 1, max: 2 }),
+  })
+  .map(({ rules, maxAxles, maxTrainsPerRoute }) => {
+    const built: Rule[] = rules.map((r, i) => {
+      // Keep the counters bounded: an increment only while the counter is below the cap.
+      const capped = r.do
+        .filter((a): a is { add: string; by: number } => "add" in a && a.by > 0)
+        .map((a): Condition => ({ count: a.add, op: "<", value: COUNT_CAP }));
+      const conditions = [...(r.if ? [r.if] : []), ...capped];
+      const ifPart = conditions.length === 0 ? undefined : conditions.length === 1 ? conditions[0] : { all: conditions };
+      return { id: `r${i}`, on: r.on, ...(ifPart ? { if: ifPart } : {}), do: r.do };
+    });
+    // Two sound-ish rules so trains get past their signals often enough to make things happen.
+    built.push(
+      { id: "open-main", on: { pass: "MA" }, do: [{ show: "M1", aspect: "clear" }] },
+      { id: "open-branch", on: { pass: "BA" }, do: [{ show: "B1", aspect: "clear" }] },
+    );
+    return rulebookSchema.parse({
+      format: "blocklight.rulebook/1",
+      latches: { x: false },
+      counters: { a: 0, b: 0 },
+      selectors: { route: { values: ["none", "main", "branch"], initial: "none" } },
+      initial: { M1: "danger", B1: "danger" },
+      rules: built,
+      proving: {
+        routes: [
+          { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
+          { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+        ],
+        conflicts: [["main", "branch"]],
+        maxAxles,
+        maxTrainsPerRoute,
+      },
+    });
+  });
+
+function ourSafetyVerdict(rulebook: Rulebook): SpinProperty[] | null {
+  const result = prove(rulebook, { maxStates: MAX_STATES });
+  const safety = result.properties.filter((p) => (SPIN_PROPERTIES as readonly string[]).includes(p.id));
+  if (safety.some((p) => p.holds === null)) return null;
+  return SPIN_PROPERTIES.filter((id) => safety.find((p) => p.id === id)?.holds === false);
+}
+
+describe(`prover verdicts agree with ${SPIN_SOURCE}`, async () => {
+  const haveSpin = await spinAvailable();
+  if (!haveSpin && process.env.CI) {
+    it("needs SPIN", () => {
+      throw new Error(`${SPIN_SOURCE} is not on PATH: install it with "apt-get install -y spin" (CI must have it)`);
+    });
+    return;
+  }
+
+  it.skipIf(!haveSpin)(`Kestrel Bank template: proved by us and by ${SPIN_SOURCE}, with the same state count`, async () => {
+    const rulebook = convergingJunction({
+      routes: [
+        { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
+        { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+      ],
+      order: "priority",
+      priority: "main",
+      maxAxles: 2,
+      maxTrainsPerRoute: 2,
+    });
+    const ours = prove(rulebook);
+    const spin = await runSpin(toPromela(rulebook));
+    expect(ours.verdict).toBe("proved");
+    expect(spin.complete).toBe(true);
+    expect(spin.errors).toBe(0); // SPIN 6.5.2 (Debian package spin)
+    // pan also stores the state before init's first atomic step (nothing settled yet): one more.
+    expect(spin.states).toBe(ours.stats.states + 1); // SPIN 6.5.2 (Debian package spin)
+  });
+
+  it.skipIf(!haveSpin)(
+    `${CASES} random rulebooks: the same safety verdicts as ${SPIN_SOURCE}`,
+    async () => {
+      const samples = fc.sample(rulebookArb, { numRuns: CASES * 2, seed: 20260502 });
+      const cases: { rulebook: Rulebook; ours: SpinProperty[] }[] = [];
+      for (const rulebook of samples) {
+        if (cases.length === CASES) break;
+        const ours = ourSafetyVerdict(rulebook);
+        if (ours) cases.push({ rulebook, ours });
+      }
+      expect(cases.length).toBe(CASES);
+      // Some must be refuted and some proved, or the comparison says little.
+      expect(cases.some((c) => c.ours.length > 0)).toBe(true);
+      expect(cases.some((c) => c.ours.length === 0)).toBe(true);
+
+      const batches: (typeof cases)[] = [];
+      for (let i = 0; i < cases.length; i += BATCH) batches.push(cases.slice(i, i + BATCH));
+      // Two batches at a time: pan compilations dominate, and they use one core each.
+      const reports = [];
+      for (let i = 0; i < batches.length; i += 2) {
+        reports.push(...(await Promise.all(batches.slice(i, i + 2).map((b) => runSpin(toPromelaBatch(b.map((c) => c.rulebook)))))));
+      }
+      const disagreements: string[] = [];
+      batches.forEach((batch, bi) => {
+        const report = reports[bi];
+        expect(report.complete, report.output).toBe(true);
+        batch.forEach((c, i) => {
+          const spin = report.byModel.get(i) ?? [];
+          if (JSON.stringify(spin) !== JSON.stringify(c.ours)) {
+            disagreements.push(
+              `ours ${JSON.stringify(c.ours)} vs ${SPIN_SOURCE} ${JSON.stringify(spin)} on\n${JSON.stringify(c.rulebook, null, 1)}`,
+            );
+          }
+        });
+      });
+      expect(disagreements, disagreements.join("\n\n")).toEqual([]);
+    },
+    120_000,
+  );
+});
