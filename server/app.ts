@@ -18,6 +18,10 @@ import { alarmRoutes } from "./features/alarms/routes";
 import { liveRoutes } from "./features/live/routes";
 import { sessionRoutes } from "./features/sessions/routes";
 import { proveRoutes } from "./features/prove/routes";
+import { auditRoutes } from "./features/audit/routes";
+import { displayRoutes } from "./features/display/routes";
+import { mailRoutes } from "./features/mail/routes";
+import { memberRoutes } from "./features/members/routes";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics and simulator input lists stay well under this. */
@@ -36,6 +40,10 @@ export const API_ROUTERS: ApiRouterFactory[] = [
   liveRoutes,
   sessionRoutes,
   proveRoutes,
+  auditRoutes,
+  displayRoutes,
+  mailRoutes,
+  memberRoutes,
 ];
 
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {

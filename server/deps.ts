@@ -6,6 +6,7 @@ import type { Database } from "./db/database";
 import type { Logger } from "./logger";
 import type { Bus } from "./bus";
 import type { LiveRuntime } from "./runtime/liveRuntime";
+import type { Mailer } from "./features/mail/service";
 
 export interface BrokerStatus {
   connected(): boolean;
@@ -20,4 +21,6 @@ export interface AppDeps {
   broker?: BrokerStatus;
   /** The live pipeline (runners per layout), when the process runs one. */
   live?: LiveRuntime;
+  /** Outgoing mail (SMTP_URL or the local fake server); without it mail is only recorded in the outbox. */
+  mail?: Mailer;
 }

@@ -13,6 +13,9 @@ import type { AppDeps } from "./deps";
 import { attachLiveSocket } from "./features/live/socket";
 import { attachProofSocket } from "./features/prove/socket";
 import { closeProofJobs } from "./features/prove/service";
+import { startAlarmWatchers } from "./features/alarms/watchRunner";
+import { startAlarmMail } from "./features/mail/alarmMail";
+import { startMailer } from "./features/mail/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
 import { loadOrCreateSecret } from "./secrets";
@@ -74,6 +77,18 @@ async function main(): Promise<void> {
   deps.live = live;
   deps.broker = live;
   cleanups.push(() => live.stop());
+
+  // Mail (SMTP_URL, or a local fake server whose mail admins read at /admin/outbox) and the
+  // alarm watchers that feed on the live pipeline's committed updates.
+  deps.mail = await startMailer(deps);
+  cleanups.push(() => deps.mail!.close());
+  logger.info({ mail: deps.mail.describe() }, "mail ready");
+  const alarmMail = startAlarmMail(deps);
+  const watchers = startAlarmWatchers(deps);
+  cleanups.push(() => {
+    watchers.stop();
+    alarmMail.stop();
+  });
 
   const app = createApp(deps);
   const server = http.createServer(app);

@@ -51,6 +51,16 @@ const ROUTES: RouteCase[] = [
     allowed: EVERYONE,
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
   },
+  { method: "get", path: "/api/layouts/kestrel-bank/audit", allowed: EVERYONE },
+  { method: "get", path: "/api/admin/outbox", allowed: ["admin"] },
+  { method: "get", path: "/api/admin/members", allowed: ["admin"] },
+  {
+    method: "post",
+    path: "/api/invitations",
+    allowed: ["admin"],
+    body: (role) => ({ email: `invitee-${role}@fernmoor.example`, role: "viewer" }),
+    okStatus: 201,
+  },
   // Proving (a job of the published version never changes its status; unknown job ids are 404 past the role check)
   { method: "post", path: "/api/prove", allowed: EVERYONE, body: () => kestrelBankLayout() },
   { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/proofs", allowed: ["engineer", "admin"], okStatus: 202 },
