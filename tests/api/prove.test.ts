@@ -21,6 +21,9 @@ import { attachProofSocket } from "../../server/features/prove/socket";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;
+// Files broken on purpose are edited loosely, as a person editing JSON would.
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- deliberately malformed files
+type LooseFile = Record<string, any>;
 
 /**
  * The mistake: the main approach rule also clears the branch signal, so a main train on
@@ -108,10 +111,10 @@ describe("POST /api/prove", () => {
   });
 
   it.each([
-    ["a rule triggered by an unknown detector", (f: Record<string, any>) => (f.rulebook.rules[0].on = { pass: "ZZ" }), "$.rulebook.rules[0].on.pass"],
-    ["a wrong format tag", (f: Record<string, any>) => (f.format = "blocklight.layout/9"), "$.format"],
+    ["a rule triggered by an unknown detector", (f: LooseFile) => (f.rulebook.rules[0].on = { pass: "ZZ" }), "$.rulebook.rules[0].on.pass"],
+    ["a wrong format tag", (f: LooseFile) => (f.format = "blocklight.layout/9"), "$.format"],
   ])("answers 400 with the JSON paths for a file with %s", async (_name, mutate, path) => {
-    const file = structuredClone(kestrelBankLayout()) as Record<string, any>;
+    const file = structuredClone(kestrelBankLayout()) as LooseFile;
     mutate(file);
     const res = await viewer.post("/api/prove").send(file);
     expect(res.status).toBe(400);

@@ -9,12 +9,12 @@ import os from "node:os";
 import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
-import type { ProofResult } from "../../../shared/rulebook/prove";
+import { DEFAULT_MAX_STATES, type ProofResult } from "../../../shared/rulebook/prove";
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { ProofProgress, ProofWorkerInput, ProofWorkerMessage } from "./worker";
 
 /** Bounds of one proof: past either, the verdict is "unfinished". */
-export const PROOF_MAX_STATES = 5_000_000;
+export const PROOF_MAX_STATES = DEFAULT_MAX_STATES;
 export const PROOF_MAX_MS = 60_000;
 /** Proofs waiting for a free core beyond this many are refused (503) rather than queued. */
 export const PROOF_MAX_WAITING = 32;
