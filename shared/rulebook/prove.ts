@@ -288,16 +288,6 @@ function canMove(route: RouteModel, queue: readonly Train[], qi: number, k: numb
   return true;
 }
 
-/** The queue after axle `k` of train `qi` crossed its next detector (the train leaves at the end). */
-function moveAxle(route: RouteModel, queue: readonly Train[], qi: number, k: number): Train[] {
-  const train = queue[qi].slice();
-  train[k] += 1;
-  const next = queue.slice() as Train[];
-  if (k === train.length - 1 && train[k] === route.path.length) next.splice(qi, 1);
-  else next[qi] = train;
-  return next;
-}
-
 /** A train occupies its route's section from its leading axle crossing entry until it leaves. */
 function occupies(route: RouteModel, train: Train): boolean {
   return train[0] > route.entryIndex;

@@ -12,7 +12,7 @@ import { toPromela, toPromelaBatch, SPIN_PROPERTIES, type SpinProperty } from ".
 import { prove } from "../../shared/rulebook/prove";
 import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
 import { convergingJunction } from "../../shared/rulebook/templates";
-import { runSpin, spinAvailable } from "../support/spin";
+import { runSpin, spinAvailable, type SpinRun } from "../support/spin";
 
 const SPIN_SOURCE = "SPIN 6.5.2 (Debian package spin)";
 const CASES = 36;
@@ -149,7 +149,7 @@ describe(`prover verdicts agree with ${SPIN_SOURCE}`, async () => {
       const batches: (typeof cases)[] = [];
       for (let i = 0; i < cases.length; i += BATCH) batches.push(cases.slice(i, i + BATCH));
       // Two batches at a time: pan compilations dominate, and they use one core each.
-      const reports = [];
+      const reports: SpinRun[] = [];
       for (let i = 0; i < batches.length; i += 2) {
         reports.push(...(await Promise.all(batches.slice(i, i + 2).map((b) => runSpin(toPromelaBatch(b.map((c) => c.rulebook)))))));
       }
