@@ -6,7 +6,7 @@ import { validateRulebookFile } from "../../shared/rulebook/validate";
 import type { FieldError } from "../api/http";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
-import { SignalPanel } from "../components/mimic/SignalPanel";
+import { Mimic } from "../components/mimic/Mimic";
 import { ChangeLog } from "../components/simulator/ChangeLog";
 import { InputLoader } from "../components/simulator/InputLoader";
 import { SimControls } from "../components/simulator/SimControls";
@@ -158,7 +158,14 @@ export default function SimulatePage() {
         <div className="grid gap-6 xl:grid-cols-[minmax(0,3fr)_minmax(0,2fr)]">
           <div className="space-y-6">
             <Panel title="Signals and detectors">
-              <SignalPanel layout={layout.data} shown={shown} pulsedDetector={pulsedDetector} />
+              <Mimic
+                title={layout.data.name}
+                layout={layout.data}
+                state={{ shown, counters: current.state.counters, selectors: current.state.selectors, held: current.state.held }}
+                routes={rulebook.proving?.routes}
+                pulses={pulsedDetector ? { [pulsedDetector]: sim.cursor } : undefined}
+                lastPulsed={pulsedDetector}
+              />
             </Panel>
             <Panel title="Inputs">
               <SimControls layout={layout.data} state={current.state} onInput={sim.apply} />

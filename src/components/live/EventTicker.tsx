@@ -13,7 +13,7 @@ function describeChange(c: ChangeDto): string {
 
 function describeEvent(entry: TickerEntry): { kind: string; text: string } {
   const e = entry.event;
-  if (!e) return { kind: "change", text: entry.changes.length ? "state changed" : "update" };
+  if (!e) return { kind: "change", text: entry.changes.length ? "state changed" : "state update" };
   if (e.kind === "pulse") {
     const status = e.status === "accepted" ? "" : ` — ${e.status}${e.reason ? `: ${e.reason}` : ""}`;
     return { kind: "pulse", text: `pulse at ${e.detector ?? "?"}${e.node ? ` from ${e.node}` : ""}${status}` };

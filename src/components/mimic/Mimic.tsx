@@ -20,6 +20,8 @@ export interface MimicProps {
   routes?: RouteShape[];
   /** Pulses seen per detector; a detector flashes whenever its count goes up. */
   pulses?: Record<string, number>;
+  /** A detector to mark steadily as the latest pulsed one (the simulator's current step). */
+  lastPulsed?: string;
   /** Heading for screen readers, e.g. the layout's name. */
   title: string;
   /** `display`: thicker strokes and larger words for the screen across the room. */
@@ -45,6 +47,8 @@ const BRASS = "#d9b35f";
 const SET_ROUTE = "#9fc3e6";
 const PULSE = "#7fe3ff";
 
+const NO_PULSES: Record<string, number> = {};
+
 const toPoints = (pts: Pt[]) => pts.map((p) => `${p[0].toFixed(1)},${p[1].toFixed(1)}`).join(" ");
 
 // The flash restarts because the ring is re-keyed on every pulse; no timers in React.
@@ -61,7 +65,7 @@ const MIMIC_CSS = `
  * shown aspect, detector pulses, set/occupied sections and trains waiting at signals.
  * Read-only (no controls), so the visitor display uses it as it is.
  */
-export function Mimic({ layout, state, routes, pulses = {}, title, size = "panel", className = "" }: MimicProps) {
+export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, title, size = "panel", className = "" }: MimicProps) {
   const geometry = useMemo(() => layoutGeometry(layout), [layout]);
   const held = useMemo(() => new Set(state.held ?? []), [state.held]);
   const occupancy = useMemo(
@@ -143,7 +147,7 @@ export function Mimic({ layout, state, routes, pulses = {}, title, size = "panel
       <g>
         {layout.detectors.map((d) => {
           const at = geometry.detectors[d.id];
-          return at ? <DetectorMark key={d.id} detector={d} at={at} pulses={pulses[d.id] ?? 0} scale={scale} /> : null;
+          return at ? <DetectorMark key={d.id} detector={d} at={at} labelDy={geometry.detectorLabelDy[d.id] ?? 24} pulses={pulses[d.id] ?? 0} latest={lastPulsed === d.id} scale={scale} /> : null;
         })}
       </g>
       <g>
@@ -162,17 +166,27 @@ export function Mimic({ layout, state, routes, pulses = {}, title, size = "panel
 interface DetectorMarkProps {
   detector: LayoutDetector;
   at: Pt;
+  labelDy: number;
   pulses: number;
+  latest: boolean;
   scale: number;
 }
 
-const DetectorMark = memo(function DetectorMark({ detector, at, pulses, scale }: DetectorMarkProps) {
+const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses, latest, scale }: DetectorMarkProps) {
   return (
-    <g role="img" aria-label={`Detector ${detector.id}, ${detector.name}`} data-detector={detector.id} data-pulses={pulses} transform={`translate(${at[0]} ${at[1]})`}>
+    <g
+      role="img"
+      aria-label={`Detector ${detector.id}, ${detector.name}${latest ? ": pulsed" : ""}`}
+      data-detector={detector.id}
+      data-pulses={pulses}
+      data-pulsed={latest ? "true" : undefined}
+      transform={`translate(${at[0]} ${at[1]})`}
+    >
       <title>{`${detector.name} at ${detector.at} m`}</title>
+      {latest ? <circle r={13 * scale} fill="none" stroke={PULSE} strokeWidth={2.5} /> : null}
       {pulses > 0 ? <circle key={pulses} className="bl-pulse" r={7} fill="none" stroke={PULSE} strokeWidth={3} /> : null}
       <rect x={-2.5 * scale} y={-9 * scale} width={5 * scale} height={18 * scale} rx={1.5} fill={pulses > 0 ? "#b9ecf7" : "#c9d3dd"} stroke="#0b1016" strokeWidth={1} />
-      <text y={24 * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
+      <text y={labelDy * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
         {detector.id}
       </text>
     </g>

@@ -46,6 +46,8 @@ export interface Geometry {
   tracks: { line: string; points: Pt[] }[];
   detectors: Record<string, Pt>;
   signals: Record<string, Pt>;
+  /** Where each detector's id is written, relative to the detector: below unless that is crowded. */
+  detectorLabelDy: Record<string, number>;
   /** Where the signal stands on the track (the marker is drawn offset from it). */
   signalTrack: Record<string, Pt>;
   points: Record<string, Pt>;
@@ -57,6 +59,10 @@ const AUTO_PX_PER_METRE = 30;
 const AUTO_BRANCH_RISE = 110;
 const SIGNAL_OFFSET = 26;
 const MARGIN = 40;
+/** Width of one character of a 12-unit label in the mimic's monospace font. */
+export const LABEL_CHAR_WIDTH = 7.5;
+const DETECTOR_LABEL_BELOW = 24;
+const DETECTOR_LABEL_ABOVE = -16;
 
 function isPt(value: unknown): value is Pt {
   return Array.isArray(value) && value.length === 2 && value.every((n) => typeof n === "number" && Number.isFinite(n));
@@ -224,16 +230,29 @@ export function layoutGeometry(layout: MimicLayout): Geometry {
     }
   }
 
-  const all: Pt[] = [...tracks.flatMap((t) => t.points), ...Object.values(detectors), ...Object.values(signals), ...Object.values(points), ...sch.labels.map((l) => l.at)];
+  // Labels are anchored at their start: count their width too (about 0.62 em per character).
+  const labelEnds: Pt[] = sch.labels.map((l) => [l.at[0] + l.text.length * LABEL_CHAR_WIDTH, l.at[1]]);
+  const all: Pt[] = [...tracks.flatMap((t) => t.points), ...Object.values(detectors), ...Object.values(signals), ...Object.values(points), ...sch.labels.map((l) => l.at), ...labelEnds];
   const xs = all.map((p) => p[0]);
   const ys = all.map((p) => p[1]);
   const minX = Math.min(0, ...xs) - MARGIN;
   const minY = Math.min(...ys, 0) - MARGIN;
   const maxX = Math.max(...xs, 100) + MARGIN;
   const maxY = Math.max(...ys, 0) + MARGIN;
+  const detectorLabelDy: Record<string, number> = {};
+  const obstacles: { x0: number; x1: number; y0: number; y1: number }[] = [
+    ...Object.values(signals).map(([x, y]) => ({ x0: x - 30, x1: x + 30, y0: y - 30, y1: y + 30 })),
+    ...sch.labels.map((l) => ({ x0: l.at[0], x1: l.at[0] + l.text.length * LABEL_CHAR_WIDTH, y0: l.at[1] - 12, y1: l.at[1] + 2 })),
+  ];
+  for (const [id, [x, y]] of Object.entries(detectors)) {
+    const below = { x0: x - 12, x1: x + 12, y0: y + DETECTOR_LABEL_BELOW - 12, y1: y + DETECTOR_LABEL_BELOW + 2 };
+    const crowded = obstacles.some((o) => o.x0 < below.x1 && below.x0 < o.x1 && o.y0 < below.y1 && below.y0 < o.y1);
+    detectorLabelDy[id] = crowded ? DETECTOR_LABEL_ABOVE : DETECTOR_LABEL_BELOW;
+  }
   return {
     tracks,
     detectors,
+    detectorLabelDy,
     signals,
     signalTrack,
     points,

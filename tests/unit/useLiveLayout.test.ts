@@ -1,0 +1,75 @@
+import { QueryClient } from "@tanstack/react-query";
+import { describe, expect, it } from "vitest";
+import type { LiveState, LiveUpdate } from "../../shared/contract/live";
+import { liveKeys, type TickerEntry } from "../../src/api/live";
+import { applyBatch, mergeAlarm } from "../../src/hooks/useLiveLayout";
+
+const SLUG = "kestrel-bank";
+const base: LiveState = {
+  slug: SLUG,
+  version: 10,
+  rulebookVersion: 1,
+  session: null,
+  shown: { M1: "danger" },
+  latches: {},
+  counters: { mainApproach: 0 },
+  selectors: { route: "none" },
+  held: [],
+  quiet: {},
+  faulted: null,
+  alarms: [],
+  nodes: {},
+  since: {},
+};
+const update = (version: number, patch: LiveUpdate["patch"], detector?: string): LiveUpdate => ({
+  slug: SLUG,
+  version,
+  event: detector
+    ? { id: String(version), kind: "pulse", status: "accepted", reason: null, node: "bank-foot", boot: "b", seq: version, detector, receivedAt: "2026-05-02T10:15:03.120Z", boardT: null }
+    : null,
+  changes: [],
+  patch,
+});
+
+function setup() {
+  const qc = new QueryClient();
+  qc.setQueryData(liveKeys.state(SLUG), base);
+  let gaps = 0;
+  return { qc, apply: (batch: LiveUpdate[]) => applyBatch(qc, SLUG, batch, () => gaps++), gaps: () => gaps };
+}
+
+describe("live updates into the query cache", () => {
+  it("applies consecutive updates in order, counts pulses and fills the ticker", () => {
+    const { qc, apply, gaps } = setup();
+    apply([update(11, { counters: { mainApproach: 1 } }, "MA"), update(12, { shown: { M1: "clear" }, selectors: { route: "main" } }), update(13, {}, "MA")]);
+    const state = qc.getQueryData<LiveState>(liveKeys.state(SLUG))!;
+    expect(state.version).toBe(13);
+    expect(state.shown.M1).toBe("clear");
+    expect(state.counters.mainApproach).toBe(1);
+    expect(qc.getQueryData(liveKeys.pulses(SLUG))).toEqual({ MA: 2 });
+    expect(qc.getQueryData<TickerEntry[]>(liveKeys.ticker(SLUG))!.map((e) => e.version)).toEqual([13, 12, 11]);
+    expect(gaps()).toBe(0);
+  });
+
+  it("skips updates already in the state", () => {
+    const { qc, apply, gaps } = setup();
+    apply([update(9, { shown: { M1: "clear" } }), update(10, { shown: { M1: "clear" } })]);
+    expect(qc.getQueryData<LiveState>(liveKeys.state(SLUG))!.shown.M1).toBe("danger");
+    expect(gaps()).toBe(0);
+  });
+
+  it("stops at a gap and asks for the whole state again", () => {
+    const { qc, apply, gaps } = setup();
+    apply([update(11, { counters: { mainApproach: 1 } }), update(13, { shown: { M1: "clear" } })]);
+    const state = qc.getQueryData<LiveState>(liveKeys.state(SLUG))!;
+    expect(state.version).toBe(11);
+    expect(state.shown.M1).toBe("danger");
+    expect(gaps()).toBe(1);
+  });
+
+  it("merges a changed alarm by id", () => {
+    const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: null, acknowledgedBy: null, comment: null, clearedAt: null };
+    const list = mergeAlarm([], alarm);
+    expect(mergeAlarm(list, { ...alarm, acknowledgedAt: "t2" })).toEqual([{ ...alarm, acknowledgedAt: "t2" }]);
+  });
+});
