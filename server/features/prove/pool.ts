@@ -16,6 +16,11 @@ import type { ProofProgress, ProofWorkerInput, ProofWorkerMessage } from "./work
 /** Bounds of one proof: past either, the verdict is "unfinished". */
 export const PROOF_MAX_STATES = DEFAULT_MAX_STATES;
 export const PROOF_MAX_MS = 60_000;
+/**
+ * Heap of one proof worker. A 5,000,000-state proof of the demo junction needs about 0.7 GB,
+ * mostly outside the heap; the cap only stops an odd rulebook from taking the server down.
+ */
+export const PROOF_WORKER_HEAP_MB = 1536;
 /** Proofs waiting for a free core beyond this many are refused (503) rather than queued. */
 export const PROOF_MAX_WAITING = 32;
 
@@ -99,13 +104,20 @@ export class ProofPool {
             maxStates: options.maxStates ?? PROOF_MAX_STATES,
             maxMs: options.maxMs ?? PROOF_MAX_MS,
           };
-          worker = new Worker(WORKER_BOOTSTRAP, { eval: true, workerData: input });
+          worker = new Worker(WORKER_BOOTSTRAP, {
+            eval: true,
+            workerData: input,
+            resourceLimits: { maxOldGenerationSizeMb: PROOF_WORKER_HEAP_MB },
+          });
           this.workers.add(worker);
           worker.on("message", (message: ProofWorkerMessage) => {
             if (message.type === "progress") options.onProgress?.({ states: message.states, frontier: message.frontier, depth: message.depth });
             else finish({ ok: true, result: message.result });
           });
-          worker.on("error", (error) => finish({ ok: false, error }));
+          worker.on("error", (error) => {
+            const outOfMemory = (error as NodeJS.ErrnoException).code === "ERR_WORKER_OUT_OF_MEMORY";
+            finish({ ok: false, error: outOfMemory ? new Error(`the proof needed more than ${PROOF_WORKER_HEAP_MB} MB of memory`) : error });
+          });
           worker.on("exit", (code) => finish({ ok: false, error: settled ? new ProofCancelled() : new Error(`the proof worker stopped (exit code ${code})`) }));
         },
       };
