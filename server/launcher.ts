@@ -31,6 +31,7 @@ const BROKER_TIMEOUT_MS = 30_000;
 const DEMO_LAYOUT = "kestrel-bank";
 const DEMO_SCENARIO = "broker/fakeLayout/scenarios/kestrel-bank-day.json";
 const VITE_PORT = 5173;
+const PARENT_CHECK_MS = 1_000;
 
 const launchedAt = Date.now();
 const elapsed = () => `${((Date.now() - launchedAt) / 1000).toFixed(1)} s`;
@@ -62,6 +63,18 @@ async function shutdown(reason: string, exitCode = 0): Promise<never> {
     }
   }
   process.exit(exitCode);
+}
+
+/**
+ * Started by npm and npm is gone (killed without passing the signal on): stop, rather than
+ * leave the servers and PostgreSQL running with nobody to stop them.
+ */
+function watchParent(): void {
+  if (!process.env.npm_lifecycle_event) return;
+  const parent = process.ppid;
+  setInterval(() => {
+    if (process.ppid !== parent) void shutdown("npm, which started the launcher, has gone");
+  }, PARENT_CHECK_MS).unref();
 }
 
 function childEnv(config: AppConfig, databaseUrl: string, extra: NodeJS.ProcessEnv = {}): NodeJS.ProcessEnv {
@@ -154,6 +167,7 @@ async function main(): Promise<void> {
     void shutdown("unexpected error", 1);
   });
 
+  watchParent();
   const config = configFromEnv(process.env, { demo: true });
   const dev = process.env.DEV === "1";
   // Made here, before any child runs, so the server and the broker read the same files
