@@ -194,7 +194,7 @@ async function main(): Promise<void> {
   say("starting the server");
   supervise("server", nodeFile("server/index.ts"), env);
   if (dev) {
-    supervise("vite", [path.join(ROOT, "node_modules/vite/bin/vite.js"), "--port", String(VITE_PORT), "--strictPort"], env);
+    supervise("vite", [path.join(ROOT, "node_modules/vite/bin/vite.js"), "--host", "127.0.0.1", "--port", String(VITE_PORT), "--strictPort"], env);
   }
 
   const host = config.host === "0.0.0.0" || config.host === "::" ? "127.0.0.1" : config.host;
