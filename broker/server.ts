@@ -105,7 +105,9 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
   broker.on("client", (client) => options.onClient?.("connected", client.id, identities.get(client)));
   broker.on("clientDisconnect", (client) => options.onClient?.("disconnected", client.id, identities.get(client)));
 
-  const server = net.createServer(broker.handle);
+  // Small MQTT packets (a PUBACK, then an aspect command) must not wait for Nagle's
+  // algorithm and the peer's delayed ACK: that alone adds ~40 ms per hop.
+  const server = net.createServer({ noDelay: true }, broker.handle);
   await new Promise<void>((resolve, reject) => {
     server.once("error", reject);
     server.listen(options.port, options.host ?? "127.0.0.1", () => resolve());

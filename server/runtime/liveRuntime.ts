@@ -105,6 +105,8 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
 
   let everConnected = false;
   client.on("connect", () => {
+    // See broker/server.ts: without this each small packet can wait ~40 ms for a delayed ACK.
+    (client.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
     client.subscribe(SERVER_SUBSCRIPTION, { qos: 1 }, (err) => {
       if (err) deps.logger.error({ err }, "could not subscribe to board messages");
     });

@@ -79,8 +79,97 @@ export interface CommitResult {
 
 const json = (value: unknown) => (value === undefined ? null : JSON.stringify(value));
 
+/**
+ * The common batch — events, their changes and the aspect rev, nothing else — as ONE
+ * statement (data-modifying CTEs), so it commits in a single round trip. Event ids come from
+ * the sequence in the order of the batch (`WITH ORDINALITY`), so id order is apply order.
+ */
+const FAST_COMMIT_SQL = `
+  WITH ev AS MATERIALIZED (
+    SELECT nextval('events_id_seq') AS id, t.*
+      FROM unnest($2::int[], $3::text[], $4::text[], $5::text[], $6::text[], $7::text[], $8::bigint[],
+                  $9::text[], $10::timestamptz[], $11::bigint[], $12::text[], $13::text[], $14::int[], $15::jsonb[])
+           WITH ORDINALITY AS t(session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic,
+                                raw_payload, user_id, input, ord)
+  ), inserted AS (
+    INSERT INTO events (id, layout_id, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t,
+                        topic, raw_payload, user_id, input)
+    SELECT id, $1, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic, raw_payload,
+           user_id, input FROM ev
+  ), changed AS (
+    INSERT INTO changes (event_id, kind, name, from_value, to_value, rule, command, detail)
+    SELECT ev.id, c.kind, c.name, c.from_value, c.to_value, c.rule, c.command, c.detail
+      FROM unnest($16::bigint[], $17::text[], $18::text[], $19::jsonb[], $20::jsonb[], $21::text[], $22::text[], $23::text[])
+           WITH ORDINALITY AS c(ord_event, kind, name, from_value, to_value, rule, command, detail, ord)
+      JOIN ev ON ev.ord = c.ord_event
+     ORDER BY c.ord
+  ), rev AS (
+    UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $24::bigint) WHERE id = $1 AND $24::bigint IS NOT NULL
+  )
+  SELECT id::text FROM ev ORDER BY ord`;
+
+function eventParams(batch: Batch, resolve: (ref: SessionRef | null) => number | null): unknown[] {
+  const events = batch.events;
+  const changeEvent: number[] = [];
+  const kind: string[] = [];
+  const name: string[] = [];
+  const from: (string | null)[] = [];
+  const to: (string | null)[] = [];
+  const rule: (string | null)[] = [];
+  const command: (string | null)[] = [];
+  const detail: (string | null)[] = [];
+  events.forEach((event, i) => {
+    for (const change of event.changes) {
+      changeEvent.push(i + 1);
+      kind.push(change.kind);
+      name.push(change.name);
+      from.push(json(change.from));
+      to.push(json(change.to));
+      rule.push(change.rule ?? null);
+      command.push(change.command ?? null);
+      detail.push(change.detail ?? null);
+    }
+  });
+  return [
+    batch.layoutId,
+    events.map((e) => resolve(e.session)),
+    events.map((e) => e.kind),
+    events.map((e) => e.status),
+    events.map((e) => e.reason),
+    events.map((e) => e.node),
+    events.map((e) => e.boot),
+    events.map((e) => e.seq),
+    events.map((e) => e.detector),
+    events.map((e) => new Date(e.receivedAt)),
+    events.map((e) => e.boardT),
+    events.map((e) => e.topic),
+    events.map((e) => e.rawPayload),
+    events.map((e) => e.userId),
+    events.map((e) => json(e.input)),
+    changeEvent,
+    kind,
+    name,
+    from,
+    to,
+    rule,
+    command,
+    detail,
+    batch.aspectRev,
+  ];
+}
+
 /** Writes a batch in one transaction; throws (after ROLLBACK) if anything fails. */
 export async function commitBatch(pool: pg.Pool, batch: Batch): Promise<CommitResult> {
+  const simple = batch.sessionOpens.length === 0 && batch.sessionCloses.length === 0 && batch.audits.length === 0 && batch.snapshot === null;
+  if (simple) {
+    const resolveKnown = (ref: SessionRef | null) => {
+      if (ref !== null && !("id" in ref)) throw new Error("a session opened in another batch has no id yet");
+      return ref === null ? null : ref.id;
+    };
+    // A single statement is its own transaction: one round trip, one commit.
+    const { rows } = await pool.query<{ id: string }>({ name: "blocklight-commit-batch", text: FAST_COMMIT_SQL, values: eventParams(batch, resolveKnown) });
+    return { eventIds: rows.map((r) => r.id), sessionIds: new Map() };
+  }
   const client = await pool.connect();
   let broken = false;
   try {
@@ -103,74 +192,15 @@ export async function commitBatch(pool: pg.Pool, batch: Batch): Promise<CommitRe
     }
 
     let eventIds: string[] = [];
-    const events = batch.events;
-    if (events.length > 0) {
-      // Ids first, so changes can point at their events without relying on RETURNING order.
-      const ids = await client.query<{ id: string }>(`SELECT nextval('events_id_seq')::text AS id FROM generate_series(1, $1)`, [events.length]);
-      eventIds = ids.rows.map((r) => r.id);
-      await client.query(
-        `INSERT INTO events (id, layout_id, session_id, kind, status, reason, node_id, boot, seq, detector, received_at,
-                             board_t, topic, raw_payload, user_id, input)
-         SELECT id, $1, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic, raw_payload,
-                user_id, input
-           FROM unnest($2::bigint[], $3::int[], $4::text[], $5::text[], $6::text[], $7::text[], $8::text[], $9::bigint[],
-                       $10::text[], $11::timestamptz[], $12::bigint[], $13::text[], $14::text[], $15::int[], $16::jsonb[])
-             AS t(id, session_id, kind, status, reason, node_id, boot, seq, detector, received_at, board_t, topic, raw_payload, user_id, input)`,
-        [
-          batch.layoutId,
-          eventIds,
-          events.map((e) => resolve(e.session)),
-          events.map((e) => e.kind),
-          events.map((e) => e.status),
-          events.map((e) => e.reason),
-          events.map((e) => e.node),
-          events.map((e) => e.boot),
-          events.map((e) => e.seq),
-          events.map((e) => e.detector),
-          events.map((e) => new Date(e.receivedAt)),
-          events.map((e) => e.boardT),
-          events.map((e) => e.topic),
-          events.map((e) => e.rawPayload),
-          events.map((e) => e.userId),
-          events.map((e) => json(e.input)),
-        ],
-      );
-      const changeEvent: string[] = [];
-      const kind: string[] = [];
-      const name: string[] = [];
-      const from: (string | null)[] = [];
-      const to: (string | null)[] = [];
-      const rule: (string | null)[] = [];
-      const command: (string | null)[] = [];
-      const detail: (string | null)[] = [];
-      events.forEach((event, i) => {
-        for (const change of event.changes) {
-          changeEvent.push(eventIds[i]);
-          kind.push(change.kind);
-          name.push(change.name);
-          from.push(json(change.from));
-          to.push(json(change.to));
-          rule.push(change.rule ?? null);
-          command.push(change.command ?? null);
-          detail.push(change.detail ?? null);
-        }
-      });
-      if (changeEvent.length > 0) {
-        await client.query(
-          `INSERT INTO changes (event_id, kind, name, from_value, to_value, rule, command, detail)
-           SELECT * FROM unnest($1::bigint[], $2::text[], $3::text[], $4::jsonb[], $5::jsonb[], $6::text[], $7::text[], $8::text[])`,
-          [changeEvent, kind, name, from, to, rule, command, detail],
-        );
-      }
+    if (batch.events.length > 0 || batch.aspectRev !== null) {
+      const { rows } = await client.query<{ id: string }>({ name: "blocklight-commit-batch", text: FAST_COMMIT_SQL, values: eventParams(batch, resolve) });
+      eventIds = rows.map((r) => r.id);
     }
     for (const audit of batch.audits) {
       await client.query(
         `INSERT INTO audit_entries (layout_id, user_id, action, target, reason, before, after) VALUES ($1, $2, $3, $4, $5, $6, $7)`,
         [batch.layoutId, audit.userId, audit.action, audit.target, audit.reason, json(audit.before), json(audit.after)],
       );
-    }
-    if (batch.aspectRev !== null) {
-      await client.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [batch.layoutId, batch.aspectRev]);
     }
     if (batch.snapshot) {
       await client.query(
