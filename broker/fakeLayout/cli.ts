@@ -34,6 +34,8 @@ const USAGE = `usage: npm run fake-layout -- --layout SLUG [--scenario FILE] [--
   --secrets      JSON {"<node>":"<secret>"} (default: DATA_DIR/secrets/nodes/<slug>.json)
   --verbose      log every pulse and lamp-proving report`;
 
+/** Pulses closer together than this look like a flickering detector to the server. */
+const CHATTER_WARNING_MS = 50;
 const log = (line: string) => process.stdout.write(`${new Date().toISOString().slice(11, 19)} ${line}\n`);
 
 function fail(message: string): never {
@@ -121,6 +123,10 @@ async function main(): Promise<void> {
   } catch (err) {
     if (err instanceof ScenarioInvalidError) fail(err.message);
     throw err;
+  }
+  const closestAxlesMs = Math.min(...scenario.trains.map((t) => (t.axleSpacingM / t.speedMps) * 1000)) / speed;
+  if (closestAxlesMs < CHATTER_WARNING_MS) {
+    log(`at ${speed}× some axles pass a detector ${closestAxlesMs.toFixed(0)} ms apart: the server may raise chatter and axle-count alarms (keep it above ${CHATTER_WARNING_MS} ms with a lower --speed)`);
   }
   const dataDir = path.resolve(process.env.DATA_DIR ?? ".data");
   const secrets = loadSecrets(args.secrets ?? path.join(dataDir, "secrets", "nodes", `${layout.slug}.json`), layout);
