@@ -413,7 +413,7 @@ export class LayoutRunner {
    * reuses a rev a board has already seen.
    */
   private revReservation(): number {
-    return this.aspectRev + 2 * (signalIds(this.rulebook).length + this.published.size) + 2;
+    return this.aspectRev + 2 * (Object.keys(this.shownNow()).length + this.published.size) + 2;
   }
 
   private apply(item: Item, batch: Batch, effects: Effects): void {
@@ -784,7 +784,14 @@ export class LayoutRunner {
   // ───────────────────────────── views ─────────────────────────────
 
   private shownNow(): Record<string, Aspect> {
-    const shown = shownAspects(this.rulebook, this.state);
+    let shown: Record<string, Aspect>;
+    try {
+      shown = shownAspects(this.rulebook, this.state);
+    } catch (err) {
+      // Even working out the aspects failed: every signal the boards know goes to danger.
+      if (!this.pipelineFault) this.pipelineFault = { reason: `the rulebook engine failed: ${(err as Error).message}`, at: this.options.now() };
+      shown = Object.fromEntries([...this.published.keys()].map((signal) => [signal, "danger" as Aspect]));
+    }
     if (this.pipelineFault || this.outage) for (const signal of Object.keys(shown)) shown[signal] = "danger";
     return shown;
   }

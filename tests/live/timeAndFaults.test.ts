@@ -1,0 +1,135 @@
+/**
+ * Quiet triggers fired by the server clock (stored as ticks, so a restart reproduces them),
+ * sessions closing after idle, and the fail-safe when the engine itself fails.
+ */
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
+import { QueryTypes } from "sequelize";
+import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
+import { startTestApp, type TestApp } from "../support/testApp";
+import { connectBoard, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+
+/** Set by the fail-safe test: the engine's step throws while this is true. */
+const engineBroken = vi.hoisted(() => ({ now: false }));
+vi.mock("../../shared/rulebook/engine", async (importOriginal) => {
+  const engine = await importOriginal<typeof import("../../shared/rulebook/engine")>();
+  return {
+    ...engine,
+    step: (...args: Parameters<typeof engine.step>) => {
+      if (engineBroken.now) throw new Error("simulated engine failure");
+      return engine.step(...args);
+    },
+  };
+});
+
+const SLUG = "wrenfold-siding";
+const QUIET_MS = 300;
+const IDLE_MS = 1_500;
+
+/** A one-signal siding at Wrenfold (invented): a pulse clears S1; quiet for QUIET_MS puts it back. */
+function sidingLayout(): LayoutFile {
+  return {
+    format: LAYOUT_FORMAT,
+    slug: SLUG,
+    name: "Wrenfold siding",
+    scale: { name: "G", ratio: 22.5 },
+    lines: [{ id: "siding", name: "Wrenfold siding" }],
+    detectors: [{ id: "WS", name: "Siding approach", line: "siding", at: 2 }],
+    signals: [{ id: "S1", name: "Siding exit", line: "siding", at: 8, aspects: ["danger", "clear"] }],
+    points: [],
+    nodes: [{ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] }],
+    rulebook: {
+      format: "blocklight.rulebook/1",
+      latches: {},
+      counters: { axles: 0 },
+      selectors: {},
+      initial: { S1: "danger" },
+      rules: [
+        { id: "approach", on: { pass: "WS" }, do: [{ add: "axles", by: 1 }, { show: "S1", aspect: "clear" }] },
+        { id: "gone-quiet", on: { quiet: "WS", ms: QUIET_MS }, do: [{ zero: "axles" }, { show: "S1", aspect: "danger" }] },
+      ],
+    },
+  } as LayoutFile;
+}
+
+describe("clock, sessions and fail-safe", () => {
+  let t: TestApp;
+  let h: LiveHarness;
+  let secret = "";
+  const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
+    t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
+
+  beforeAll(async () => {
+    t = await startTestApp();
+    h = await startLiveHarness(t, { sessionIdleMs: IDLE_MS });
+    const engineer = await t.signIn("engineer");
+    expect((await engineer.post("/api/layouts/import").send(sidingLayout())).status).toBe(201);
+    await waitFor(() => h.runtime.runner(SLUG) !== undefined, "the new layout's runner");
+    const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] });
+    secret = res.body.secret;
+  });
+  afterAll(async () => {
+    await h?.close();
+    await t?.close();
+  });
+
+  it("a quiet trigger fires from the server clock, is stored as a tick, and survives a restart", async () => {
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { subscribe: true });
+    await board.pulse("WS");
+    await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
+    await waitFor(() => board.aspects.get("S1")?.aspect === "danger", "S1 back to danger after the quiet time");
+    await h.runtime.idle();
+    const ticks = await q<{ kind: string; input: { type: string } }>(`SELECT kind, input FROM events WHERE kind = 'tick'`);
+    expect(ticks.length).toBe(1);
+    const live = await h.runtime.liveState(SLUG);
+    expect(live.counters.axles).toBe(0);
+    expect(live.quiet).toEqual({});
+    const before = h.runtime.runner(SLUG)!.engineState();
+    await h.runtime.crash();
+    const runtime = await h.startRuntime({ sessionIdleMs: IDLE_MS });
+    expect(runtime.runner(SLUG)!.engineState()).toEqual(before);
+    await board.end();
+  });
+
+  it("a session closes after idle and the next pulse opens a new one", async () => {
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { boot: "sess01" });
+    await board.pulse("WS");
+    await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'sess01'`))[0].n === 1, "the pulse");
+    const [first] = await q<{ session_id: number }>(`SELECT session_id FROM events WHERE boot = 'sess01'`);
+    await waitFor(
+      async () => (await q<{ close_reason: string | null }>(`SELECT close_reason FROM sessions WHERE id = :id`, { id: first.session_id }))[0].close_reason === "idle",
+      "the session to close after idle",
+    );
+    await board.pulse("WS");
+    await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'sess01'`))[0].n === 2, "the second pulse");
+    const rows = await q<{ session_id: number }>(`SELECT session_id FROM events WHERE boot = 'sess01' ORDER BY id`);
+    expect(rows[1].session_id).toBeGreaterThan(first.session_id);
+    await board.end();
+  });
+
+  it("when the engine fails every signal goes to danger until a signaller restarts", async () => {
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { subscribe: true, boot: "fault1" });
+    await board.pulse("WS");
+    await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
+    engineBroken.now = true;
+    await board.pulse("WS");
+    await waitFor(() => board.aspects.get("S1")?.aspect === "danger", "S1 at danger on the engine failure");
+    await h.runtime.idle();
+    const [event] = await q<{ status: string; reason: string }>(`SELECT status, reason FROM events WHERE boot = 'fault1' ORDER BY id DESC LIMIT 1`);
+    expect(event.status).toBe("rejected");
+    expect(event.reason).toMatch(/engine failed/);
+    engineBroken.now = false;
+    await board.pulse("WS"); // still refused: the pipeline stays at danger until a restart
+    await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'fault1'`))[0].n === 3, "the third pulse");
+    expect((await h.runtime.liveState(SLUG)).faulted?.reason).toMatch(/engine failed/);
+    const alarms = await q<{ kind: string }>(`SELECT kind FROM alarms WHERE kind = 'rulebook' AND subject = 'pipeline'`);
+    expect(alarms.length).toBe(1);
+
+    const signaller = await t.signIn("signaller");
+    const res = await signaller.post(`/api/layouts/${SLUG}/commands`).send({ type: "restart", reason: "engine checked, resuming" });
+    expect(res.status).toBe(200);
+    expect(res.body.faulted).toBeNull();
+    await board.pulse("WS");
+    await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear again after the restart");
+    await board.end();
+  });
+});
