@@ -15,7 +15,8 @@ import type { Authenticate, BrokerIdentity } from "./server";
 export interface DbAuthOptions {
   pool: pg.Pool;
   serverUsername: string;
-  serverPassword: string;
+  /** A function is asked at every login, e.g. to re-read a secret file another process may have written. */
+  serverPassword: string | (() => string);
 }
 
 function sameText(a: string, b: string): boolean {
@@ -27,7 +28,8 @@ function sameText(a: string, b: string): boolean {
 export function databaseAuthenticator(options: DbAuthOptions): Authenticate {
   return async (username, password): Promise<BrokerIdentity | null> => {
     if (!username || !password) return null;
-    if (options.serverPassword && sameText(username, options.serverUsername) && sameText(password, options.serverPassword)) {
+    const serverPassword = typeof options.serverPassword === "function" ? options.serverPassword() : options.serverPassword;
+    if (serverPassword && sameText(username, options.serverUsername) && sameText(password, serverPassword)) {
       return { kind: "server" };
     }
     const { rows } = await options.pool.query<{ slug: string; node_id: string; secret_hash: string }>(

@@ -19,7 +19,10 @@ const logger = createLogger();
 async function main(): Promise<void> {
   const config = configFromEnv(process.env);
   if (!config.databaseUrl) throw new Error("DATABASE_URL must be set: the broker checks node secrets against the database");
-  const serverPassword = config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
+  // Read at every server login: the server may create the same file at the same moment on a
+  // first start, and whichever write lands last is the one both sides use.
+  const serverPassword = () => config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
+  serverPassword();
   const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 4 });
   pool.on("error", (err) => logger.warn({ err }, "database connection lost; the next login reconnects"));
   const broker = await startBroker({

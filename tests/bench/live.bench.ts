@@ -1,7 +1,7 @@
 /**
  * Live pipeline figures: its own PostgreSQL (durable settings, as `npm start` runs it), the
- * aedes broker and the runtime in this process, real mqtt.js boards and a socket.io browser,
- * all on loopback.
+ * broker as its own process (`broker/index.ts`, as `npm start` runs it), the runtime in this
+ * process, real mqtt.js boards and a socket.io browser, all on loopback.
  *
  * - bare MQTT QoS 1 publish → subscribe round trip (the floor for everything else);
  * - pulse → aspect command at a subscribed board, and pulse → socket.io update, at 50 and
@@ -13,6 +13,7 @@
  * toggling its own signal, so every pulse changes exactly one aspect and pulses for one
  * signal are 20 pulses apart (40 ms at 500/s: no two land in one group commit there).
  */
+import { spawn } from "node:child_process";
 import fs from "node:fs";
 import http from "node:http";
 import type { AddressInfo } from "node:net";
@@ -20,8 +21,6 @@ import os from "node:os";
 import path from "node:path";
 import mqtt from "mqtt";
 import { io as ioClient } from "socket.io-client";
-import { databaseAuthenticator } from "../../broker/auth";
-import { startBroker } from "../../broker/server";
 import type { LiveUpdate } from "../../shared/contract/live";
 import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 import { Bus } from "../../server/bus";
@@ -34,7 +33,7 @@ import { importLayout, registerNode } from "../../server/features/layouts/servic
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { createApp } from "../../server/app";
 import { createLogger } from "../../server/logger";
-import { poolFromDeps, startLiveRuntime } from "../../server/runtime/liveRuntime";
+import { startLiveRuntime } from "../../server/runtime/liveRuntime";
 
 type Report = (name: string, value: number, unit: string) => void;
 
@@ -104,12 +103,23 @@ export async function run(report: Report): Promise<void> {
     const detectorIds = Array.from({ length: SIGNALS }, (_, i) => `T${pad(i)}`);
     const { secret } = await registerNode(deps, SLUG, { id: "bench-board", name: "Bench board", detectors: [...detectorIds, "FILL"], signals: signalIds });
 
-    const authPool = poolFromDeps(deps, 2);
-    cleanups.unshift(() => authPool.end());
     const serverPassword = "bench-server-password";
-    const broker = await startBroker({ port: 0, authenticate: databaseAuthenticator({ pool: authPool, serverUsername: "blocklight-server", serverPassword }) });
-    cleanups.unshift(() => broker.close());
-    const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
+    const mqttPort = await freePort();
+    const broker = spawn(process.execPath, ["--import", "tsx", "broker/index.ts"], {
+      env: { ...process.env, DATABASE_URL: url, MQTT_PORT: String(mqttPort), SERVER_MQTT_PASSWORD: serverPassword, DATA_DIR: dataDir, LOG_LEVEL: "warn" },
+      stdio: ["ignore", "ignore", "inherit"],
+    });
+    cleanups.unshift(() => new Promise<void>((resolve) => (broker.exitCode !== null ? resolve() : (broker.once("exit", () => resolve()), broker.kill("SIGTERM")))));
+    const mqttUrl = `mqtt://127.0.0.1:${mqttPort}`;
+    for (let tries = 0; ; tries++) {
+      try {
+        await (await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, reconnectPeriod: 0 })).endAsync();
+        break;
+      } catch (err) {
+        if (tries > 200) throw err;
+        await sleep(50);
+      }
+    }
     const runtime = await startLiveRuntime({ deps, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
     cleanups.unshift(() => runtime.stop());
     deps.live = runtime;
