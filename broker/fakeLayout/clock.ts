@@ -12,13 +12,24 @@ export interface Scheduler {
   after(ms: number, fn: () => void): Cancel;
 }
 
-/** Real time, `speed` times faster (speed 10: one wall second is ten scenario seconds). */
+/**
+ * Real time, `speed` times faster (speed 10: one wall second is ten scenario seconds).
+ * When a timer fires late (a busy machine, a garbage collection), scenario time slips by the
+ * delay instead of jumping: the trains pause rather than firing a burst of pulses at once,
+ * which the server would rightly take for a chattering detector.
+ */
 export function realScheduler(speed = 1): Scheduler {
-  const startedAt = performance.now();
+  let origin = performance.now();
+  const now = () => (performance.now() - origin) * speed;
   return {
-    now: () => (performance.now() - startedAt) * speed,
+    now,
     after(ms, fn) {
-      const timer = setTimeout(fn, Math.max(0, ms / speed));
+      const due = now() + Math.max(0, ms);
+      const timer = setTimeout(() => {
+        const late = now() - due;
+        if (late > 0) origin += late / speed;
+        fn();
+      }, Math.max(0, ms / speed));
       return () => clearTimeout(timer);
     },
   };
