@@ -9,9 +9,13 @@ export function formatDuration(ms: number): string {
   return `${h} h ${String(m % 60).padStart(2, "0")} min`;
 }
 
+// One formatter for the whole app: toLocaleTimeString builds a new one per call, which the
+// event ticker would do hundreds of times a second under load.
+const TIME_OF_DAY = new Intl.DateTimeFormat("en-GB", { hour: "2-digit", minute: "2-digit", second: "2-digit" });
+
 /** Time of day with seconds, e.g. "10:15:03". */
 export function formatTime(iso: string | number): string {
   const date = new Date(iso);
   if (Number.isNaN(date.getTime())) return String(iso);
-  return date.toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit", second: "2-digit" });
+  return TIME_OF_DAY.format(date);
 }

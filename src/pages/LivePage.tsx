@@ -19,6 +19,10 @@ import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
 import { useLiveLayout } from "../hooks/useLiveLayout";
 import { useNow } from "../hooks/useNow";
+import { useThrottledValue } from "../hooks/useThrottledValue";
+
+/** The state table and the ticker are read, not watched: they follow at most this often. */
+const PANEL_REFRESH_MS = 250;
 import { can } from "../lib/permissions";
 
 /** The control room: mimic, state, events, nodes, alarms and (for signallers) commands. */
@@ -37,13 +41,19 @@ export default function LivePage() {
   const [draft, setDraft] = useState<CommandDraft | null>(null);
   const [notice, setNotice] = useState<string | null>(null);
   const canControl = can.controlLive(user.role);
+  const panelState = useThrottledValue(live.data, PANEL_REFRESH_MS);
+  const panelTicker = useThrottledValue(ticker, PANEL_REFRESH_MS);
 
   const routes = rulebook.data?.rulebook.proving?.routes;
   const mimicLayout = useMemo(() => layout.data, [layout.data]);
-  const onCommand = useCallback((c: CommandDraft) => {
-    command.reset();
-    setDraft(c);
-  }, [command]);
+  const resetCommand = command.reset;
+  const onCommand = useCallback(
+    (c: CommandDraft) => {
+      resetCommand();
+      setDraft(c);
+    },
+    [resetCommand],
+  );
 
   if (layout.isPending || (live.isPending && !live.isError)) return <Loading what="the live layout" />;
   if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
@@ -92,18 +102,18 @@ export default function LivePage() {
         </p>
       ) : null}
 
-      <Mimic title={mimicLayout.name} layout={mimicLayout} state={state} routes={routes} pulses={pulses} className="border border-panel-700" />
+      <Mimic title={mimicLayout.name} layout={mimicLayout} state={state} routes={routes} pulses={pulses} className="border border-panel-700 [contain:layout_paint] will-change-transform" />
 
       <Panel title="Nodes">
         <NodeStrip nodes={mimicLayout.nodes} live={state.nodes} now={now} />
       </Panel>
 
       <div className="grid gap-4 lg:grid-cols-2">
-        <Panel title="State">
-          <StatePanel state={state} signals={mimicLayout.signals} now={now} onCommand={canControl ? onCommand : undefined} />
+        <Panel title="State" className="[contain:layout_paint]">
+          <StatePanel state={panelState ?? state} signals={mimicLayout.signals} now={now} onCommand={canControl ? onCommand : undefined} />
         </Panel>
-        <Panel title="Events">
-          <EventTicker entries={ticker} />
+        <Panel title="Events" className="[contain:layout_paint]">
+          <EventTicker entries={panelTicker} />
         </Panel>
       </div>
 

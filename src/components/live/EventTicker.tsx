@@ -33,31 +33,35 @@ const KIND_STYLE: Record<string, string> = {
   tick: "text-ink-faint",
 };
 
+const TickerRow = memo(function TickerRow({ entry }: { entry: TickerEntry }) {
+  const { kind, text } = describeEvent(entry);
+  return (
+    <li className="rounded border border-panel-700 bg-panel-950 px-2 py-1">
+      <div className="flex gap-2">
+        <span className="text-ink-faint">{entry.event ? formatTime(entry.event.receivedAt) : ""}</span>
+        <span className={`font-semibold ${KIND_STYLE[kind] ?? "text-ink"}`}>{text}</span>
+      </div>
+      {entry.changes.length > 0 ? (
+        <ul className="ml-4 text-xs text-ink-soft">
+          {entry.changes
+            .filter((c) => c.kind !== "quiet")
+            .map((c, i) => (
+              <li key={i}>{describeChange(c)}</li>
+            ))}
+        </ul>
+      ) : null}
+    </li>
+  );
+});
+
 /** The newest events first, each with the changes it caused and the rule that made them. */
 export const EventTicker = memo(function EventTicker({ entries }: { entries: TickerEntry[] }) {
   if (entries.length === 0) return <p className="text-sm text-ink-faint">Waiting for the first event of this session…</p>;
   return (
-    <ol aria-label="Live events, newest first" className="max-h-96 space-y-1 overflow-y-auto pr-1 font-mono text-sm">
-      {entries.map((entry) => {
-        const { kind, text } = describeEvent(entry);
-        return (
-          <li key={entry.version} className="rounded border border-panel-700 bg-panel-950 px-2 py-1">
-            <div className="flex gap-2">
-              <span className="text-ink-faint">{entry.event ? formatTime(entry.event.receivedAt) : ""}</span>
-              <span className={`font-semibold ${KIND_STYLE[kind] ?? "text-ink"}`}>{text}</span>
-            </div>
-            {entry.changes.length > 0 ? (
-              <ul className="ml-4 text-xs text-ink-soft">
-                {entry.changes
-                  .filter((c) => c.kind !== "quiet")
-                  .map((c, i) => (
-                    <li key={i}>{describeChange(c)}</li>
-                  ))}
-              </ul>
-            ) : null}
-          </li>
-        );
-      })}
+    <ol aria-label="Live events, newest first" className="max-h-96 space-y-1 overflow-y-auto pr-1 font-mono text-sm [contain:strict] h-96">
+      {entries.map((entry) => (
+        <TickerRow key={entry.version} entry={entry} />
+      ))}
     </ol>
   );
 });

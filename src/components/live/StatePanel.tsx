@@ -1,4 +1,4 @@
-import type { ReactNode } from "react";
+import { memo, type ReactNode } from "react";
 import type { LiveState } from "../../../shared/contract/live";
 import type { LayoutSignal } from "../../../shared/layout/schema";
 import { formatDuration } from "../../lib/duration";
@@ -12,7 +12,7 @@ interface StatePanelProps {
   state: LiveState;
   signals: LayoutSignal[];
   now: number;
-  /** Present for signallers and admins: offers the commands. */
+  /** Present for signallers and admins: offers the commands. Keep it stable (useCallback). */
   onCommand?: (command: CommandDraft) => void;
 }
 
@@ -23,20 +23,53 @@ const ASPECT_TEXT: Record<string, string> = {
   dark: "text-ink-faint",
 };
 
-function Row({ name, value, since, now, long, action, attr }: { name: string; value: ReactNode; since?: string; now: number; long?: boolean; action?: ReactNode; attr: Record<string, string> }) {
+type Act = "hold" | "release" | "set" | "clear" | "zero";
+
+function draftFor(act: Act, target: string): CommandDraft {
+  if (act === "hold" || act === "release") return { type: act, signal: target };
+  if (act === "zero") return { type: act, counter: target };
+  return { type: act, latch: target };
+}
+
+interface RowProps {
+  kind: string;
+  target: string;
+  label: string;
+  value: string;
+  valueClass: string;
+  badge?: string;
+  since?: string;
+  now: number;
+  long?: boolean;
+  act?: Act;
+  onCommand?: (command: CommandDraft) => void;
+}
+
+// Memoised with plain props: under a stream of pushes only the rows that changed re-render.
+const Row = memo(function Row({ kind, target, label, value, valueClass, badge, since, now, long, act, onCommand }: RowProps) {
   const age = since ? now - Date.parse(since) : NaN;
   const stale = Boolean(long && age > LONG_SET_MS);
+  const action = act && onCommand;
   return (
-    <tr {...attr} className="border-t border-panel-700">
-      <th scope="row" className="py-1.5 pr-3 text-left font-semibold">
-        {name}
+    <tr {...{ [`data-state-${kind}`]: target }} className="border-t border-panel-700">
+      <th scope="row" className="w-[38%] truncate py-1.5 pr-3 text-left font-semibold">
+        {label}
       </th>
-      <td className="py-1.5 pr-3">{value}</td>
-      <td className={`py-1.5 pr-3 text-xs ${stale ? "font-semibold text-aspect-caution" : "text-ink-faint"}`}>{since ? `for ${formatDuration(age)}` : ""}</td>
-      <td className="py-1.5 text-right">{action}</td>
+      <td className="py-1.5 pr-3">
+        <span className={valueClass}>{value}</span>
+        {badge ? <span className="ml-2 rounded bg-ink px-1.5 text-xs text-panel-950">{badge}</span> : null}
+      </td>
+      <td className={`w-[18%] py-1.5 pr-3 text-xs ${stale ? "font-semibold text-aspect-caution" : "text-ink-faint"}`}>{since ? `for ${formatDuration(age)}` : ""}</td>
+      <td className="w-[26%] py-1.5 text-right">
+        {action ? (
+          <Button tone={act === "hold" ? "danger" : "plain"} className="px-2 py-0.5 text-xs" onClick={() => onCommand(draftFor(act, target))}>
+            {`${act[0].toUpperCase()}${act.slice(1)} ${target}`}
+          </Button>
+        ) : null}
+      </td>
     </tr>
   );
-}
+});
 
 function Group({ title, children, empty }: { title: string; children: ReactNode[]; empty: string }) {
   return (
@@ -45,7 +78,7 @@ function Group({ title, children, empty }: { title: string; children: ReactNode[
       {children.length === 0 ? (
         <p className="py-1 text-sm text-ink-faint">{empty}</p>
       ) : (
-        <table className="w-full text-sm">
+        <table className="w-full table-fixed text-sm">
           <tbody>{children}</tbody>
         </table>
       )}
@@ -56,13 +89,6 @@ function Group({ title, children, empty }: { title: string; children: ReactNode[
 /** Signals, latches, counters, selectors and armed quiet triggers, each with how long it has been so. */
 export function StatePanel({ state, signals, now, onCommand }: StatePanelProps) {
   const held = new Set(state.held);
-  const act = (label: string, command: CommandDraft, tone: "plain" | "danger" = "plain") =>
-    onCommand ? (
-      <Button tone={tone} className="px-2 py-0.5 text-xs" onClick={() => onCommand(command)}>
-        {label}
-      </Button>
-    ) : null;
-
   return (
     <div>
       <Group title="Signals" empty="No signals.">
@@ -72,17 +98,16 @@ export function StatePanel({ state, signals, now, onCommand }: StatePanelProps) 
           return (
             <Row
               key={s.id}
-              attr={{ "data-state-signal": s.id }}
-              name={`${s.id} ${s.name}`}
-              value={
-                <span className={`font-semibold uppercase ${ASPECT_TEXT[aspect]}`}>
-                  {aspect}
-                  {isHeld ? <span className="ml-2 rounded bg-ink px-1.5 text-xs text-panel-950">held</span> : null}
-                </span>
-              }
+              kind="signal"
+              target={s.id}
+              label={`${s.id} ${s.name}`}
+              value={aspect.toUpperCase()}
+              valueClass={`font-semibold ${ASPECT_TEXT[aspect]}`}
+              badge={isHeld ? "held" : undefined}
               since={state.since[`signal:${s.id}`]}
               now={now}
-              action={isHeld ? act(`Release ${s.id}`, { type: "release", signal: s.id }) : act(`Hold ${s.id}`, { type: "hold", signal: s.id }, "danger")}
+              act={isHeld ? "release" : "hold"}
+              onCommand={onCommand}
             />
           );
         })}
@@ -91,13 +116,16 @@ export function StatePanel({ state, signals, now, onCommand }: StatePanelProps) 
         {Object.entries(state.latches).map(([name, on]) => (
           <Row
             key={name}
-            attr={{ "data-state-latch": name }}
-            name={name}
-            value={<span className={on ? "font-semibold text-brass" : "text-ink-soft"}>{on ? "set" : "clear"}</span>}
+            kind="latch"
+            target={name}
+            label={name}
+            value={on ? "set" : "clear"}
+            valueClass={on ? "font-semibold text-brass" : "text-ink-soft"}
             since={state.since[`latch:${name}`]}
             now={now}
             long={on}
-            action={on ? act(`Clear ${name}`, { type: "clear", latch: name }) : act(`Set ${name}`, { type: "set", latch: name })}
+            act={on ? "clear" : "set"}
+            onCommand={onCommand}
           />
         ))}
       </Group>
@@ -105,24 +133,27 @@ export function StatePanel({ state, signals, now, onCommand }: StatePanelProps) 
         {Object.entries(state.counters).map(([name, n]) => (
           <Row
             key={name}
-            attr={{ "data-state-counter": name }}
-            name={name}
-            value={<span className={n > 0 ? "font-semibold text-brass" : "text-ink-soft"}>{n}</span>}
+            kind="counter"
+            target={name}
+            label={name}
+            value={String(n)}
+            valueClass={n > 0 ? "font-semibold text-brass" : "text-ink-soft"}
             since={state.since[`counter:${name}`]}
             now={now}
             long={n > 0}
-            action={n > 0 ? act(`Zero ${name}`, { type: "zero", counter: name }) : null}
+            act={n > 0 ? "zero" : undefined}
+            onCommand={onCommand}
           />
         ))}
       </Group>
       <Group title="Selectors" empty="This rulebook has no selectors.">
         {Object.entries(state.selectors).map(([name, value]) => (
-          <Row key={name} attr={{ "data-state-selector": name }} name={name} value={<span className="font-semibold">{value}</span>} since={state.since[`selector:${name}`]} now={now} />
+          <Row key={name} kind="selector" target={name} label={name} value={value} valueClass="font-semibold" since={state.since[`selector:${name}`]} now={now} />
         ))}
       </Group>
       <Group title="Armed quiet triggers" empty="None armed.">
         {Object.entries(state.quiet).map(([rule, deadline]) => (
-          <Row key={rule} attr={{ "data-state-quiet": rule }} name={rule} value={<span className="text-ink-soft">fires in {formatDuration(Date.parse(deadline) - now)}</span>} now={now} />
+          <Row key={rule} kind="quiet" target={rule} label={rule} value={`fires in ${formatDuration(Date.parse(deadline) - now)}`} valueClass="text-ink-soft" now={now} />
         ))}
       </Group>
     </div>

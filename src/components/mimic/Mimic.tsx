@@ -1,4 +1,4 @@
-import { memo, useMemo } from "react";
+import { memo, useEffect, useMemo, useRef, useState } from "react";
 import type { LayoutDetector, LayoutSignal } from "../../../shared/layout/schema";
 import type { ShownAspect } from "../../../shared/rulebook/schema";
 import { layoutGeometry, pathBetween, type MimicLayout, type Pt } from "./geometry";
@@ -51,14 +51,46 @@ const NO_PULSES: Record<string, number> = {};
 
 const toPoints = (pts: Pt[]) => pts.map((p) => `${p[0].toFixed(1)},${p[1].toFixed(1)}`).join(" ");
 
-// The flash restarts because the ring is re-keyed on every pulse; no timers in React.
+/** How long a detector stays lit after a pulse. */
+export const PULSE_FLASH_MS = 500;
+
+// The only animation is on held signals (rare). Pulse flashes are static highlights switched
+// off by one timer: a CSS animation per pulse keeps the whole SVG repainting every frame,
+// which a clubroom PC cannot afford at 200 pulses a second.
 const MIMIC_CSS = `
-@keyframes blocklight-pulse { 0% { opacity: 1; r: 7px; } 100% { opacity: 0; r: 22px; } }
-.bl-pulse { animation: blocklight-pulse 700ms ease-out forwards; }
 @keyframes blocklight-held { 0%, 100% { opacity: 1; } 50% { opacity: 0.35; } }
 .bl-held { animation: blocklight-held 1.6s ease-in-out infinite; }
-@media (prefers-reduced-motion: reduce) { .bl-pulse, .bl-held { animation: none; } }
+@media (prefers-reduced-motion: reduce) { .bl-held { animation: none; } }
 `;
+
+/** Detectors pulsed within the last PULSE_FLASH_MS, from their pulse counts. */
+function useLitDetectors(pulses: Record<string, number>): Set<string> {
+  const seen = useRef<Record<string, number>>({});
+  const litUntil = useRef<Record<string, number>>({});
+  const [, setTick] = useState(0);
+  const now = Date.now();
+  for (const [d, n] of Object.entries(pulses)) {
+    if (seen.current[d] !== n) {
+      seen.current[d] = n;
+      litUntil.current[d] = now + PULSE_FLASH_MS;
+    }
+  }
+  const lit = new Set<string>();
+  let next = Infinity;
+  for (const [d, until] of Object.entries(litUntil.current)) {
+    if (until > now) {
+      lit.add(d);
+      next = Math.min(next, until);
+    } else delete litUntil.current[d];
+  }
+  const litKey = [...lit].sort().join(",");
+  useEffect(() => {
+    if (next === Infinity) return;
+    const timer = setTimeout(() => setTick((t) => t + 1), Math.max(16, next - Date.now()));
+    return () => clearTimeout(timer);
+  }, [litKey, next]);
+  return lit;
+}
 
 /**
  * The drawn mimic: tracks, points, detectors and signals of a layout with each signal's
@@ -67,6 +99,7 @@ const MIMIC_CSS = `
  */
 export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, title, size = "panel", className = "" }: MimicProps) {
   const geometry = useMemo(() => layoutGeometry(layout), [layout]);
+  const lit = useLitDetectors(pulses);
   const held = useMemo(() => new Set(state.held ?? []), [state.held]);
   const occupancy = useMemo(
     () => deriveOccupancy(routes, { counters: state.counters ?? {}, selectors: state.selectors ?? {}, shown: state.shown }),
@@ -147,7 +180,7 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
       <g>
         {layout.detectors.map((d) => {
           const at = geometry.detectors[d.id];
-          return at ? <DetectorMark key={d.id} detector={d} at={at} labelDy={geometry.detectorLabelDy[d.id] ?? 24} pulses={pulses[d.id] ?? 0} latest={lastPulsed === d.id} scale={scale} /> : null;
+          return at ? <DetectorMark key={d.id} detector={d} at={at} labelDy={geometry.detectorLabelDy[d.id] ?? 24} pulses={pulses[d.id] ?? 0} lit={lit.has(d.id)} latest={lastPulsed === d.id} scale={scale} /> : null;
         })}
       </g>
       <g>
@@ -168,11 +201,12 @@ interface DetectorMarkProps {
   at: Pt;
   labelDy: number;
   pulses: number;
+  lit: boolean;
   latest: boolean;
   scale: number;
 }
 
-const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses, latest, scale }: DetectorMarkProps) {
+const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses, lit, latest, scale }: DetectorMarkProps) {
   return (
     <g
       role="img"
@@ -180,12 +214,13 @@ const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses,
       data-detector={detector.id}
       data-pulses={pulses}
       data-pulsed={latest ? "true" : undefined}
+      data-lit={lit ? "true" : undefined}
       transform={`translate(${at[0]} ${at[1]})`}
     >
       <title>{`${detector.name} at ${detector.at} m`}</title>
       {latest ? <circle r={13 * scale} fill="none" stroke={PULSE} strokeWidth={2.5} /> : null}
-      {pulses > 0 ? <circle key={pulses} className="bl-pulse" r={7} fill="none" stroke={PULSE} strokeWidth={3} /> : null}
-      <rect x={-2.5 * scale} y={-9 * scale} width={5 * scale} height={18 * scale} rx={1.5} fill={pulses > 0 ? "#b9ecf7" : "#c9d3dd"} stroke="#0b1016" strokeWidth={1} />
+      {lit ? <circle r={14 * scale} fill={PULSE} fillOpacity={0.18} stroke={PULSE} strokeWidth={3} /> : null}
+      <rect x={-2.5 * scale} y={-9 * scale} width={5 * scale} height={18 * scale} rx={1.5} fill={lit ? PULSE : "#c9d3dd"} stroke="#0b1016" strokeWidth={1} />
       <text y={labelDy * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
         {detector.id}
       </text>
