@@ -9,7 +9,7 @@
  * - a ramp of offered rates: the highest with every pulse committed and pulse → socket
  *   update p99 under 100 ms.
  *
- * The bench layout is a test bench of the (invented) Fernmoor society: 20 detectors, each
+ * Pulses come from four boards. The bench layout is a test bench of the (invented) Fernmoor society: 20 detectors, each
  * toggling its own signal, so every pulse changes exactly one aspect and pulses for one
  * signal are 20 pulses apart (40 ms at 500/s: no two land in one group commit there).
  */
@@ -38,6 +38,8 @@ import { startLiveRuntime } from "../../server/runtime/liveRuntime";
 type Report = (name: string, value: number, unit: string) => void;
 
 const SIGNALS = 20;
+/** Boards sharing the offered rate, as on a layout (one board at 10k/s is no layout's case). */
+const BOARDS = 4;
 const SLUG = "kestrel-bench";
 const BARE_SAMPLES = 2_000;
 const RATE_SECONDS = 6;
@@ -61,7 +63,7 @@ function benchLayout(): LayoutFile {
     lines: [{ id: "bench", name: "Test bench" }],
     detectors: [
       ...ids.map((id, i) => ({ id: `T${id}`, name: `Bench detector ${id}`, line: "bench", at: i })),
-      { id: "FILL", name: "Bench filler detector", line: "bench", at: SIGNALS },
+      ...Array.from({ length: BOARDS }, (_, k) => ({ id: `FILL${k}`, name: `Bench filler detector ${k}`, line: "bench", at: SIGNALS + k })),
     ],
     signals: ids.map((id, i) => ({ id: `S${id}`, name: `Bench signal ${id}`, line: "bench", at: i + 0.5, aspects: ["danger", "clear"] })),
     points: [],
@@ -101,7 +103,12 @@ export async function run(report: Report): Promise<void> {
     await importLayout(deps, benchLayout(), null);
     const signalIds = Array.from({ length: SIGNALS }, (_, i) => `S${pad(i)}`);
     const detectorIds = Array.from({ length: SIGNALS }, (_, i) => `T${pad(i)}`);
-    const { secret } = await registerNode(deps, SLUG, { id: "bench-board", name: "Bench board", detectors: [...detectorIds, "FILL"], signals: signalIds });
+    const secrets: string[] = [];
+    for (let k = 0; k < BOARDS; k++) {
+      const detectors = [...detectorIds.filter((_, i) => i % BOARDS === k), `FILL${k}`];
+      const { secret } = await registerNode(deps, SLUG, { id: `bench-board-${k}`, name: `Bench board ${k}`, detectors, signals: k === 0 ? signalIds : [] });
+      secrets.push(secret);
+    }
 
     const serverPassword = "bench-server-password";
     const mqttPort = await freePort();
@@ -148,8 +155,11 @@ export async function run(report: Report): Promise<void> {
     await Promise.all([bareSub.endAsync(), barePub.endAsync()]);
 
     // ── a board and a browser ──
-    const board = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "bench-board", password: secret, clientId: "bench-board" });
-    (board.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
+    const boards = await Promise.all(
+      secrets.map((secret, k) => mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: `bench-board-${k}`, password: secret, clientId: `bench-board-${k}` })),
+    );
+    for (const b of boards) (b.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
+    const board = boards[0];
     await board.subscribeAsync(`blocklight/v1/${SLUG}/signal/#`, { qos: 1 });
     const socket = ioClient(`http://127.0.0.1:${(server.address() as AddressInfo).port}`, {
       transports: ["websocket"],
@@ -164,8 +174,8 @@ export async function run(report: Report): Promise<void> {
 
     // Per-run bookkeeping: send time per seq, FIFO of pending pulses per signal.
     const boot = `bench${Date.now().toString(36)}`;
-    let seq = 0;
-    let sentAt = new Map<number, number>();
+    const seqs = new Array<number>(BOARDS).fill(0);
+    let sentAt = new Map<string, number>();
     let pendingBySignal = new Map<string, number[]>();
     let toAspect: number[] = [];
     let toSocket: number[] = [];
@@ -179,12 +189,13 @@ export async function run(report: Report): Promise<void> {
     });
     socket.on("live:update", (update: LiveUpdate) => {
       if (update.event?.kind !== "pulse" || update.event.boot !== boot) return;
-      const started = sentAt.get(update.event.seq!);
+      const key = `${update.event.node}:${update.event.seq}`;
+      const started = sentAt.get(key);
       // The server stamps receipt in wall-clock ms; same process, so the clocks agree.
       if (started !== undefined) ingress.push(Date.parse(update.event.receivedAt) - (performance.timeOrigin + started));
       if (started !== undefined) {
         toSocket.push(performance.now() - started);
-        sentAt.delete(update.event.seq!);
+        sentAt.delete(key);
       }
       committed++;
     });
@@ -207,18 +218,20 @@ export async function run(report: Report): Promise<void> {
       while (sent < total) {
         const due = Math.min(total, Math.floor(((performance.now() - begin) / 1000) * rate) + 1);
         for (; sent < due; sent++) {
-          seq++;
           const now = performance.now();
-          sentAt.set(seq, now);
-          let detector = "FILL";
-          if (seq % toggleEvery === 0) {
+          let k = sent % BOARDS;
+          let detector = `FILL${k}`;
+          if (sent % toggleEvery === 0) {
             const i = toggles++ % SIGNALS;
+            k = i % BOARDS;
             detector = detectorIds[i];
             const list = pendingBySignal.get(signalIds[i]) ?? [];
             list.push(now);
             pendingBySignal.set(signalIds[i], list);
           }
-          board.publish(`blocklight/v1/${SLUG}/node/bench-board/pulse`, `{"detector":"${detector}","seq":${seq},"boot":"${boot}"}`, { qos: 1 });
+          const seq = ++seqs[k];
+          sentAt.set(`bench-board-${k}:${seq}`, now);
+          boards[k].publish(`blocklight/v1/${SLUG}/node/bench-board-${k}/pulse`, `{"detector":"${detector}","seq":${seq},"boot":"${boot}"}`, { qos: 1 });
         }
         await sleep(1);
       }
@@ -259,7 +272,7 @@ export async function run(report: Report): Promise<void> {
     report("sustained-pulses-per-second", best, "pulses/s");
 
     socket.disconnect();
-    await board.endAsync();
+    await Promise.all(boards.map((b) => b.endAsync()));
   } finally {
     for (const cleanup of cleanups) {
       try {
