@@ -69,7 +69,7 @@ export default function LivePage() {
     });
 
   return (
-    <div className="space-y-4">
+    <div className="space-y-4" data-live-version={state.version}>
       <div className="flex flex-wrap items-center justify-between gap-3">
         <div>
           <h1 className="text-2xl font-bold">{mimicLayout.name}</h1>
@@ -87,6 +87,11 @@ export default function LivePage() {
           <Link to={`/layouts/${slug}/audit`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
             Audit log
           </Link>
+          {user.role === "admin" ? (
+            <Link to={`/layouts/${slug}/display-links`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+              Display links
+            </Link>
+          ) : null}
           {canControl ? (
             <Button tone="danger" onClick={() => onCommand({ type: "restart" })}>
               Restart rulebook
