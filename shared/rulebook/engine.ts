@@ -48,6 +48,7 @@
  *   by a show action, an aspect condition or a proving route, in order of first mention. A
  *   signal not in `initial` starts with wanted aspect danger.
  */
+import { signalsMentioned } from "./mentions";
 import type { Action, Aspect, Condition, Rule, Rulebook } from "./schema";
 
 export type EngineInput =
@@ -404,20 +405,7 @@ function compileWouldChange(actions: readonly Action[]): Test {
 }
 
 function mentionedSignals(rulebook: Rulebook): string[] {
-  const found = new Set<string>(Object.keys(rulebook.initial));
-  const visit = (condition: Condition | undefined): void => {
-    if (!condition) return;
-    if ("aspect" in condition) found.add(condition.aspect);
-    else if ("not" in condition) visit(condition.not);
-    else if ("all" in condition) condition.all.forEach(visit);
-    else if ("any" in condition) condition.any.forEach(visit);
-  };
-  for (const rule of rulebook.rules) {
-    visit(rule.if);
-    for (const action of rule.do) if ("show" in action) found.add(action.show);
-  }
-  for (const route of rulebook.proving?.routes ?? []) found.add(route.signal);
-  return [...found];
+  return [...signalsMentioned(rulebook, { includeProving: true })];
 }
 
 const compiledCache = new WeakMap<Rulebook, CompiledRulebook>();

@@ -13,6 +13,7 @@
  */
 import type { z } from "zod";
 import { LAYOUT_FORMAT, layoutFileSchema, type LayoutFile } from "../layout/schema";
+import { signalsMentioned } from "./mentions";
 import { ID_PATTERN, RULEBOOK_FORMAT, rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
 
 export interface ValidationError {
@@ -214,23 +215,6 @@ function duplicates<T extends { id: string }>(
   return seen;
 }
 
-/** Every signal a rulebook mentions, in order of first mention. */
-function signalsMentioned(rulebook: Rulebook): Set<string> {
-  const found = new Set<string>(Object.keys(rulebook.initial));
-  const visit = (condition: Condition | undefined): void => {
-    if (!condition) return;
-    if ("aspect" in condition) found.add(condition.aspect);
-    else if ("not" in condition) visit(condition.not);
-    else if ("all" in condition) condition.all.forEach(visit);
-    else if ("any" in condition) condition.any.forEach(visit);
-  };
-  for (const rule of rulebook.rules) {
-    visit(rule.if);
-    for (const action of rule.do) if ("show" in action) found.add(action.show);
-  }
-  return found;
-}
-
 function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContext | undefined, errors: ValidationError[]): void {
   const latches = new Set(Object.keys(rulebook.latches));
   const counters = new Set(Object.keys(rulebook.counters));
@@ -238,7 +222,7 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
   const detectors = context ? new Set(context.detectors) : undefined;
   const aspectsOf = new Map<string, Set<Aspect>>();
   if (context) for (const signal of context.signals) aspectsOf.set(signal.id, new Set(signal.aspects));
-  const signals = context ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook);
+  const signals = context ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook, { includeProving: false });
 
   const checkSignal = (signal: string, path: string): boolean => {
     if (signals.has(signal)) return true;
