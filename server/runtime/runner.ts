@@ -135,6 +135,7 @@ export class LayoutRunner {
   private idleTimer: NodeJS.Timeout | null = null;
   private alarmChain: Promise<void> = Promise.resolve();
   private idleWaiters: (() => void)[] = [];
+  private committed: Omit<LiveState, "alarms"> | null = null;
 
   constructor(
     private readonly deps: AppDeps,
@@ -218,6 +219,7 @@ export class LayoutRunner {
     // Tell every board the truth at once: the retained commands may be older than the state.
     this.publishDiff(this.options.now());
     await this.pool.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [this.layoutId, this.revReservation()]);
+    this.captureCommitted();
     this.armTimers();
   }
 
@@ -716,6 +718,7 @@ export class LayoutRunner {
       if (update.patch.session && update.patch.session.id === 0) update.patch.session = this.sessionDto();
       this.pushUpdate(update.event ? { event: update.event, id: ids.get(update.event)! } : null, update.patch);
     }
+    this.captureCommitted();
     for (const ack of effects.acks) ack();
     for (const done of effects.done) done();
     if (effects.alarms.length || effects.clears.length) {
@@ -896,12 +899,11 @@ export class LayoutRunner {
     };
   }
 
-  /** The full live state (CONTRACT.md §6); alarms come from the database. */
-  async liveState(): Promise<LiveState> {
-    const alarms = await listAlarms(this.deps, this.layoutId, "open");
+  /** The live state as of the last commit (nothing is shown before it is stored), alarms aside. */
+  private captureCommitted(): void {
     const nodes: Record<string, NodeLiveDto> = {};
     for (const id of this.nodes.keys()) nodes[id] = this.nodeLive.get(id) ?? { online: false, since: null, boot: null, fw: null };
-    return {
+    this.committed = {
       slug: this.slug,
       version: this.version,
       rulebookVersion: this.rulebookVersion,
@@ -913,10 +915,23 @@ export class LayoutRunner {
       held: this.state.held,
       quiet: this.quietDto(),
       faulted: this.faultedDto(),
-      alarms,
       nodes,
-      since: this.since,
+      since: { ...this.since },
     };
+  }
+
+  /**
+   * The full live state (CONTRACT.md §6) as committed; alarms come from the database. A
+   * fail-safe in force shows at once (danger needs no commit).
+   */
+  async liveState(): Promise<LiveState> {
+    const alarms = await listAlarms(this.deps, this.layoutId, "open");
+    const state: LiveState = { ...this.committed!, version: this.version, alarms };
+    if (this.pipelineFault || this.outage) {
+      state.shown = Object.fromEntries(Object.keys(state.shown).map((signal) => [signal, "danger" as const]));
+      state.faulted = this.faultedDto();
+    }
+    return state;
   }
 
   /** For tests: the engine state as it stands. */

@@ -132,4 +132,35 @@ describe("clock, sessions and fail-safe", () => {
     await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear again after the restart");
     await board.end();
   });
+
+  it("publishing a new rulebook restarts the live layout from its initial state, keeps holds, and is audited", async () => {
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { boot: "switch" });
+    const signaller = await t.signIn("signaller");
+    await signaller.post(`/api/layouts/${SLUG}/commands`).send({ type: "hold", signal: "S1", reason: "ganger on the siding" });
+    await board.pulse("WS");
+    await waitFor(async () => (await h.runtime.liveState(SLUG)).counters.axles === 1, "the axle counted");
+
+    const engineer = await t.signIn("engineer");
+    const next = sidingLayout().rulebook;
+    (next.rules[1].on as { quiet: string; ms: number }).ms = QUIET_MS * 2;
+    const draft = await engineer.post(`/api/layouts/${SLUG}/rulebooks`).send({ rulebook: next, note: "longer quiet time" });
+    expect(draft.status).toBe(201);
+    const version = draft.body.version as number;
+    expect((await engineer.post(`/api/layouts/${SLUG}/rulebooks/${version}/publish`)).status).toBe(200);
+    await waitFor(async () => (await h.runtime.liveState(SLUG)).rulebookVersion === version, "the runner on the new version");
+    await h.runtime.idle();
+
+    const live = await h.runtime.liveState(SLUG);
+    expect(live.counters.axles).toBe(0);
+    expect(live.held).toEqual(["S1"]);
+    const audit = await q<{ target: string }>(`SELECT target FROM audit_entries WHERE action = 'live-rulebook-switched'`);
+    expect(audit.map((a) => a.target)).toEqual([`version ${version}`]);
+
+    const before = h.runtime.runner(SLUG)!.engineState();
+    await h.runtime.crash();
+    const runtime = await h.startRuntime({ sessionIdleMs: IDLE_MS });
+    expect((await runtime.liveState(SLUG)).rulebookVersion).toBe(version);
+    expect(runtime.runner(SLUG)!.engineState()).toEqual(before);
+    await board.end();
+  });
 });
