@@ -1,6 +1,8 @@
 /** "4 s", "3 min 20 s", "2 h 05 min": how long something has been in its state. */
 export function formatDuration(ms: number): string {
-  if (!Number.isFinite(ms) || ms < 0) return "—";
+  if (!Number.isFinite(ms)) return "—";
+  // The server's clock may run a little ahead of this screen's: "just now", not a dash.
+  if (ms < 0) return "0 s";
   const s = Math.floor(ms / 1000);
   if (s < 60) return `${s} s`;
   const m = Math.floor(s / 60);

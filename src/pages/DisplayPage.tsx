@@ -2,6 +2,7 @@ import { useParams } from "react-router-dom";
 import { ApiError } from "../api/http";
 import { useConnection, useDisplay, useLiveState, usePulses } from "../api/live";
 import { Mimic } from "../components/mimic/Mimic";
+import { MimicLegend } from "../components/mimic/MimicLegend";
 import { useLiveLayout } from "../hooks/useLiveLayout";
 import { useNow } from "../hooks/useNow";
 
@@ -54,9 +55,7 @@ export default function DisplayPage() {
         <p role="status" data-connection={connection.status} className={stale ? "font-semibold text-aspect-caution" : ""}>
           {stale ? "Reconnecting — the picture may be out of date" : live.data?.faulted ? "All signals at danger" : "Live"}
         </p>
-        <p>
-          <span className="text-aspect-danger">● danger</span> · <span className="text-aspect-caution">● caution</span> · <span className="text-aspect-clear">● clear</span> · shaded track: train in section
-        </p>
+        <MimicLegend />
         <p>Blocklight — an operating aid; the society's rules apply</p>
       </footer>
     </main>

@@ -12,6 +12,7 @@ import { EventTicker } from "../components/live/EventTicker";
 import { NodeStrip } from "../components/live/NodeStrip";
 import { StatePanel } from "../components/live/StatePanel";
 import { Mimic } from "../components/mimic/Mimic";
+import { MimicLegend } from "../components/mimic/MimicLegend";
 import { Button } from "../components/ui/Button";
 import { Panel } from "../components/ui/Panel";
 import { SafetyNote } from "../components/ui/SafetyNote";
@@ -108,6 +109,7 @@ export default function LivePage() {
       ) : null}
 
       <Mimic title={mimicLayout.name} layout={mimicLayout} state={state} routes={routes} pulses={pulses} className="border border-panel-700 [contain:layout_paint] will-change-transform" />
+      <MimicLegend className="text-sm text-ink-soft" />
 
       <Panel title="Nodes">
         <NodeStrip nodes={mimicLayout.nodes} live={state.nodes} now={now} />

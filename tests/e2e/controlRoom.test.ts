@@ -8,6 +8,7 @@ import path from "node:path";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startAlarmWatchers, type AlarmWatchers } from "../../server/features/alarms/watchRunner";
+import { startMailer } from "../../server/features/mail/service";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { connectBoard, startLiveHarness, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
@@ -16,6 +17,7 @@ import { ARTIFACTS, chromiumAvailable, openBrowser } from "./pages/browser";
 import { DisplayPage } from "./pages/DisplayPage";
 import { LivePage } from "./pages/LivePage";
 import { LoginPage } from "./pages/LoginPage";
+import { MembersPage } from "./pages/MembersPage";
 
 const SLUG = "kestrel-bank";
 /** Short enough for a test to wait for: a counter left above 0 this long with no movement. */
@@ -34,6 +36,7 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
     fs.mkdirSync(ARTIFACTS, { recursive: true });
     t = await startTestApp({ config: { serveClient: true } });
     live = await startLiveHarness(t);
+    t.deps.mail = await startMailer(t.deps);
     watchers = startAlarmWatchers(t.deps, { config: { stuckAfterMs: STUCK_AFTER_MS }, tickMs: 200 });
     const engineer = await t.signIn("engineer");
     boards = {};
@@ -53,6 +56,7 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
 
   afterAll(async () => {
     await browser?.close();
+    await t?.deps.mail?.close();
     watchers?.stop();
     for (const board of Object.values(boards ?? {})) await board.end();
     await live?.close();
@@ -86,6 +90,7 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
     await alarms.open(SLUG);
     await alarms.alarmsOfKind("stuck").first().waitFor();
     await alarms.acknowledgeFirst("stuck", "Checked the bank: the train is standing at M1");
+    await page.screenshot({ path: path.join(ARTIFACTS, "alarms-page.png"), fullPage: true });
     const admin = await t.signIn("admin");
     const res = await admin.get(`/api/layouts/${SLUG}/alarms?state=all`);
     const stuck = res.body.alarms.find((a: { kind: string }) => a.kind === "stuck");
@@ -128,6 +133,23 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
       await display.screenshot(path.join(ARTIFACTS, "display.png"));
     } finally {
       await visitor.close();
+    }
+  });
+
+  it("lets an admin invite a member through the members page and read the mail in the outbox", async () => {
+    const admin = await openBrowser();
+    try {
+      const adminPage = await admin.context.newPage();
+      await new LoginPage(adminPage, live.httpUrl).signIn(demoEmail("admin"), DEMO_PASSWORD, "/admin/members");
+      const members = new MembersPage(adminPage);
+      await members.invite("new.maintainer@fernmoor.example", "maintainer");
+      await adminPage.goto(`${live.httpUrl}/admin/outbox`);
+      const mail = adminPage.locator("[data-mail]", { hasText: "new.maintainer@fernmoor.example" });
+      await mail.first().waitFor();
+      expect(await mail.first().textContent()).toMatch(/\/invite\/[A-Za-z0-9_-]+/);
+      await adminPage.screenshot({ path: path.join(ARTIFACTS, "outbox.png"), fullPage: true });
+    } finally {
+      await admin.close();
     }
   });
 });

@@ -262,19 +262,17 @@ const SignalMark = memo(function SignalMark({ signal, at, post, aspect, held, wa
   );
 });
 
-/** A small train symbol just before the signal, above the track. */
+/** A train standing on the track just before the signal (the rulebook counts it on the approach). */
 function WaitingTrain({ post, scale }: { post: Pt; scale: number }) {
-  const w = 26 * scale;
-  const h = 10 * scale;
-  const x = post[0] - w - 8 * scale;
+  const w = 30 * scale;
+  const h = 12 * scale;
+  const x = post[0] - w - 12 * scale;
   const y = post[1] - h / 2;
   return (
     <g data-train-waiting="true" aria-hidden="true">
+      <title>A train is waiting at this signal</title>
       <rect x={x} y={y} width={w} height={h} rx={3} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
-      <path d={`M ${x + w} ${y} l ${7 * scale} ${h / 2} l ${-7 * scale} ${h / 2} z`} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
-      <text x={x + w / 2} y={y - 5 * scale} textAnchor="middle" fill={BRASS} fontSize={10 * scale} fontWeight={700}>
-        waiting
-      </text>
+      <path d={`M ${x + w} ${y} l ${8 * scale} ${h / 2} l ${-8 * scale} ${h / 2} z`} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
     </g>
   );
 }

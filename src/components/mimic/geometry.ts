@@ -245,7 +245,8 @@ export function layoutGeometry(layout: MimicLayout): Geometry {
     ...sch.labels.map((l) => ({ x0: l.at[0], x1: l.at[0] + l.text.length * LABEL_CHAR_WIDTH, y0: l.at[1] - 12, y1: l.at[1] + 2 })),
   ];
   for (const [id, [x, y]] of Object.entries(detectors)) {
-    const below = { x0: x - 12, x1: x + 12, y0: y + DETECTOR_LABEL_BELOW - 12, y1: y + DETECTOR_LABEL_BELOW + 2 };
+    // Tall enough for the display's larger lettering (scale 1.25) too.
+    const below = { x0: x - 14, x1: x + 14, y0: y + DETECTOR_LABEL_BELOW - 12, y1: y + DETECTOR_LABEL_BELOW * 1.25 + 4 };
     const crowded = obstacles.some((o) => o.x0 < below.x1 && below.x0 < o.x1 && o.y0 < below.y1 && below.y0 < o.y1);
     detectorLabelDy[id] = crowded ? DETECTOR_LABEL_ABOVE : DETECTOR_LABEL_BELOW;
   }
