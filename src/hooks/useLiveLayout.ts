@@ -97,7 +97,13 @@ export function useLiveLayout(slug: string | undefined, options: { displayToken?
       void queryClient.invalidateQueries({ queryKey: alarmKeys.all });
     };
     const onConnect = () => void join("catching-up");
-    const onDisconnect = () => setConnection("reconnecting");
+    let reconnectTimer: ReturnType<typeof setTimeout> | undefined;
+    const onDisconnect = (reason: string) => {
+      setConnection("reconnecting");
+      // socket.io only reconnects by itself after a lost connection; when the server closed
+      // it (e.g. a revoked display link) ask again, and the join answers whether we may.
+      if (reason === "io server disconnect") reconnectTimer = setTimeout(() => !stopped && socket.connect(), REJOIN_DELAY_MS);
+    };
     const onConnectError = (err: Error) => setConnection("reconnecting", err.message);
 
     socket.on("live:update", onUpdate);
@@ -114,6 +120,7 @@ export function useLiveLayout(slug: string | undefined, options: { displayToken?
       if (frame !== undefined) cancelAnimationFrame(frame);
       clearTimeout(fallback);
       clearTimeout(rejoinTimer);
+      clearTimeout(reconnectTimer);
       socket.off("live:update", onUpdate);
       socket.off("live:state", onState);
       socket.off("alarm:changed", onAlarm);

@@ -21,13 +21,16 @@ export default function DisplayPage() {
   const pulses = usePulses(slug ?? "");
   const now = useNow();
 
-  if (display.isError) {
-    const gone = display.error instanceof ApiError && (display.error.status === 404 || display.error.status === 403 || display.error.status === 410);
+  const refused = connection.status === "refused";
+  if (display.isError || refused) {
+    const gone = refused || (display.error instanceof ApiError && (display.error.status === 404 || display.error.status === 403 || display.error.status === 410));
     return (
       <main className="flex min-h-screen items-center justify-center p-8 text-center">
         <div>
           <h1 className="text-4xl font-bold">Blocklight</h1>
-          <p className="mt-4 text-2xl text-ink-soft">{gone ? "This display link is no longer in use." : "Cannot reach the layout just now. Trying again…"}</p>
+          <p className="mt-4 text-2xl text-ink-soft" data-display-gone={gone ? "true" : undefined}>
+            {gone ? "This display link is no longer in use." : "Cannot reach the layout just now. Trying again…"}
+          </p>
         </div>
       </main>
     );

@@ -14,6 +14,7 @@ import { connectBoard, startLiveHarness, type Board, type LiveHarness } from "..
 import { startTestApp, type TestApp } from "../support/testApp";
 import { AlarmsPage } from "./pages/AlarmsPage";
 import { ARTIFACTS, chromiumAvailable, openBrowser } from "./pages/browser";
+import { DisplayLinksPage } from "./pages/DisplayLinksPage";
 import { DisplayPage } from "./pages/DisplayPage";
 import { LivePage } from "./pages/LivePage";
 import { LoginPage } from "./pages/LoginPage";
@@ -149,6 +150,31 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
       expect(await mail.first().textContent()).toMatch(/\/invite\/[A-Za-z0-9_-]+/);
       await adminPage.screenshot({ path: path.join(ARTIFACTS, "outbox.png"), fullPage: true });
     } finally {
+      await admin.close();
+    }
+  });
+
+  it("an admin makes and revokes a display link in the page; the open display then says it is no longer in use", async () => {
+    const admin = await openBrowser();
+    const visitor = await openBrowser({ width: 1280, height: 720 });
+    try {
+      const adminPage = await admin.context.newPage();
+      await new LoginPage(adminPage, live.httpUrl).signIn(demoEmail("admin"), DEMO_PASSWORD);
+      const links = new DisplayLinksPage(adminPage, live.httpUrl);
+      await links.open(SLUG);
+      const url = await links.make("Clubroom window");
+      expect(url).toMatch(/\/display\/[A-Za-z0-9_-]+$/);
+
+      const visitorPage = await visitor.context.newPage();
+      await visitorPage.goto(url);
+      await visitorPage.locator('svg [data-signal="M1"]').waitFor();
+      expect(await new DisplayPage(visitorPage, live.httpUrl).controls().count()).toBe(0);
+
+      await links.revoke("Clubroom window");
+      await visitorPage.locator('[data-display-gone="true"]').waitFor({ timeout: 15_000 });
+      expect(await visitorPage.locator("svg [data-signal]").count()).toBe(0);
+    } finally {
+      await visitor.close();
       await admin.close();
     }
   });
