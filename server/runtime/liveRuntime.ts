@@ -9,6 +9,7 @@
 import mqtt, { type MqttClient } from "mqtt";
 import pg from "pg";
 import { TOPIC_ROOT, type CommandBody, type LiveState } from "../../shared/contract/live";
+import { signalIds } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import type { AppDeps } from "../deps";
 import { HttpError, notFound } from "../http/errors";
@@ -161,6 +162,15 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     liveState: (slug) => need(slug).liveState(),
     async command(slug, body, user) {
       const runner = need(slug);
+      const unknown =
+        "signal" in body && !signalIds(runner.rulebook).includes(body.signal)
+          ? { path: "$.signal", message: `the live rulebook has no signal "${body.signal}"` }
+          : "latch" in body && !(body.latch in runner.rulebook.latches)
+            ? { path: "$.latch", message: `the live rulebook has no latch "${body.latch}"` }
+            : "counter" in body && !(body.counter in runner.rulebook.counters)
+              ? { path: "$.counter", message: `the live rulebook has no counter "${body.counter}"` }
+              : null;
+      if (unknown) throw new HttpError(400, "invalid_input", "the command names something the live rulebook does not have", [unknown]);
       try {
         await runner.command(body, user);
       } catch (err) {

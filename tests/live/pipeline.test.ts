@@ -70,6 +70,7 @@ describe("live pipeline", () => {
     expect(junction.aspects.get("M1")!.rev).toBeGreaterThan(clearRev);
     await junction.pulse("JX");
     await junction.pulse("JX");
+    await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE kind = 'pulse'`))[0].n === 6, "six stored pulses");
     await h.runtime.idle();
 
     const events = await q<{ kind: string; status: string; detector: string; session_id: number | null }>(
@@ -229,10 +230,12 @@ describe("live pipeline", () => {
     expect(res.status).toBe(200);
     expect(res.body.held).toEqual(["M1"]);
     await board.pulse("MA");
-    await h.runtime.idle();
-    const live = await agent.get(`/api/layouts/${SLUG}/live`);
+    let live = await agent.get(`/api/layouts/${SLUG}/live`);
+    await waitFor(async () => {
+      live = await agent.get(`/api/layouts/${SLUG}/live`);
+      return live.body.counters.mainApproach > 0;
+    }, "the approach counted");
     expect(live.body.shown.M1).toBe("danger");
-    expect(live.body.counters.mainApproach).toBeGreaterThan(0);
     await waitFor(() => junction.aspects.get("M1")?.aspect === "danger", "M1 danger while held");
     const released = await agent.post(`/api/layouts/${SLUG}/commands`).send({ type: "release", signal: "M1", reason: "shunt finished" });
     expect(released.body.shown.M1).toBe("clear");
@@ -244,6 +247,9 @@ describe("live pipeline", () => {
     expect(audit[0]).toMatchObject({ reason: "shunt in the quarry siding", before: { held: [] }, after: { held: ["M1"] } });
     const bad = await agent.post(`/api/layouts/${SLUG}/commands`).send({ type: "hold", signal: "M1" });
     expect(bad.status).toBe(400);
+    const unknown = await agent.post(`/api/layouts/${SLUG}/commands`).send({ type: "zero", counter: "nowhere", reason: "typo check" });
+    expect(unknown.status).toBe(400);
+    expect(unknown.body.error.details[0].path).toBe("$.counter");
     // Let the train through so later tests start from an empty junction.
     await board.pulse("MA"); // no-op approach count bump is fine for later tests
     await agent.post(`/api/layouts/${SLUG}/commands`).send({ type: "restart", reason: "back to a clean junction" });

@@ -138,7 +138,7 @@ describe("clock, sessions and fail-safe", () => {
     const signaller = await t.signIn("signaller");
     await signaller.post(`/api/layouts/${SLUG}/commands`).send({ type: "hold", signal: "S1", reason: "ganger on the siding" });
     await board.pulse("WS");
-    await waitFor(async () => (await h.runtime.liveState(SLUG)).counters.axles === 1, "the axle counted");
+    await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'switch'`))[0].n === 1, "the pulse stored");
 
     const engineer = await t.signIn("engineer");
     const next = sidingLayout().rulebook;
