@@ -99,6 +99,13 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
     expect(stuck.comment).toBe("Checked the bank: the train is standing at M1");
   });
 
+  it("the simulator draws the same mimic", async () => {
+    await page.goto(`${live.httpUrl}/layouts/${SLUG}/simulate`);
+    await page.locator('svg [data-signal="M1"]').waitFor();
+    expect(await page.locator("svg [data-detector]").count()).toBe(5);
+    await page.screenshot({ path: path.join(ARTIFACTS, "simulator.png"), fullPage: true });
+  });
+
   it("holds a signal at danger with a reason, and the audit log shows who and why", async () => {
     const livePage = new LivePage(page, live.httpUrl);
     await livePage.open(SLUG);
