@@ -7,15 +7,19 @@ import { acquireLiveSocket, JoinError, joinLive, leaveLive, releaseLiveSocket } 
 
 /** After a failed join, try again this much later (the socket's own reconnection covers drops). */
 const REJOIN_DELAY_MS = 2_000;
-/** Pushes are applied once per frame; this bounds the wait when no frame comes (hidden tab). */
-const FLUSH_FALLBACK_MS = 100;
+/**
+ * Pushes are applied at once when they come one by one, and at most once per this interval
+ * under a burst (many pulses a second), so the page renders about once per display frame.
+ */
+const MIN_FLUSH_INTERVAL_MS = 16;
 
 /**
  * Joins a layout's live room and keeps the TanStack Query cache current: the live state
  * (`liveKeys.state`), the event ticker, per-detector pulse counts and the connection status.
  * No second store: components read those cache entries with the hooks in api/live.ts.
  *
- * Updates carry `version`, one more than the last per layout. Each is applied in order; a gap
+ * Updates carry `version`, one more than the last per layout. Each is applied in order (at most
+ * one render per MIN_FLUSH_INTERVAL_MS under a burst); a gap
  * (a missed push) or a reconnect asks for the whole state again with a fresh `live:join`.
  */
 export function useLiveLayout(slug: string | undefined, options: { displayToken?: string } = {}): void {
@@ -29,8 +33,8 @@ export function useLiveLayout(slug: string | undefined, options: { displayToken?
     let joining = false;
     let rejoinTimer: ReturnType<typeof setTimeout> | undefined;
     let pending: LiveUpdate[] = [];
-    let frame: number | undefined;
-    let fallback: ReturnType<typeof setTimeout> | undefined;
+    let flushTimer: ReturnType<typeof setTimeout> | undefined;
+    let lastFlushAt = 0;
 
     const setConnection = (status: ConnectionStatus, message?: string) => {
       const current = queryClient.getQueryData<ConnectionInfo>(liveKeys.connection(slug));
@@ -64,20 +68,18 @@ export function useLiveLayout(slug: string | undefined, options: { displayToken?
     };
 
     const flush = () => {
-      if (frame !== undefined) cancelAnimationFrame(frame);
-      if (fallback !== undefined) clearTimeout(fallback);
-      frame = undefined;
-      fallback = undefined;
+      clearTimeout(flushTimer);
+      flushTimer = undefined;
       if (joining || stopped || pending.length === 0) return;
+      lastFlushAt = performance.now();
       const batch = pending;
       pending = [];
       applyBatch(queryClient, slug, batch, () => void join("catching-up"));
     };
 
     const schedule = () => {
-      if (frame !== undefined || fallback !== undefined) return;
-      frame = requestAnimationFrame(flush);
-      fallback = setTimeout(flush, FLUSH_FALLBACK_MS);
+      if (flushTimer !== undefined) return;
+      flushTimer = setTimeout(flush, Math.max(0, lastFlushAt + MIN_FLUSH_INTERVAL_MS - performance.now()));
     };
 
     const onUpdate = (update: LiveUpdate) => {
@@ -117,8 +119,7 @@ export function useLiveLayout(slug: string | undefined, options: { displayToken?
 
     return () => {
       stopped = true;
-      if (frame !== undefined) cancelAnimationFrame(frame);
-      clearTimeout(fallback);
+      clearTimeout(flushTimer);
       clearTimeout(rejoinTimer);
       clearTimeout(reconnectTimer);
       socket.off("live:update", onUpdate);
