@@ -125,6 +125,10 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
     const admin = await t.signIn("admin");
     const made = await admin.post(`/api/layouts/${SLUG}/display-links`).send({ label: "Open day screen" });
     expect(made.status).toBe(201);
+    // Nothing about people goes to a display: the acknowledged alarm (with its name) stays out.
+    const asVisitor = await fetch(`${live.httpUrl}/api/layouts/${SLUG}/live?display=${made.body.token}`).then((r) => r.json());
+    expect(asVisitor.alarms).toEqual([]);
+    expect(JSON.stringify(asVisitor)).not.toContain("Fernmoor Signaller");
     const visitor = await openBrowser({ width: 1920, height: 1080 });
     try {
       const visitorPage = await visitor.context.newPage();

@@ -9,6 +9,7 @@ import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { requireRole } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
+import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
 
 const displayLinkBodySchema = z.strictObject({ label: z.string().trim().max(100).optional() });
@@ -36,7 +37,9 @@ export function liveRoutes(deps: AppDeps): Router {
   };
 
   router.get("/layouts/:slug/live", signedInOrDisplay, async (req, res) => {
-    res.json(await live().liveState(String(req.params.slug)));
+    const state = await live().liveState(String(req.params.slug));
+    // A display link sees no people: no alarms (who acknowledged them), see display/redact.ts.
+    res.json(req.user ? state : redactStateForDisplay(state));
   });
 
   router.post("/layouts/:slug/commands", requireRole("signaller", "admin"), async (req, res) => {

@@ -9,6 +9,7 @@ import { Server, type Socket } from "socket.io";
 import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { SESSION_COOKIE, readSession } from "../auth/service";
+import { redactStateForDisplay, redactUpdateForDisplay } from "../display/redact";
 import { layoutOfDisplayToken } from "./displayLinks";
 
 interface SocketData {
@@ -21,6 +22,8 @@ type LiveSocket = Socket<ClientToServerEvents, ServerToClientEvents, Record<stri
 export type LiveIo = Server<ClientToServerEvents, ServerToClientEvents, Record<string, never>, SocketData>;
 
 const room = (slug: string) => `layout:${slug}`;
+/** Visitor displays get the same pushes without anything about people (display/redact.ts). */
+const displayRoom = (slug: string) => `display:${slug}`;
 
 function cookieValue(header: string | undefined, name: string): string | undefined {
   if (!header) return undefined;
@@ -71,8 +74,10 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
         }
         // Join first, then read the state: an update in between is seen twice at worst
         // (its version is not above the state's), never missed.
-        await socket.join(room(slug));
-        reply({ ok: true, data: await deps.live.liveState(slug) });
+        const visitor = socket.data.userId === null;
+        await socket.join(visitor ? displayRoom(slug) : room(slug));
+        const state = await deps.live.liveState(slug);
+        reply({ ok: true, data: visitor ? redactStateForDisplay(state) : state });
       } catch (err) {
         deps.logger.warn({ err }, "live:join failed");
         reply({ ok: false, error: { code: "internal", message: "could not read the live state" } });
@@ -80,10 +85,14 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
     });
     socket.on("live:leave", (request) => {
       void socket.leave(room(String(request?.slug ?? "")));
+      void socket.leave(displayRoom(String(request?.slug ?? "")));
     });
   });
 
-  const onUpdate = (update: LiveUpdate) => io.to(room(update.slug)).emit("live:update", update);
+  const onUpdate = (update: LiveUpdate) => {
+    io.to(room(update.slug)).emit("live:update", update);
+    io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
+  };
   const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number }) => {
     const { layoutId: _layoutId, ...dto } = alarm;
     io.to(room(alarm.slug)).emit("alarm:changed", dto);

@@ -1,0 +1,22 @@
+import { describe, expect, it } from "vitest";
+import type { LiveState, LiveUpdate } from "../../shared/contract/live";
+import { redactStateForDisplay, redactUpdateForDisplay } from "../../server/features/display/redact";
+
+const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: "t", acknowledgedBy: "Fernmoor Signaller", comment: "checked", clearedAt: null };
+
+describe("what a visitor display receives", () => {
+  it("gets no alarms (they name who acknowledged them)", () => {
+    const state = { slug: "kestrel-bank", version: 3, alarms: [alarm], shown: { M1: "clear" } } as unknown as LiveState;
+    expect(redactStateForDisplay(state)).toMatchObject({ version: 3, alarms: [], shown: { M1: "clear" } });
+  });
+
+  it.each([
+    ["a command's reason is dropped", { kind: "held", name: "M1", from: false, to: true, command: "hold", detail: "Shunt for Fernmoor Signaller" }, { kind: "held", name: "M1", from: false, to: true, command: "hold" }],
+    ["a rule's change is kept whole", { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }, { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }],
+  ])("%s", (_name, change, expected) => {
+    const update: LiveUpdate = { slug: "kestrel-bank", version: 4, event: null, changes: [change], patch: { alarms: [alarm], shown: { M1: "danger" } } };
+    const out = redactUpdateForDisplay(update);
+    expect(out.changes).toEqual([expected]);
+    expect(out.patch).toEqual({ shown: { M1: "danger" } });
+  });
+});
