@@ -1,6 +1,8 @@
 /**
- * `npm start`: brings up PostgreSQL (embedded unless DATABASE_URL is set), runs migrations,
- * seeds the demo, serves the API and the built client, and stops it all on Ctrl-C/SIGTERM.
+ * One server process: PostgreSQL (embedded unless DATABASE_URL is set), migrations, demo
+ * seed, the live runtime, mail, sockets and the HTTP server, all stopped on Ctrl-C/SIGTERM.
+ * `npm start` runs it under server/launcher.ts, which owns PostgreSQL and the broker; it
+ * also runs on its own (`node --import tsx server/index.ts`).
  */
 import http from "node:http";
 import { Bus } from "./bus";
@@ -106,7 +108,10 @@ async function main(): Promise<void> {
   });
   const url = `http://${config.host}:${config.port}`;
   logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
-  process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);
+  // Under the launcher, the launcher prints the one banner people should read.
+  if (!process.env.BLOCKLIGHT_SUPERVISED) {
+    process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);
+  }
 }
 
 main().catch((err) => {

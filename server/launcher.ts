@@ -78,7 +78,7 @@ function watchParent(): void {
 }
 
 function childEnv(config: AppConfig, databaseUrl: string, extra: NodeJS.ProcessEnv = {}): NodeJS.ProcessEnv {
-  return { ...process.env, DATA_DIR: config.dataDir, DATABASE_URL: databaseUrl, ...extra };
+  return { ...process.env, DATA_DIR: config.dataDir, DATABASE_URL: databaseUrl, BLOCKLIGHT_SUPERVISED: "1", ...extra };
 }
 
 function supervise(name: string, args: string[], env: NodeJS.ProcessEnv): SupervisedChild {
