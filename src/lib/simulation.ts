@@ -4,7 +4,8 @@
  * The engine itself is `shared/rulebook/engine.ts`, the same one the live runtime runs.
  */
 import { initialStep, step, type Change, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
-import { replayCounterexample, type Move } from "../../shared/rulebook/prove";
+import { replayCounterexample, type Move, type TrainView } from "../../shared/rulebook/prove";
+import type { ProvingRoute } from "../../shared/rulebook/schema";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { formatClock } from "./format";
 
@@ -17,6 +18,8 @@ export interface SimEntry {
   changes: Change[];
   /** Set for prover counterexample steps: the properties this step visibly breaks. */
   violates?: string[];
+  /** Set for prover counterexample steps: where each train of the replay is. */
+  trains?: TrainView[];
 }
 
 export function startEntry(rulebook: Rulebook): SimEntry {
@@ -144,13 +147,14 @@ export function runInputList(rulebook: Rulebook, list: InputList): SimEntry[] {
   }
   const replay = replayCounterexample(rulebook, list.moves);
   return [
-    { ...start, state: replay.initial, violates: replay.initialViolates },
+    { ...start, state: replay.initial, violates: replay.initialViolates, trains: [] },
     ...replay.steps.map((s) => ({
       label: describeMove(s.move) + (s.timed ? "" : " (forced: out of timed order)"),
       input: s.input,
       state: s.state,
       changes: s.changes,
       violates: s.violates,
+      trains: s.trains,
     })),
   ];
 }
@@ -226,4 +230,33 @@ export function explainSignal(history: SimEntry[], cursor: number, signal: strin
     if (change) return `${wanted[0].toUpperCase()}${wanted.slice(1)}: ${changeCause(change)} asked for it at step ${i} (${history[i].label}).`;
   }
   return `${wanted[0].toUpperCase()}${wanted.slice(1)}: the rulebook's starting aspect; no rule has changed it yet.`;
+}
+
+/** A train of a counterexample replay, placed for the mimic and described in words. */
+export interface TrainPlacement {
+  train: number;
+  route: string;
+  /** The detector the leading axle crossed last; null while the train is still approaching. */
+  detector: string | null;
+  /** e.g. "Train 2 on branch, 2 axles: leading axle past BA, BE; last axle past BA". */
+  words: string;
+}
+
+/** Turns the replay's axle progress into places on the route's path (approach, entry, exits). */
+export function placeTrains(trains: readonly TrainView[], routes: readonly ProvingRoute[]): TrainPlacement[] {
+  return trains.map((t) => {
+    const route = routes.find((r) => r.id === t.route);
+    const path = route ? [...route.approach, route.entry, ...route.exit] : [];
+    const lead = t.crossed[0] ?? 0;
+    const last = t.crossed[t.crossed.length - 1] ?? 0;
+    const past = (n: number) => (n === 0 ? "nothing yet" : path.slice(0, n).join(", "));
+    const axles = `${t.axles} axle${t.axles === 1 ? "" : "s"}`;
+    const rear = t.axles > 1 ? `; last axle past ${past(last)}` : "";
+    return {
+      train: t.train,
+      route: t.route,
+      detector: lead > 0 ? (path[lead - 1] ?? null) : null,
+      words: `Train ${t.train} on ${t.route}, ${axles}: leading axle past ${past(lead)}${rear}`,
+    };
+  });
 }

@@ -18,7 +18,7 @@ import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useSimulation } from "../hooks/useSimulation";
 import { readDraft } from "../lib/draftStore";
-import { decodeTrace, encodeTrace, parseInputList, runInputList, type InputList } from "../lib/simulation";
+import { decodeTrace, encodeTrace, parseInputList, placeTrains, runInputList, type InputList } from "../lib/simulation";
 
 const DRAFT = "draft";
 
@@ -115,6 +115,8 @@ export default function SimulatePage() {
   const current = sim.current;
   const shown = rulebook && current ? shownAspects(rulebook, current.state) : {};
   const pulsedDetector = current?.input?.type === "pulse" ? current.input.detector : undefined;
+  // Only counterexample playback knows where trains are; a hand-made run has pulses only.
+  const trains = current?.trains && rulebook ? placeTrains(current.trains, rulebook.proving?.routes ?? []) : undefined;
 
   return (
     <div className="space-y-6">
@@ -165,7 +167,16 @@ export default function SimulatePage() {
                 routes={rulebook.proving?.routes}
                 pulses={pulsedDetector ? { [pulsedDetector]: sim.cursor } : undefined}
                 lastPulsed={pulsedDetector}
+                trains={trains}
               />
+              {trains ? (
+                <ul className="mt-3 space-y-1 text-sm" aria-label="Trains in this counterexample">
+                  {trains.length === 0 ? <li className="text-ink-faint">No train has arrived yet.</li> : null}
+                  {trains.map((t) => (
+                    <li key={t.train}>{t.words}</li>
+                  ))}
+                </ul>
+              ) : null}
             </Panel>
             <Panel title="Inputs">
               <SimControls layout={layout.data} state={current.state} onInput={sim.apply} />

@@ -22,6 +22,8 @@ export interface MimicProps {
   pulses?: Record<string, number>;
   /** A detector to mark steadily as the latest pulsed one (the simulator's current step). */
   lastPulsed?: string;
+  /** Trains placed at the detector their leading axle crossed last (counterexample playback). */
+  trains?: { train: number; route: string; detector: string | null }[];
   /** Heading for screen readers, e.g. the layout's name. */
   title: string;
   /** `display`: thicker strokes and larger words for the screen across the room. */
@@ -97,7 +99,7 @@ function useLitDetectors(pulses: Record<string, number>): Set<string> {
  * shown aspect, detector pulses, set/occupied sections and trains waiting at signals.
  * Read-only (no controls), so the visitor display uses it as it is.
  */
-export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, title, size = "panel", className = "" }: MimicProps) {
+export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, trains, title, size = "panel", className = "" }: MimicProps) {
   const geometry = useMemo(() => layoutGeometry(layout), [layout]);
   const lit = useLitDetectors(pulses);
   const held = useMemo(() => new Set(state.held ?? []), [state.held]);
@@ -183,6 +185,7 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
           return at ? <DetectorMark key={d.id} detector={d} at={at} labelDy={geometry.detectorLabelDy[d.id] ?? 24} pulses={pulses[d.id] ?? 0} lit={lit.has(d.id)} latest={lastPulsed === d.id} scale={scale} /> : null;
         })}
       </g>
+      {trains?.length ? <TrainMarkers trains={trains} detectors={geometry.detectors} scale={scale} /> : null}
       <g>
         {layout.signals.map((s) => {
           const at = geometry.signals[s.id];
@@ -261,6 +264,36 @@ const SignalMark = memo(function SignalMark({ signal, at, post, aspect, held, wa
     </g>
   );
 });
+
+/**
+ * Numbered trains of a counterexample replay, stacked above the detector each one's leading
+ * axle crossed last, so the engineer sees where every train was when the property broke.
+ */
+function TrainMarkers({ trains, detectors, scale }: { trains: NonNullable<MimicProps["trains"]>; detectors: Record<string, Pt>; scale: number }) {
+  const stacked = new Map<string, number>();
+  return (
+    <g>
+      {trains.map((t) => {
+        const at = t.detector ? detectors[t.detector] : undefined;
+        if (!at) return null;
+        const level = stacked.get(t.detector!) ?? 0;
+        stacked.set(t.detector!, level + 1);
+        const w = 34 * scale;
+        const h = 16 * scale;
+        const x = at[0] - w / 2;
+        const y = at[1] - 34 * scale - level * (h + 4 * scale);
+        return (
+          <g key={t.train} role="img" aria-label={`Train ${t.train} on route ${t.route} at ${t.detector}`} data-train={t.train}>
+            <rect x={x} y={y} width={w} height={h} rx={3} fill={BRASS} stroke="#0b1016" strokeWidth={1.5} />
+            <text x={at[0]} y={y + h - 4 * scale} textAnchor="middle" fill="#0b1016" fontSize={11 * scale} fontWeight={700} aria-hidden="true">
+              {`T${t.train}`}
+            </text>
+          </g>
+        );
+      })}
+    </g>
+  );
+}
 
 /** A train standing on the track just before the signal (the rulebook counts it on the approach). */
 function WaitingTrain({ post, scale }: { post: Pt; scale: number }) {
