@@ -30,9 +30,7 @@ export function ChangeLog({ history, cursor, onGoto }: ChangeLogProps) {
               <span className="mr-2 text-ink-faint">{index}.</span>
               {entry.label}
             </button>
-            {entry.violates && entry.violates.length > 0 ? (
-              <p className="mt-1 text-xs font-bold text-aspect-danger">Breaks: {entry.violates.join(", ")}</p>
-            ) : null}
+            <ViolationNote violates={entry.violates} />
             {entry.changes.length === 0 ? (
               <p className="mt-1 text-xs text-ink-faint">No change.</p>
             ) : (
@@ -49,5 +47,22 @@ export function ChangeLog({ history, cursor, onGoto }: ChangeLogProps) {
         );
       })}
     </ol>
+  );
+}
+
+/**
+ * What a counterexample step shows about the properties. A train waiting at danger is not a
+ * break in itself (it happens in every sound run); the prover's "no-stuck-train" verdict is
+ * that the wait can never end, which no single step can show, so it is worded as a fact.
+ */
+function ViolationNote({ violates }: { violates?: string[] }) {
+  if (!violates || violates.length === 0) return null;
+  const breaks = violates.filter((v) => v !== "no-stuck-train");
+  const waiting = violates.includes("no-stuck-train");
+  return (
+    <>
+      {breaks.length > 0 ? <p className="mt-1 text-xs font-bold text-aspect-danger">Breaks: {breaks.join(", ")}</p> : null}
+      {waiting ? <p className="mt-1 text-xs text-aspect-caution">A train waits at a signal at danger.</p> : null}
+    </>
   );
 }
