@@ -20,6 +20,8 @@ const OutboxPage = lazy(() => import("./pages/OutboxPage"));
 const MembersPage = lazy(() => import("./pages/MembersPage"));
 const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
+const SessionsPage = lazy(() => import("./pages/SessionsPage"));
+const ReplayPage = lazy(() => import("./pages/ReplayPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -44,6 +46,8 @@ export function App() {
           <Route path="layouts/:slug/placement" element={<PlacementPage />} />
           <Route path="layouts/:slug/live" element={<LivePage />} />
           <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
+          <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
+          <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />
           <Route path="layouts/:slug/display-links" element={<DisplayLinksPage />} />
           <Route path="admin/outbox" element={<OutboxPage />} />

@@ -67,6 +67,9 @@ export default function LayoutOverviewPage() {
           <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/simulate`}>
             Simulator
           </Link>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/sessions`}>
+            Sessions and replay
+          </Link>
           <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/placement`}>
             Detector placement
           </Link>

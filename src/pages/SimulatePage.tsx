@@ -1,9 +1,6 @@
 import { useEffect, useMemo, useState } from "react";
 import { useParams, useSearchParams } from "react-router-dom";
 import { shownAspects } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { validateRulebookFile } from "../../shared/rulebook/validate";
-import type { FieldError } from "../api/http";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { Mimic } from "../components/mimic/Mimic";
@@ -16,13 +13,11 @@ import { Button } from "../components/ui/Button";
 import { ErrorList } from "../components/ui/ErrorList";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
+import { useDraftRulebook } from "../hooks/useDraftRulebook";
 import { useSimulation } from "../hooks/useSimulation";
-import { readDraft } from "../lib/draftStore";
 import { decodeTrace, encodeTrace, parseInputList, placeTrains, runInputList, type InputList } from "../lib/simulation";
 
 const DRAFT = "draft";
-
-type DraftRulebook = { ok: true; rulebook: Rulebook } | { ok: false; errors: FieldError[] } | null;
 
 export default function SimulatePage() {
   const { slug = "" } = useParams();
@@ -32,8 +27,8 @@ export default function SimulatePage() {
   const [runNote, setRunNote] = useState<{ text: string; error?: boolean } | null>(null);
 
   const versions = useMemo(() => [...(layout.data?.versions ?? [])].sort((a, b) => b.version - a.version), [layout.data]);
-  const storedDraft = useMemo(() => readDraft(slug), [slug]);
   const versionParam = search.get("version");
+  const { stored: storedDraft, draft } = useDraftRulebook(slug, layout.data, versionParam === DRAFT);
   const source: number | typeof DRAFT | undefined =
     versionParam === DRAFT && storedDraft
       ? DRAFT
@@ -42,20 +37,6 @@ export default function SimulatePage() {
         : (versions.find((v) => v.live) ?? versions[0])?.version;
 
   const stored = useRulebookVersion(slug, typeof source === "number" ? source : undefined);
-
-  // The unsaved draft is checked here as the editor checks it: the engine needs a sound rulebook.
-  const draft = useMemo<DraftRulebook>(() => {
-    if (source !== DRAFT || !storedDraft || !layout.data) return null;
-    try {
-      const result = validateRulebookFile(JSON.parse(storedDraft.text), {
-        detectors: layout.data.detectors.map((d) => d.id),
-        signals: layout.data.signals.map((s) => ({ id: s.id, aspects: s.aspects })),
-      });
-      return result.ok ? { ok: true, rulebook: result.rulebook } : { ok: false, errors: result.errors };
-    } catch (cause) {
-      return { ok: false, errors: [{ path: "$", message: `Not valid JSON: ${String(cause)}` }] };
-    }
-  }, [source, storedDraft, layout.data]);
 
   const rulebook = source === DRAFT ? (draft?.ok ? draft.rulebook : undefined) : stored.data?.rulebook;
   const traceParam = search.get("trace");

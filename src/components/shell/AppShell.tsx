@@ -51,6 +51,9 @@ export function AppShell() {
                 <NavLink to={`/layouts/${slug}/alarms`} className={linkClass}>
                   Alarms
                 </NavLink>
+                <NavLink to={`/layouts/${slug}/sessions`} className={linkClass}>
+                  Sessions
+                </NavLink>
               </>
             ) : null}
             {user.role === "admin" ? (

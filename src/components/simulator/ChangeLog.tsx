@@ -1,22 +1,30 @@
-import { useEffect, useRef } from "react";
+import { useEffect, useRef, type ReactNode } from "react";
 import { changeCause, describeChange, type SimEntry } from "../../lib/simulation";
 
 interface ChangeLogProps {
   history: SimEntry[];
   cursor: number;
   onGoto: (index: number) => void;
+  /** Show only this many steps either side of the cursor (a session replay has thousands). */
+  around?: number;
+  /** Extra words under a step, e.g. what a what-if run shows differently there. */
+  note?: (index: number) => ReactNode;
 }
 
 /** Every input with each change it made and the rule (or command) that made it. */
-export function ChangeLog({ history, cursor, onGoto }: ChangeLogProps) {
+export function ChangeLog({ history, cursor, onGoto, around, note }: ChangeLogProps) {
   const currentRef = useRef<HTMLLIElement>(null);
   useEffect(() => {
     currentRef.current?.scrollIntoView?.({ block: "nearest" });
   }, [cursor]);
 
+  const from = around === undefined ? 0 : Math.max(0, cursor - around);
+  const shown = around === undefined ? history : history.slice(from, cursor + around + 1);
+
   return (
-    <ol className="max-h-[32rem] space-y-2 overflow-y-auto pr-1" aria-label="Change log">
-      {history.map((entry, index) => {
+    <ol className="max-h-[32rem] space-y-2 overflow-y-auto pr-1" aria-label="Change log" start={from + 1}>
+      {shown.map((entry, offset) => {
+        const index = from + offset;
         const isCurrent = index === cursor;
         const isFuture = index > cursor;
         return (
@@ -31,6 +39,7 @@ export function ChangeLog({ history, cursor, onGoto }: ChangeLogProps) {
               {entry.label}
             </button>
             <ViolationNote violates={entry.violates} />
+            {note?.(index)}
             {entry.changes.length === 0 ? (
               <p className="mt-1 text-xs text-ink-faint">No change.</p>
             ) : (

@@ -1,0 +1,127 @@
+import { useState } from "react";
+import { Link, useParams, useSearchParams } from "react-router-dom";
+import type { SessionEventFilter } from "../../shared/contract/sessions";
+import { useLayout } from "../api/layouts";
+import { sessionExportUrl, useSessionEvents, useSessions } from "../api/sessions";
+import { EventLogFilters } from "../components/sessions/EventLogFilters";
+import { EventLogTable } from "../components/sessions/EventLogTable";
+import { SessionTable } from "../components/sessions/SessionTable";
+import { Button } from "../components/ui/Button";
+import { Panel } from "../components/ui/Panel";
+import { LoadError, Loading } from "../components/ui/Status";
+
+/** Rows per page of the event log: enough to read, few enough for a quick table. */
+const PAGE_EVENTS = 100;
+
+const linkClass = "rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800";
+
+export default function SessionsPage() {
+  const { slug = "" } = useParams();
+  const [search, setSearch] = useSearchParams();
+  const layout = useLayout(slug);
+  const sessions = useSessions(slug);
+  const param = Number(search.get("session"));
+  const chosen = Number.isInteger(param) && param > 0 ? param : sessions.data?.[0]?.id;
+
+  if (layout.isPending || sessions.isPending) return <Loading what="the sessions" />;
+  if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
+  if (sessions.isError) return <LoadError error={sessions.error} what="the sessions" />;
+
+  const choose = (id: number) => {
+    const next = new URLSearchParams(search);
+    next.set("session", String(id));
+    setSearch(next, { replace: true });
+  };
+
+  return (
+    <div className="space-y-6">
+      <h1 className="text-2xl font-bold">Sessions — {layout.data.name}</h1>
+      <p className="text-sm text-ink-soft">
+        Each running day is a session. Its event log keeps every message from the boards, every signaller command and every change the rulebook made.
+      </p>
+      <Panel title="Sessions">
+        <SessionTable slug={slug} sessions={sessions.data} chosen={chosen} onChoose={choose} />
+      </Panel>
+      {chosen ? (
+        <EventLog
+          key={chosen}
+          slug={slug}
+          session={chosen}
+          detectors={layout.data.detectors.map((d) => d.id)}
+          nodes={layout.data.nodes.map((n) => n.id)}
+        />
+      ) : null}
+    </div>
+  );
+}
+
+interface EventLogProps {
+  slug: string;
+  session: number;
+  detectors: string[];
+  nodes: string[];
+}
+
+/** One session's log, a keyset page at a time; the cursors of earlier pages are kept for "Previous". */
+function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
+  const [filter, setFilter] = useState<SessionEventFilter>({});
+  const [cursors, setCursors] = useState<string[]>(["0"]);
+  const after = cursors[cursors.length - 1];
+  const page = useSessionEvents(session, filter, after, PAGE_EVENTS);
+  const first = (cursors.length - 1) * PAGE_EVENTS;
+
+  const changeFilter = (next: SessionEventFilter) => {
+    setFilter(next);
+    setCursors(["0"]);
+  };
+
+  return (
+    <Panel
+      title={`Event log of session #${session}`}
+      actions={
+        <>
+          <a className={linkClass} href={sessionExportUrl(session, "jsonl")} download={`session-${session}.jsonl`}>
+            Download JSONL
+          </a>
+          <a className={linkClass} href={sessionExportUrl(session, "csv")} download={`session-${session}.csv`}>
+            Download CSV
+          </a>
+          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/replay`}>
+            Replay this session
+          </Link>
+        </>
+      }
+    >
+      <div className="space-y-4">
+        <EventLogFilters filter={filter} detectors={detectors} nodes={nodes} onChange={changeFilter} />
+        {page.isError ? <LoadError error={page.error} what="the event log" /> : null}
+        {page.data ? (
+          <>
+            <div className="flex flex-wrap items-center justify-between gap-2 text-sm">
+              <p role="status" className="text-ink-soft">
+                {page.data.total === 0
+                  ? "No events match."
+                  : `Events ${(first + 1).toLocaleString("en-GB")}–${(first + page.data.events.length).toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")}`}
+                {page.isFetching ? " (loading…)" : ""}
+              </p>
+              <div className="flex gap-2">
+                <Button onClick={() => setCursors(["0"])} disabled={cursors.length === 1}>
+                  First page
+                </Button>
+                <Button onClick={() => setCursors((c) => c.slice(0, -1))} disabled={cursors.length === 1}>
+                  Previous page
+                </Button>
+                <Button onClick={() => page.data?.next && setCursors((c) => [...c, page.data.next!])} disabled={!page.data.next || page.isPlaceholderData}>
+                  Next page
+                </Button>
+              </div>
+            </div>
+            <EventLogTable events={page.data.events} />
+          </>
+        ) : (
+          <Loading what="the event log" />
+        )}
+      </div>
+    </Panel>
+  );
+}
