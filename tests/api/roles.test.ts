@@ -79,6 +79,8 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/layouts/kestrel-bank/sessions", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/events?format=jsonl", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/events?format=csv", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/inputs", allowed: EVERYONE },
   { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", allowed: EVERYONE },
   {
     method: "post",
