@@ -31,8 +31,8 @@ export function EventLogFilters({ filter, detectors, nodes, onChange }: EventLog
   };
 
   const choice = <K extends "kind" | "status" | "detector" | "node">(key: K, label: string, options: readonly string[]) => (
-    <label className="flex flex-col gap-1 text-xs font-semibold text-ink-soft" htmlFor={`${id}-${key}`}>
-      {label}
+    <div className="flex flex-col gap-1 text-xs font-semibold text-ink-soft">
+      <label htmlFor={`${id}-${key}`}>{label}</label>
       <select id={`${id}-${key}`} className={selectClass} value={filter[key] ?? ""} onChange={(e) => set(key, e.target.value as SessionEventFilter[K])}>
         <option value="">any</option>
         {options.map((o) => (
@@ -41,7 +41,7 @@ export function EventLogFilters({ filter, detectors, nodes, onChange }: EventLog
           </option>
         ))}
       </select>
-    </label>
+    </div>
   );
 
   return (
@@ -50,10 +50,10 @@ export function EventLogFilters({ filter, detectors, nodes, onChange }: EventLog
       {choice("status", "Status", STATUSES)}
       {choice("detector", "Detector", detectors)}
       {choice("node", "Node", nodes)}
-      <label className="flex flex-col gap-1 text-xs font-semibold text-ink-soft" htmlFor={`${id}-q`}>
-        Reason contains
+      <div className="flex flex-col gap-1 text-xs font-semibold text-ink-soft">
+        <label htmlFor={`${id}-q`}>Reason contains</label>
         <input id={`${id}-q`} value={text} onChange={(e) => setText(e.target.value)} className={`${selectClass} w-48`} maxLength={200} />
-      </label>
+      </div>
       <Button type="submit">Search</Button>
       {Object.keys(filter).length > 0 ? (
         <Button
