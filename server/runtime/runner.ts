@@ -231,9 +231,11 @@ export class LayoutRunner {
     let last = afterId;
     for (;;) {
       const { rows } = await this.pool.query<{ id: string; kind: string; detector: string | null; received_at: Date; input: EngineInput | null }>(
-        `SELECT id::text, kind, detector, received_at, input FROM events
-          WHERE layout_id = $1 AND id > $2 AND status = 'accepted' AND kind IN ('pulse','tick','command')
-          ORDER BY id LIMIT ${REPLAY_PAGE}`,
+        // Sort by the bigint column itself: the output column `id` is text, and ORDER BY a bare
+        // name would sort by that (event "10" before "9").
+        `SELECT e.id::text AS id, e.kind, e.detector, e.received_at, e.input FROM events e
+          WHERE e.layout_id = $1 AND e.id > $2 AND e.status = 'accepted' AND e.kind IN ('pulse','tick','command')
+          ORDER BY e.id LIMIT ${REPLAY_PAGE}`,
         [this.layoutId, last],
       );
       for (const row of rows) {
