@@ -866,7 +866,8 @@ export class LayoutRunner {
     return patch;
   }
 
-  private fullPatch(): LiveUpdate["patch"] {
+  /** Every field of the live state but slug, version and alarms, as it stands in memory. */
+  private fullPatch(): Required<Omit<LiveUpdate["patch"], "alarms">> {
     return {
       rulebookVersion: this.rulebookVersion,
       session: this.sessionDto(),
@@ -877,9 +878,16 @@ export class LayoutRunner {
       held: this.state.held,
       quiet: this.quietDto(),
       faulted: this.faultedDto(),
-      nodes: Object.fromEntries(this.nodeLive),
-      since: this.since,
+      nodes: this.nodesDto(),
+      since: { ...this.since },
     };
+  }
+
+  /** Every node of the layout, offline until it has said otherwise. */
+  private nodesDto(): Record<string, NodeLiveDto> {
+    const nodes: Record<string, NodeLiveDto> = {};
+    for (const id of this.nodes.keys()) nodes[id] = this.nodeLive.get(id) ?? { online: false, since: null, boot: null, fw: null };
+    return nodes;
   }
 
   private quietDto(): Record<string, string> {
@@ -903,23 +911,7 @@ export class LayoutRunner {
 
   /** The live state as of the last commit (nothing is shown before it is stored), alarms aside. */
   private captureCommitted(): void {
-    const nodes: Record<string, NodeLiveDto> = {};
-    for (const id of this.nodes.keys()) nodes[id] = this.nodeLive.get(id) ?? { online: false, since: null, boot: null, fw: null };
-    this.committed = {
-      slug: this.slug,
-      version: this.version,
-      rulebookVersion: this.rulebookVersion,
-      session: this.sessionDto(),
-      shown: this.shownNow(),
-      latches: this.state.latches,
-      counters: this.state.counters,
-      selectors: this.state.selectors,
-      held: this.state.held,
-      quiet: this.quietDto(),
-      faulted: this.faultedDto(),
-      nodes,
-      since: { ...this.since },
-    };
+    this.committed = { slug: this.slug, version: this.version, ...this.fullPatch() };
   }
 
   /**
