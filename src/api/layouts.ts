@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
+import type { CreateNodeBody, CreateNodeResponse, ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
 import { http } from "./http";
 
 export const layoutKeys = {
@@ -31,6 +31,18 @@ export function useImportLayoutMutation() {
   return useMutation({
     mutationFn: (layoutFile: unknown) => http.post<ImportLayoutResponse>("/api/layouts/import", layoutFile),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
+  });
+}
+
+/**
+ * Registers a board, or issues a new secret for one already registered (same id). The
+ * secret is in this reply only: the server keeps its hash.
+ */
+export function useRegisterNodeMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (node: CreateNodeBody) => http.post<CreateNodeResponse>(`/api/layouts/${encodeURIComponent(slug)}/nodes`, node),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.detail(slug) }),
   });
 }
 

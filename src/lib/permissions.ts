@@ -10,6 +10,8 @@ export const can = {
   publishRulebook: (role: Role) => role === "admin" || role === "engineer",
   /** Signallers run the live control room; everyone signed in may watch it. */
   controlLive: (role: Role) => role === "admin" || role === "signaller",
+  /** Registering boards and issuing their MQTT secrets. */
+  manageNodes: (role: Role) => role === "admin" || role === "engineer" || role === "maintainer",
 } as const;
 
 export const ROLE_LABELS: Record<Role, string> = {

@@ -2,7 +2,10 @@ import { Link, useParams } from "react-router-dom";
 import type { NodeDto } from "../../shared/contract/rest";
 import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../../shared/layout/schema";
 import { layoutExportUrl, useLayout } from "../api/layouts";
+import { useMe } from "../api/auth";
+import { NodeCredentials } from "../components/layouts/NodeCredentials";
 import { VersionTable } from "../components/rulebook/VersionTable";
+import { can } from "../lib/permissions";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
@@ -46,6 +49,7 @@ const nodeColumns = nodeCol.columns([
 export default function LayoutOverviewPage() {
   const { slug = "" } = useParams();
   const layout = useLayout(slug);
+  const me = useMe();
 
   if (layout.isPending) return <Loading what="the layout" />;
   if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
@@ -93,6 +97,12 @@ export default function LayoutOverviewPage() {
         </Panel>
         <Panel title="Nodes" className="lg:col-span-2">
           <DataTable caption="Controller nodes" columns={nodeColumns} data={l.nodes} getRowId={(r) => r.id} empty="No controller nodes registered." />
+          {me.data && can.manageNodes(me.data.role) ? (
+            <div className="mt-4 border-t border-panel-700 pt-4">
+              <h3 className="mb-2 font-bold">Board credentials</h3>
+              <NodeCredentials layout={l} />
+            </div>
+          ) : null}
         </Panel>
         <Panel title="Rulebook versions" className="lg:col-span-2">
           <VersionTable versions={l.versions} />
