@@ -5,6 +5,7 @@ import { useLayout } from "../api/layouts";
 import { usePublishMutation, useRulebookVersion } from "../api/rulebooks";
 import { ProofPanel } from "../components/rulebook/ProofPanel";
 import { RulebookEditor } from "../components/rulebook/RulebookEditor";
+import { RulebookDiffView } from "../components/rulebook/RulebookDiffView";
 import { RuleList } from "../components/rulebook/RuleList";
 import { StatusBadge, VersionTable } from "../components/rulebook/VersionTable";
 import { Button } from "../components/ui/Button";
@@ -110,6 +111,7 @@ export default function RulebookPage() {
             <p className="print-only mt-4 text-xs">{SAFETY_TEXT}</p>
           </Panel>
           {publish.isError ? <LoadError error={publish.error} what="publishing (nothing changed)" /> : null}
+          <RulebookDiffView slug={slug} versions={layout.data.versions} current={version} />
           <ProofPanel slug={slug} version={version.version} />
           {mayEdit ? (
             <Panel title="Edit as a new draft" className="no-print">
