@@ -70,6 +70,11 @@ function describeTrigger(trigger: Trigger): string {
   return `When ${trigger.quiet} has been quiet for ${span}`;
 }
 
+/** A trigger on its own, e.g. in a list of what changed: "When a wheelset passes MA". */
+export function describeTriggerAlone(trigger: Trigger): string {
+  return trigger === "standing" ? "Whenever the rulebook settles (standing rule)" : describeTrigger(trigger);
+}
+
 /**
  * A rule as one sentence: trigger, condition, then the actions in order.
  * Standing rules read "Whenever <condition>: …"; event rules "When …, if <condition>: …".

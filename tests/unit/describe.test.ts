@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { describeAction, describeCondition, describeRule } from "../../shared/rulebook/describe";
+import { describeAction, describeCondition, describeRule, describeTriggerAlone } from "../../shared/rulebook/describe";
 import type { Action, Condition, Rule } from "../../shared/rulebook/schema";
 
 describe("describeCondition", () => {
@@ -64,5 +64,15 @@ describe("describeRule", () => {
 
   it("describes every Kestrel Bank rule as one sentence", () => {
     for (const rule of kestrelBankLayout().rulebook.rules) expect(describeRule(rule)).toMatch(/^(When|Whenever) [^\n]+\.$/);
+  });
+});
+
+describe("describeTriggerAlone", () => {
+  it.each([
+    ["standing" as const, "Whenever the rulebook settles (standing rule)"],
+    [{ pass: "MA" }, "When a wheelset passes MA"],
+    [{ quiet: "JX", ms: 4000 }, "When JX has been quiet for 4 s"],
+  ])("%j reads %j", (trigger, words) => {
+    expect(describeTriggerAlone(trigger)).toBe(words);
   });
 });

@@ -1,6 +1,6 @@
 import { useId, useMemo, useState, type ReactNode } from "react";
 import type { RulebookVersionDetail, RulebookVersionSummary } from "../../../shared/contract/rest";
-import { describeRule } from "../../../shared/rulebook/describe";
+import { describeTriggerAlone } from "../../../shared/rulebook/describe";
 import {
   countChanges,
   diffRulebooks,
@@ -11,7 +11,7 @@ import {
   type RulePartChange,
   type SelectorDeclaration,
 } from "../../../shared/rulebook/diff";
-import { rulebookSchema, type ProvingRoute, type Rulebook, type Trigger } from "../../../shared/rulebook/schema";
+import { rulebookSchema, type ProvingRoute, type Rulebook } from "../../../shared/rulebook/schema";
 import { useRulebookVersion } from "../../api/rulebooks";
 import { readDraft } from "../../lib/draftStore";
 import { Panel } from "../ui/Panel";
@@ -80,7 +80,6 @@ const aspectWords = (aspect: string) => `starts at ${aspect}`;
 const routeWords = (r: ProvingRoute) =>
   `signal ${r.signal}, approach ${r.approach.join(", ")}, entry ${r.entry}, exit ${r.exit.join(", ")}`;
 // describe.ts words a trigger only inside a whole rule; take it from a rule that does nothing.
-const triggerWords = (trigger: Trigger) => describeRule({ on: trigger, do: [] }).replace(/: do nothing\.$/, "");
 
 const PART_LABEL: Record<RulePartChange["part"], string> = {
   trigger: "Trigger",
@@ -90,7 +89,7 @@ const PART_LABEL: Record<RulePartChange["part"], string> = {
 };
 
 function partWords(part: RulePartChange, side: "before" | "after"): string {
-  if (part.part === "trigger") return triggerWords(part[side]);
+  if (part.part === "trigger") return describeTriggerAlone(part[side]);
   if (part.part === "actions") return part[side].length ? part[side].join(", ") : "do nothing";
   if (part.part === "condition") return part[side] ?? "no condition";
   return part[side] ?? "no note";
