@@ -8,6 +8,7 @@ import { useSaveDraftMutation } from "../../api/rulebooks";
 import { clearDraft, readDraft, writeDraft } from "../../lib/draftStore";
 import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
+import { DraftForm, DraftTabs, type DraftView } from "./form/DraftViews";
 
 export function prettyRulebook(rulebook: Rulebook): string {
   return JSON.stringify(rulebook, null, 2) + "\n";
@@ -47,6 +48,7 @@ export function RulebookEditor({ slug, context, selected, onSaved }: RulebookEdi
   const [baseText, setBaseText] = useState(() => prettyRulebook(selected.rulebook));
   const [text, setText] = useState(() => restored?.text ?? prettyRulebook(selected.rulebook));
   const [note, setNote] = useState("");
+  const [view, setView] = useState<DraftView>("form");
   const [serverErrors, setServerErrors] = useState<FieldError[]>([]);
   const [savedAs, setSavedAs] = useState<number | null>(null);
 
@@ -108,22 +110,37 @@ export function RulebookEditor({ slug, context, selected, onSaved }: RulebookEdi
           <Button onClick={() => startFrom(selected)}>Start again from v{selected.version}</Button>
         ) : null}
       </div>
-      <label htmlFor={textareaId} className="block text-sm font-semibold text-ink-soft">
-        Rulebook (JSON)
-      </label>
-      <textarea
-        id={textareaId}
-        value={text}
-        onChange={(event) => {
-          setText(event.target.value);
-          setSavedAs(null);
-        }}
-        spellCheck={false}
-        rows={24}
-        aria-invalid={errorCount > 0 ? true : undefined}
-        aria-describedby={`${textareaId}-check`}
-        className="w-full rounded-md border border-panel-600 bg-panel-950 p-3 font-mono text-sm leading-relaxed text-ink focus:border-brass"
-      />
+      <DraftTabs idBase={textareaId} view={view} onView={setView}>
+        {view === "form" ? (
+          <DraftForm
+            text={text}
+            context={context}
+            onChange={(next) => {
+              setText(prettyRulebook(next));
+              setSavedAs(null);
+            }}
+          />
+        ) : (
+          <>
+            <label htmlFor={textareaId} className="block text-sm font-semibold text-ink-soft">
+              Rulebook (JSON)
+            </label>
+            <textarea
+              id={textareaId}
+              value={text}
+              onChange={(event) => {
+                setText(event.target.value);
+                setSavedAs(null);
+              }}
+              spellCheck={false}
+              rows={24}
+              aria-invalid={errorCount > 0 ? true : undefined}
+              aria-describedby={`${textareaId}-check`}
+              className="w-full rounded-md border border-panel-600 bg-panel-950 p-3 font-mono text-sm leading-relaxed text-ink focus:border-brass"
+            />
+          </>
+        )}
+      </DraftTabs>
       <div id={`${textareaId}-check`} aria-live="polite">
         {check.ok ? (
           <p className="text-sm text-notice-ok">No problems found: {check.rulebook.rules.length} rules.</p>
