@@ -6,6 +6,7 @@ import { Sequelize } from "sequelize";
 import { Umzug, SequelizeStorage } from "umzug";
 import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
+import * as importedSessions from "./migrations/003-imported-sessions";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -17,6 +18,7 @@ export interface Database {
 const MIGRATIONS = [
   { name: "001-initial", ...initial },
   { name: "002-live", ...live },
+  { name: "003-imported-sessions", ...importedSessions },
 ];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {

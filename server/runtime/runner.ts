@@ -234,7 +234,7 @@ export class LayoutRunner {
         // Sort by the bigint column itself: the output column `id` is text, and ORDER BY a bare
         // name would sort by that (event "10" before "9").
         `SELECT e.id::text AS id, e.kind, e.detector, e.received_at, e.input FROM events e
-          WHERE e.layout_id = $1 AND e.id > $2 AND e.status = 'accepted' AND e.kind IN ('pulse','tick','command')
+          WHERE e.layout_id = $1 AND e.id > $2 AND e.status = 'accepted' AND e.kind IN ('pulse','tick','command') AND NOT e.imported
           ORDER BY e.id LIMIT ${REPLAY_PAGE}`,
         [this.layoutId, last],
       );
@@ -263,13 +263,13 @@ export class LayoutRunner {
   private async loadSeqs(): Promise<void> {
     const { rows: maxRows } = await this.pool.query<{ node_id: string; boot: string; max: string }>(
       `SELECT node_id, boot, max(seq)::text AS max FROM events
-        WHERE layout_id = $1 AND kind = 'pulse' AND status = 'accepted' GROUP BY node_id, boot`,
+        WHERE layout_id = $1 AND kind = 'pulse' AND status = 'accepted' AND NOT imported GROUP BY node_id, boot`,
       [this.layoutId],
     );
     for (const r of maxRows) this.seqs.set(seqKey(r.node_id, r.boot), { max: Number(r.max), recent: new Set() });
     const { rows: recent } = await this.pool.query<{ node_id: string; boot: string; seq: string }>(
       `SELECT node_id, boot, seq::text FROM events
-        WHERE layout_id = $1 AND kind = 'pulse' AND status = 'accepted' ORDER BY id DESC LIMIT ${RECENT_SEQS * 4}`,
+        WHERE layout_id = $1 AND kind = 'pulse' AND status = 'accepted' AND NOT imported ORDER BY id DESC LIMIT ${RECENT_SEQS * 4}`,
       [this.layoutId],
     );
     for (const r of recent.reverse()) this.seqs.get(seqKey(r.node_id, r.boot))?.recent.add(Number(r.seq));
@@ -278,7 +278,7 @@ export class LayoutRunner {
   private async loadNodeLive(): Promise<void> {
     const { rows } = await this.pool.query<{ node_id: string; received_at: Date; raw_payload: string | null; input: { online: boolean; boot?: string; fw?: string } | null }>(
       `SELECT DISTINCT ON (node_id) node_id, received_at, raw_payload, input FROM events
-        WHERE layout_id = $1 AND kind = 'status' AND status = 'accepted' ORDER BY node_id, id DESC`,
+        WHERE layout_id = $1 AND kind = 'status' AND status = 'accepted' AND NOT imported ORDER BY node_id, id DESC`,
       [this.layoutId],
     );
     for (const r of rows) {

@@ -8,6 +8,8 @@ import type { ChangeDto, EventKind, EventStatus, LiveEventDto, SessionDto } from
 /** One session as the list shows it. */
 export interface SessionSummaryDto extends SessionDto {
   closeReason: string | null;
+  /** The uploaded file's name when the session was imported from an exported log; null for a live session. */
+  importedFrom: string | null;
   eventCount: number;
 }
 
@@ -59,4 +61,11 @@ export interface SessionInputsResponse {
   inputs: EngineInput[];
   /** Versions published while the session ran: the live state restarted from their initial values. */
   rulebookSwitches: number[];
+}
+
+/** `POST /api/layouts/:slug/sessions/import` (multipart: `file`, optional `rulebookVersion`): 201. */
+export interface SessionImportResponse {
+  sessionId: number;
+  /** Events stored. */
+  events: number;
 }

@@ -58,6 +58,8 @@ export interface RequestOptions {
  */
 export async function request<T>(path: string, options: RequestOptions = {}): Promise<T> {
   const { method = options.body === undefined ? "GET" : "POST", body, signal } = options;
+  // A FormData body (file uploads) goes as multipart; the browser sets its boundary header.
+  const multipart = body instanceof FormData;
   let response: Response;
   try {
     response = await fetch(path, {
@@ -65,9 +67,9 @@ export async function request<T>(path: string, options: RequestOptions = {}): Pr
       credentials: "same-origin",
       headers: {
         Accept: "application/json",
-        ...(body === undefined ? {} : { "Content-Type": "application/json" }),
+        ...(body === undefined || multipart ? {} : { "Content-Type": "application/json" }),
       },
-      body: body === undefined ? undefined : JSON.stringify(body),
+      body: body === undefined ? undefined : multipart ? body : JSON.stringify(body),
       signal,
     });
   } catch (cause) {

@@ -1,5 +1,5 @@
-import { keepPreviousData, useQuery } from "@tanstack/react-query";
-import type { SessionEventFilter, SessionEventPage, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
+import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type { SessionEventFilter, SessionEventPage, SessionImportResponse, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
 import { http } from "./http";
 
 export const sessionKeys = {
@@ -45,4 +45,18 @@ export function useSessionInputs(id: number | undefined) {
 /** The full log as a download (the browser sends the session cookie). */
 export function sessionExportUrl(id: number, format: "jsonl" | "csv"): string {
   return `/api/sessions/${id}/events?format=${format}`;
+}
+
+/** Uploads an exported log (JSONL or CSV) as a new imported session; the session list refetches. */
+export function useImportSessionMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: ({ file, rulebookVersion }: { file: File; rulebookVersion?: number }) => {
+      const form = new FormData();
+      form.append("file", file, file.name);
+      if (rulebookVersion !== undefined) form.append("rulebookVersion", String(rulebookVersion));
+      return http.post<SessionImportResponse>(`/api/layouts/${encodeURIComponent(slug)}/sessions/import`, form);
+    },
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: sessionKeys.list(slug) }),
+  });
 }

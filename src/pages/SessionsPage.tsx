@@ -5,10 +5,12 @@ import { useLayout } from "../api/layouts";
 import { sessionExportUrl, useSessionEvents, useSessions } from "../api/sessions";
 import { EventLogFilters } from "../components/sessions/EventLogFilters";
 import { EventLogTable } from "../components/sessions/EventLogTable";
+import { ImportEventLogForm } from "../components/sessions/ImportEventLogForm";
 import { SessionTable } from "../components/sessions/SessionTable";
 import { Button } from "../components/ui/Button";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
+import { useCurrentUser } from "../hooks/useCurrentUser";
 
 /** Rows per page of the event log: enough to read, few enough for a quick table. */
 const PAGE_EVENTS = 100;
@@ -20,6 +22,7 @@ export default function SessionsPage() {
   const [search, setSearch] = useSearchParams();
   const layout = useLayout(slug);
   const sessions = useSessions(slug);
+  const user = useCurrentUser();
   const param = Number(search.get("session"));
   const chosen = Number.isInteger(param) && param > 0 ? param : sessions.data?.[0]?.id;
 
@@ -50,6 +53,11 @@ export default function SessionsPage() {
           detectors={layout.data.detectors.map((d) => d.id)}
           nodes={layout.data.nodes.map((n) => n.id)}
         />
+      ) : null}
+      {user.role === "maintainer" || user.role === "admin" ? (
+        <Panel title="Import an event log">
+          <ImportEventLogForm slug={slug} />
+        </Panel>
       ) : null}
     </div>
   );

@@ -1,9 +1,11 @@
 import { once } from "node:events";
-import { Router } from "express";
+import { Router, type RequestHandler } from "express";
+import multer from "multer";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
-import { parseWith } from "../../http/errors";
-import { requireSignedIn } from "../auth/middleware";
+import { badRequest, HttpError, parseWith } from "../../http/errors";
+import { requireRole, requireSignedIn } from "../auth/middleware";
+import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
 import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
@@ -22,12 +24,44 @@ const pageQuerySchema = z.object({
   q: z.string().trim().min(1).max(200).optional(),
 });
 
+const importFieldsSchema = z.object({ rulebookVersion: z.union([z.literal(""), z.coerce.number().int().positive()]).optional() });
+
+/** One file in memory, at most MAX_IMPORT_BYTES; multer's own errors become the one error shape. */
+const uploadOneFile = multer({ storage: multer.memoryStorage(), limits: { fileSize: MAX_IMPORT_BYTES, files: 1, fields: 4 } }).single("file");
+const oneLogFile: RequestHandler = (req, res, next) => {
+  uploadOneFile(req, res, (err: unknown) => {
+    if (!err) return next();
+    if (err instanceof multer.MulterError && err.code === "LIMIT_FILE_SIZE") {
+      return next(new HttpError(413, "too_large", `the file is over ${MAX_IMPORT_BYTES / 1024 / 1024} MB`));
+    }
+    // Anything else (a second file, a torn multipart body) is the client's request, not our fault.
+    next(badRequest(`the upload is not one event-log file: ${err instanceof Error ? err.message : String(err)}`));
+  });
+};
+
 export function sessionRoutes(deps: AppDeps): Router {
   const router = Router();
 
   router.get("/layouts/:slug/sessions", requireSignedIn, async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
     res.json({ sessions: await listSessions(deps, layout.id) });
+  });
+
+  router.post("/layouts/:slug/sessions/import", requireRole("maintainer", "admin"), oneLogFile, async (req, res) => {
+    const layout = await findLayout(deps, String(req.params.slug));
+    if (!req.file) throw badRequest("attach the event log as the form field \"file\"");
+    const { rulebookVersion } = parseWith(importFieldsSchema, req.body ?? {}, "form");
+    const text = req.file.buffer.toString("utf8");
+    const parsed = await parseEventLog(text, importFormat(req.file.originalname, text));
+    if (!parsed.ok) throw invalidLog(parsed.errors);
+    const created = await importSession(deps, parsed.events, {
+      layoutId: layout.id,
+      liveVersion: layout.liveVersion,
+      rulebookVersion: rulebookVersion === "" ? undefined : rulebookVersion,
+      fileName: req.file.originalname.slice(0, 200),
+      userId: req.user!.id,
+    });
+    res.status(201).json(created);
   });
 
   router.get("/sessions/:id/events", requireSignedIn, async (req, res) => {

@@ -15,8 +15,8 @@ export const EXPORT_PAGE_EVENTS = 1000;
 export type SessionSummary = SessionSummaryDto;
 
 export async function listSessions(deps: AppDeps, layoutId: number, limit = 200): Promise<SessionSummary[]> {
-  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; event_count: number }>(
-    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason,
+  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; imported_from: string | null; event_count: number }>(
+    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason, s.imported_from,
             (SELECT count(*) FROM events e WHERE e.session_id = s.id)::int AS event_count
        FROM sessions s WHERE s.layout_id = :layoutId ORDER BY s.opened_at DESC, s.id DESC LIMIT :limit`,
     { replacements: { layoutId, limit }, type: QueryTypes.SELECT },
@@ -27,6 +27,7 @@ export async function listSessions(deps: AppDeps, layoutId: number, limit = 200)
     closedAt: r.closed_at ? new Date(r.closed_at).toISOString() : null,
     rulebookVersion: r.rulebook_version,
     closeReason: r.close_reason,
+    importedFrom: r.imported_from,
     eventCount: r.event_count,
   }));
 }
@@ -200,8 +201,8 @@ async function* acceptedInputs(deps: AppDeps, where: string, replacements: Recor
  * version (the runner restarts from them then too).
  */
 export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<SessionInputsResponse> {
-  const sessions = await deps.db.sequelize.query<{ layout_id: number; opened_at: Date; rulebook_version: number | null; first_id: string | null }>(
-    `SELECT s.layout_id, s.opened_at, s.rulebook_version, (SELECT min(id)::text FROM events e WHERE e.session_id = s.id) AS first_id
+  const sessions = await deps.db.sequelize.query<{ layout_id: number; opened_at: Date; rulebook_version: number | null; imported_from: string | null; first_id: string | null }>(
+    `SELECT s.layout_id, s.opened_at, s.rulebook_version, s.imported_from, (SELECT min(id)::text FROM events e WHERE e.session_id = s.id) AS first_id
        FROM sessions s WHERE s.id = :sessionId`,
     { replacements: { sessionId }, type: QueryTypes.SELECT },
   );
@@ -218,6 +219,10 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   );
   const rulebook = rulebooks[0]?.rulebook;
   if (!rulebook) throw notFound(`rulebook version ${version} of session ${sessionId}`);
+  // An uploaded log carries no state from before it: it replays from the rulebook's initial values.
+  if (session.imported_from !== null) {
+    return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, rulebookSwitches: [] };
+  }
   const firstId = session.first_id ?? NO_ID_LIMIT;
   const snapshots = await deps.db.sequelize.query<{ rulebook_version: number; last_event_id: string; state: { engine: EngineState } }>(
     `SELECT rulebook_version, last_event_id::text, state FROM snapshots
@@ -228,7 +233,7 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   let start: EngineState;
   if (snapshot && snapshot.rulebook_version === version) {
     start = snapshot.state.engine;
-    const before = acceptedInputs(deps, "e.layout_id = :layoutId AND e.id < :firstId", { layoutId, firstId }, snapshot.last_event_id);
+    const before = acceptedInputs(deps, "e.layout_id = :layoutId AND e.id < :firstId AND NOT e.imported", { layoutId, firstId }, snapshot.last_event_id);
     for await (const input of before) start = step(rulebook, start, input).state;
   } else {
     start = initialState(rulebook, new Date(session.opened_at).getTime());
