@@ -7,7 +7,7 @@ import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { freePort } from "../../server/db/embeddedPostgres";
 import { startLiveRuntime, type LiveRuntime } from "../../server/runtime/liveRuntime";

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, connectBrowser, join, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { connectBoard, connectBrowser, join, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 
 const SLUG = "kestrel-bank";
 const topic = (node: string, kind: string) => `blocklight/v1/${SLUG}/node/${node}/${kind}`;
