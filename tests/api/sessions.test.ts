@@ -9,7 +9,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { SessionEventPage, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
 import { shownAspects, step, type EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
-import { connectBoard, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 const SLUG = "kestrel-bank";
@@ -34,16 +34,7 @@ describe("sessions: event log pages and replay inputs", () => {
     t = await startTestApp();
     // Frequent snapshots, so the second session's start is rebuilt from a snapshot plus later inputs.
     h = await startLiveHarness(t, { snapshotEvery: 3 });
-    const engineer = await t.signIn("engineer");
-    const secrets = new Map<string, string>();
-    for (const [id, detectors, signals] of [
-      ["bank-foot", ["MA"], []],
-      ["junction", ["ME", "JX"], ["M1"]],
-    ] as const) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id, name: id, detectors, signals });
-      expect(res.status).toBe(201);
-      secrets.set(id, res.body.secret);
-    }
+    const secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction]);
     const bankFoot: Board = await connectBoard(h.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!);
     const junction: Board = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     const signaller = await t.signIn("signaller");

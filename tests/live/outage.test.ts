@@ -8,7 +8,7 @@ import pg from "pg";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 
 const SLUG = "kestrel-bank";
 const OUTAGE_DANGER_MS = 1_000;
@@ -18,7 +18,7 @@ describe("database outage", () => {
   let h: LiveHarness;
   let admin: pg.Client;
   let dbName: string;
-  const secrets = new Map<string, string>();
+  let secrets = new Map<string, string>();
 
   const setConnections = async (allow: boolean) => {
     await admin.query(`ALTER DATABASE ${dbName} ALLOW_CONNECTIONS ${allow}`);
@@ -31,14 +31,7 @@ describe("database outage", () => {
     admin = new pg.Client({ connectionString: inject("pgAdminUrl") });
     await admin.connect();
     h = await startLiveHarness(t, { dbOutageDangerMs: OUTAGE_DANGER_MS });
-    const engineer = await t.signIn("engineer");
-    for (const [id, detectors, signals] of [
-      ["bank-foot", ["MA"], []],
-      ["junction", ["ME", "JX"], ["M1"]],
-    ] as const) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id, name: id, detectors, signals });
-      secrets.set(id, res.body.secret);
-    }
+    secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction]);
   });
   afterAll(async () => {
     await setConnections(true).catch(() => {});

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, connectBrowser, join, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, connectBrowser, issueBoardSecrets, join, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 
 const SLUG = "kestrel-bank";
 const topic = (node: string, kind: string) => `blocklight/v1/${SLUG}/node/${node}/${kind}`;
@@ -15,7 +15,7 @@ const topic = (node: string, kind: string) => `blocklight/v1/${SLUG}/node/${node
 describe("live pipeline", () => {
   let t: TestApp;
   let h: LiveHarness;
-  const secrets = new Map<string, string>();
+  let secrets = new Map<string, string>();
   let signallerCookie = "";
 
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
@@ -31,16 +31,7 @@ describe("live pipeline", () => {
   beforeAll(async () => {
     t = await startTestApp();
     h = await startLiveHarness(t);
-    const engineer = await t.signIn("engineer");
-    for (const [id, detectors, signals] of [
-      ["bank-foot", ["MA"], []],
-      ["junction", ["ME", "JX"], ["M1"]],
-      ["quarry", ["BA", "BE"], ["B1"]],
-    ] as const) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id, name: id, detectors, signals });
-      expect(res.status).toBe(201);
-      secrets.set(id, res.body.secret);
-    }
+    secrets = await issueBoardSecrets(t, SLUG, Object.values(KESTREL_BOARDS));
     const login = await request(t.app).post("/api/auth/login").send({ email: demoEmail("signaller"), password: DEMO_PASSWORD });
     signallerCookie = (login.headers["set-cookie"] as unknown as string[]).map((c) => c.split(";")[0]).join("; ");
   });

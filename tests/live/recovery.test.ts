@@ -8,14 +8,14 @@ import { QueryTypes } from "sequelize";
 import { replay, shownAspects, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 
 const SLUG = "kestrel-bank";
 
 describe("crash and recovery", () => {
   let t: TestApp;
   let h: LiveHarness;
-  const secrets = new Map<string, string>();
+  let secrets = new Map<string, string>();
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
     t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
 
@@ -23,14 +23,7 @@ describe("crash and recovery", () => {
     t = await startTestApp();
     // Small snapshot interval: recovery uses a snapshot and replays what came after it.
     h = await startLiveHarness(t, { snapshotEvery: 25 });
-    const engineer = await t.signIn("engineer");
-    for (const [id, detectors] of [
-      ["bank-foot", ["MA"]],
-      ["junction", ["ME", "JX"]],
-    ] as const) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id, name: id, detectors, signals: [] });
-      secrets.set(id, res.body.secret);
-    }
+    secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, ["junction", ["ME", "JX"], []]]);
   });
   afterAll(async () => {
     await h?.close();

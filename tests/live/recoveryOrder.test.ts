@@ -5,7 +5,7 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 
 const SLUG = "kestrel-bank";
 /** No snapshot during the run: the restart must replay every event, across 9→10 and 99→100. */
@@ -14,20 +14,13 @@ const NO_SNAPSHOTS = 1_000_000;
 describe("recovery order", () => {
   let t: TestApp;
   let h: LiveHarness;
-  const secrets = new Map<string, string>();
+  let secrets = new Map<string, string>();
   const count = async (sql: string) => (await t.deps.db.sequelize.query<{ n: number }>(sql, { type: QueryTypes.SELECT }))[0].n;
 
   beforeAll(async () => {
     t = await startTestApp();
     h = await startLiveHarness(t, { snapshotEvery: NO_SNAPSHOTS });
-    const engineer = await t.signIn("engineer");
-    for (const [id, detectors] of [
-      ["bank-foot", ["MA"]],
-      ["junction", ["ME", "JX"]],
-    ] as const) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id, name: id, detectors, signals: [] });
-      secrets.set(id, res.body.secret);
-    }
+    secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, ["junction", ["ME", "JX"], []]]);
   });
   afterAll(async () => {
     await h?.close();

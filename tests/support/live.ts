@@ -160,3 +160,29 @@ export function join(socket: Socket<ServerToClientEvents, ClientToServerEvents>,
     socket.emit("live:join", { slug, ...(displayToken ? { displayToken } : {}) }, resolve),
   );
 }
+
+/** Boards of the Kestrel Bank demo as the live tests register them: id, detectors, signals. */
+export const KESTREL_BOARDS = {
+  bankFoot: ["bank-foot", ["MA"], []],
+  junction: ["junction", ["ME", "JX"], ["M1"]],
+  quarry: ["quarry", ["BA", "BE"], ["B1"]],
+} as const satisfies Record<string, readonly [string, readonly string[], readonly string[]]>;
+
+/**
+ * Registers boards through the real API as an engineer and returns each board's secret,
+ * which is shown only in that reply.
+ */
+export async function issueBoardSecrets(
+  t: TestApp,
+  slug: string,
+  boards: readonly (readonly [string, readonly string[], readonly string[]])[],
+): Promise<Map<string, string>> {
+  const engineer = await t.signIn("engineer");
+  const secrets = new Map<string, string>();
+  for (const [id, detectors, signals] of boards) {
+    const res = await engineer.post(`/api/layouts/${slug}/nodes`).send({ id, name: id, detectors, signals });
+    if (res.status !== 201) throw new Error(`registering board ${id} failed: ${res.status} ${JSON.stringify(res.body)}`);
+    secrets.set(id, res.body.secret);
+  }
+  return secrets;
+}
