@@ -203,13 +203,14 @@ export async function startEmbeddedPostgres(options: EmbeddedPostgresOptions): P
   if (exists.out.trim() !== "1") runAs(bin("createdb"), [...connect, DATABASE], { password });
 
   let stopped = false;
-  return {
-    url: `postgres://${auth}/${DATABASE}`,
-    adminUrl,
-    stop() {
-      if (stopped) return;
-      stopped = true;
-      runAs(bin("pg_ctl"), ["-D", clusterDir, "-m", "fast", "-w", "-t", "30", "stop"], { allowFail: true });
-    },
+  const stop = () => {
+    if (stopped) return;
+    stopped = true;
+    process.removeListener("exit", stop);
+    runAs(bin("pg_ctl"), ["-D", clusterDir, "-m", "fast", "-w", "-t", "30", "stop"], { allowFail: true });
   };
+  // A process that exits without calling stop() (an error, process.exit) must not leave a
+  // postmaster behind; stopping is synchronous, so it can run in the exit handler.
+  process.once("exit", stop);
+  return { url: `postgres://${auth}/${DATABASE}`, adminUrl, stop };
 }

@@ -54,6 +54,8 @@ export async function runBenches(filters: string[], out: (line: string) => void 
 
 if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
   const filters = process.argv.slice(2).filter((arg) => !arg.startsWith("-"));
+  // Ctrl-C goes through process.exit so the exit hooks stop the benches' own PostgreSQL.
+  for (const signal of ["SIGINT", "SIGTERM"] as const) process.once(signal, () => process.exit(130));
   const { failed } = await runBenches(filters);
   // Bench modules may leave pools or sockets open; the figures are printed, so leave now.
   process.exit(failed.length ? 1 : 0);
