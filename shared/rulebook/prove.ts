@@ -20,7 +20,7 @@
  * if (result.verdict === "refuted") console.log(result.properties.find((p) => p.holds === false));
  */
 import { initialStep, shownAspects, step, type Change, type EngineInput, type EngineState } from "./engine";
-import type { Aspect, Rulebook } from "./schema";
+import type { Aspect, PointsLie, Rulebook } from "./schema";
 
 /** The properties of CONTRACT.md §5, in the order results are reported. */
 export const PROPERTY_IDS = [
@@ -64,7 +64,8 @@ export const SAFETY_PROPERTY_IDS = [
 export type Move =
   | { type: "arrive"; route: string; axles: number }
   | { type: "pulse"; detector: string; route: string; train: number }
-  | { type: "quiet"; rule: string };
+  | { type: "quiet"; rule: string }
+  | { type: "points"; points: string; lies: PointsLie };
 
 export interface PropertyResult {
   id: PropertyId;
@@ -999,6 +1000,8 @@ export function replayCounterexample(rulebook: Rulebook, moves: Move[]): Replay 
       const t = q[qi];
       t.pos[k]++;
       if (k === t.pos.length - 1 && t.pos[k] === route.path.length) q.splice(qi, 1);
+    } else if (move.type === "points") {
+      throw new Error(`${where}: this rulebook has no points model`);
     } else {
       const deadline = state.quiet[move.rule];
       if (deadline === undefined) throw new Error(`${where}: that quiet trigger is not armed`);
