@@ -172,6 +172,8 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
             {l.text}
           </text>
         ))}
+      </g>
+      <g>
         {layout.points.map((p) => {
           const at = geometry.points[p.id];
           if (!at) return null;
