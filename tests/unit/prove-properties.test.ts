@@ -8,6 +8,7 @@ import { describe, expect, it } from "vitest";
 import { shownAspects } from "../../shared/rulebook/engine";
 import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "../../shared/rulebook/prove";
 import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "../../shared/rulebook/schema";
+import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
@@ -523,23 +524,30 @@ describe("the prover proves sound rulebooks", () => {
     expect(result.verdict).toBe("proved");
   });
 
-  // Known gap, reported: in the §5 environment a train's road is chosen when it arrives, not by
-  // the points, so a train "for the loop" may follow a signal cleared for the through road and
-  // the road counts go wrong. Until the contract says how trains follow facing points, the
-  // facing template cannot be proved; this test flips (and must be changed) when it can.
-  it.fails("template: facing junction, first free road (not provable under §5 as written)", () => {
+  // §5 (/2): a train's road is fixed by where the points lie as it passes the signal.
+  it.each(["power", "hand"] as const)("template: facing junction, %s-worked points", (worked) => {
     const rulebook = facingJunction({
       signal: "W1",
       approach: ["WA"],
       entry: "WE",
       points: "P1",
-      choose: "first-free",
+      worked,
       roads: [
         { id: "through", exit: ["TX", "TZ"] },
         { id: "loop", exit: ["LX", "LZ"] },
       ],
+      maxAxles: 3,
     });
-    expect(prove(rulebook).verdict).toBe("proved");
+    const result = prove(rulebook, { points: { P1: worked } });
+    expect(result.properties.filter((p) => p.holds !== true)).toEqual([]);
+    expect(result.properties.map((p) => p.id)).toContain("points-locked");
+    expect(result.verdict).toBe("proved");
+  });
+
+  it("the Wrenfold Loop demo is proved (power-worked points, as its layout says)", () => {
+    const layout = wrenfoldLoopLayout();
+    const points = Object.fromEntries(layout.points.map((p) => [p.id, p.worked ?? "hand"]));
+    expect(prove(layout.rulebook, { points }).verdict).toBe("proved");
   });
 
   it("never says proved when it stops at a limit", () => {
