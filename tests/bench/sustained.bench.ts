@@ -12,8 +12,9 @@
  * peak RSS; then the time for the server to go idle after the load, the alarms raised per
  * layout during the load, and the bare broker round trip.
  *
- * `BENCH_CPU_PROFILE=DIR` runs every process with `--cpu-prof` into DIR (the server's
- * profile is written when it stops) and prints the server's top functions by self time.
+ * `BENCH_CPU_PROFILE=DIR` profiles the server process (V8 CPU profile, as `--cpu-prof` would,
+ * through cpuProfilePreload.mjs), written to DIR when it stops, and prints its top functions
+ * by self time.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -153,7 +154,9 @@ export async function run(report: Report): Promise<void> {
     PG_PORT: String(pgPort),
     LOG_LEVEL: "warn",
     DEMO: "on",
-    ...(profileDir ? { NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --cpu-prof --cpu-prof-dir=${profileDir}`.trim() } : {}),
+    ...(profileDir
+      ? { NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --import ${path.join(ROOT, "tests/bench/cpuProfilePreload.mjs")}`.trim(), BENCH_CPU_PROFILE_DIR: profileDir }
+      : {}),
   };
   delete env.DATABASE_URL;
   delete env.MQTT_URL;
