@@ -10,6 +10,7 @@
 import mqtt, { type MqttClient } from "mqtt";
 
 const KEEPALIVE_S = 10;
+const CONNECT_TIMEOUT_MS = 30_000;
 const BUFFER_MAX = 200_000;
 const LINK_DOWN_DANGER_MS = 2_000;
 const HEARTBEAT_DANGER_MS = 3_000;
@@ -90,9 +91,13 @@ export class BenchBoard {
 
   static async connect(options: BenchBoardOptions): Promise<BenchBoard> {
     const board = new BenchBoard(options);
+    // The broker may still be starting: the client keeps retrying until it answers.
     await new Promise<void>((resolve, reject) => {
-      board.client.once("connect", () => resolve());
-      board.client.once("error", reject);
+      const timer = setTimeout(() => reject(new Error(`board ${options.node} could not connect`)), CONNECT_TIMEOUT_MS);
+      board.client.once("connect", () => {
+        clearTimeout(timer);
+        resolve();
+      });
     });
     return board;
   }
