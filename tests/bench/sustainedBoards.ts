@@ -21,7 +21,8 @@ export interface BenchBoardOptions {
   node: string;
   secret: string;
   boot: string;
-  onAspect?: (signal: string, aspect: string, receivedAt: number) => void;
+  /** `publishedAt`: the server's stamp (`at`, wall clock) on the command. */
+  onAspect?: (signal: string, aspect: string, receivedAt: number, publishedAt: number) => void;
 }
 
 export class BenchBoard {
@@ -82,9 +83,9 @@ export class BenchBoard {
         this.serverOffline = !status.online;
         if (this.serverOffline) this.faultRev = this.newestRev;
       } else if (topic.includes("/signal/")) {
-        const aspect = JSON.parse(payload.toString()) as { rev: number; aspect: string };
+        const aspect = JSON.parse(payload.toString()) as { rev: number; aspect: string; at: string };
         this.newestRev = Math.max(this.newestRev, aspect.rev);
-        options.onAspect?.(topic.split("/")[4], aspect.aspect, now);
+        options.onAspect?.(topic.split("/")[4], aspect.aspect, now, Date.parse(aspect.at));
       }
     });
   }
