@@ -84,7 +84,7 @@ async function readParts(deps: AppDeps, layoutId: number) {
     detectors: detectors as unknown as LayoutFile["detectors"],
     signals: signals as unknown as LayoutFile["signals"],
     points: points as unknown as LayoutFile["points"],
-    nodes: nodes as unknown as NodeDto[],
+    nodes: (nodes as unknown as NodeDto[]).map((n) => ({ ...n, points: [] })),
   };
 }
 
@@ -124,6 +124,7 @@ export async function listLayouts(deps: AppDeps): Promise<LayoutSummary[]> {
     name: r.name as string,
     scale: { name: r.scale_name as string, ratio: Number(r.scale_ratio) },
     liveVersion: (r.live_version as number | null) ?? null,
+    archived: false,
     detectorCount: r.detector_count as number,
     signalCount: r.signal_count as number,
     nodeCount: r.node_count as number,
@@ -144,6 +145,8 @@ export async function listVersions(deps: AppDeps, layout: Layout): Promise<Ruleb
     author: (r.author as string | null) ?? null,
     note: (r.note as string | null) ?? null,
     createdAt: new Date(r.created_at as string).toISOString(),
+    verdict: null,
+    provedAt: null,
   }));
 }
 
@@ -157,6 +160,9 @@ export async function layoutDetail(deps: AppDeps, slug: string): Promise<LayoutD
     ...parts,
     schematic: layout.schematic,
     versions,
+    revision: 1,
+    liveVersion: layout.liveVersion,
+    archivedAt: null,
   };
 }
 
