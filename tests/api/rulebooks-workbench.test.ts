@@ -171,7 +171,7 @@ describe("publishing and proof verdicts", () => {
   });
 
   it("stores and returns rulebooks in canonical key order", async () => {
-    const scrambled = Object.fromEntries(Object.entries(kestrelBankLayout().rulebook).reverse());
+    const scrambled: Record<string, unknown> = Object.fromEntries(Object.entries(kestrelBankLayout().rulebook).reverse());
     scrambled.rules = (scrambled.rules as object[]).map((rule) => Object.fromEntries(Object.entries(rule).reverse()));
     // Longest name first: jsonb would put the shortest first.
     const counterNames = Object.keys(kestrelBankLayout().rulebook.counters).sort((a, b) => b.length - a.length);
