@@ -1,0 +1,32 @@
+import { Router } from "express";
+import { setupBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
+import type { AppDeps } from "../../deps";
+import { parseWith } from "../../http/errors";
+import { checkSetupToken, completeSetup, setupDone, setupNeeded } from "./service";
+import { societyName } from "./society";
+
+export function setupRoutes(deps: AppDeps): Router {
+  const router = Router();
+
+  router.get("/setup", async (_req, res) => {
+    const body: SetupStatus = { needed: await setupNeeded(deps) };
+    res.json(body);
+  });
+
+  // Anyone may try; only the token holder gets past the check, and only once.
+  router.post("/setup", async (req, res) => {
+    if (!(await setupNeeded(deps))) throw setupDone();
+    checkSetupToken(deps, (req.body as { token?: unknown } | undefined)?.token);
+    const body = parseWith(setupBodySchema, req.body);
+    await completeSetup(deps, body);
+    res.status(201).json({ ok: true });
+  });
+
+  // The society's name is on the visitor display too, so it needs no sign-in.
+  router.get("/society", async (_req, res) => {
+    const body: SocietyResponse = { name: await societyName(deps) };
+    res.json(body);
+  });
+
+  return router;
+}
