@@ -6,14 +6,16 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ROLES, type Role } from "../../shared/contract/rest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { DEMO_PASSWORD } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
 
-type Method = "get" | "post" | "delete";
+type Method = "get" | "post" | "patch" | "delete";
 interface RouteCase {
   method: Method;
-  path: string;
+  /** A function when the path names a row made in beforeAll. */
+  path: string | (() => string);
   allowed: readonly Role[];
   /** A body that succeeds for an allowed role; may vary per role to stay unique. */
   body?: (role: Role) => unknown;
@@ -21,6 +23,8 @@ interface RouteCase {
 }
 
 const EVERYONE = ROLES;
+/** Rows the member-admin rows act on, made in beforeAll (never a demo account the other rows sign in as). */
+const spare = { memberId: 0, removableId: 0, invitationId: 0, revocableId: 0 };
 const layoutCopy = (role: Role) => ({ ...kestrelBankLayout(), slug: `matrix-${role}` });
 
 const ROUTES: RouteCase[] = [
@@ -93,6 +97,26 @@ const ROUTES: RouteCase[] = [
   { method: "post", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"], body: () => ({ label: "matrix" }), okStatus: 201 },
   { method: "get", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"] },
   { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", allowed: ["admin"], okStatus: 204 },
+  // Accounts (issue 11): one's own account, and the admin's members, invitations and account audit
+  { method: "patch", path: "/api/me", allowed: EVERYONE, body: (role) => ({ name: `Fernmoor ${role}`, currentPassword: DEMO_PASSWORD }) },
+  { method: "patch", path: "/api/me/preferences", allowed: EVERYONE, body: () => ({ alarmMail: false }) },
+  { method: "patch", path: () => `/api/admin/members/${spare.memberId}`, allowed: ["admin"], body: () => ({ alarmMail: true }) },
+  { method: "delete", path: () => `/api/admin/members/${spare.removableId}`, allowed: ["admin"], okStatus: 204 },
+  { method: "post", path: () => `/api/admin/invitations/${spare.invitationId}/resend`, allowed: ["admin"] },
+  { method: "delete", path: () => `/api/admin/invitations/${spare.revocableId}`, allowed: ["admin"], okStatus: 204 },
+  { method: "get", path: "/api/admin/audit", allowed: ["admin"] },
+];
+
+/** Routes for people without an account (yet): every caller gets the same answer. */
+const PUBLIC_ROUTES: { method: Method; path: string; body?: unknown; status: number }[] = [
+  { method: "get", path: "/api/health", status: 200 },
+  { method: "get", path: "/api/setup", status: 200 },
+  { method: "get", path: "/api/society", status: 200 },
+  // The demo has accounts, so setup is done whoever asks.
+  { method: "post", path: "/api/setup", body: { token: "x", society: "S", name: "N", email: "n@fernmoor.example", password: "long-enough-pw" }, status: 409 },
+  { method: "post", path: "/api/auth/reset", body: { email: "nobody@fernmoor.example" }, status: 202 },
+  { method: "post", path: "/api/auth/reset/not-a-token", body: { password: "long-enough-pw" }, status: 404 },
+  { method: "get", path: "/api/invitations/not-a-token", status: 404 },
 ];
 
 describe("route × role matrix", () => {
@@ -107,6 +131,12 @@ describe("route × role matrix", () => {
     await raiseAlarm(t.deps, { layoutId: layout!.id, kind: "node-offline", subject: "junction", message: "matrix alarm" });
     await live.runtime.session("kestrel-bank", "open", { id: 1, name: "matrix" });
     await agents.get("admin")!.post("/api/layouts/kestrel-bank/display-links").send({ label: "matrix link 1" });
+    const { User } = t.deps.db.models;
+    spare.memberId = (await User.create({ email: "spare.member@fernmoor.example", name: "Spare member", role: "viewer", passwordHash: "x" })).id;
+    spare.removableId = (await User.create({ email: "spare.leaver@fernmoor.example", name: "Spare leaver", role: "viewer", passwordHash: "x" })).id;
+    const invite = (email: string) => agents.get("admin")!.post("/api/invitations").send({ email, role: "viewer" });
+    spare.invitationId = (await invite("spare.invitee@fernmoor.example")).body.id;
+    spare.revocableId = (await invite("spare.revoked@fernmoor.example")).body.id;
   });
   afterAll(async () => {
     await live?.close();
@@ -118,9 +148,10 @@ describe("route × role matrix", () => {
     ...ROLES.map((role) => ({ route, role })),
   ]);
 
-  it.each(rows.map((r) => [`${r.route.method.toUpperCase()} ${r.route.path} as ${r.role}`, r] as const))("%s", async (_name, { route, role }) => {
+  const shown = (path: RouteCase["path"]) => (typeof path === "string" ? path : path().replace(/\/0(\/|$)/, "/:id$1"));
+  it.each(rows.map((r) => [`${r.route.method.toUpperCase()} ${shown(r.route.path)} as ${r.role}`, r] as const))("%s", async (_name, { route, role }) => {
     const send = (agent: ReturnType<typeof request.agent> | ReturnType<typeof request>) => {
-      const req = agent[route.method](route.path);
+      const req = agent[route.method](typeof route.path === "string" ? route.path : route.path());
       const body = route.body?.(role === "anonymous" ? "viewer" : role);
       return body === undefined ? req : req.send(body as object);
     };
@@ -137,6 +168,23 @@ describe("route × role matrix", () => {
       expect(res.status).toBe(403);
       expect(res.body.error.code).toBe("forbidden");
     }
+  });
+
+  it.each(PUBLIC_ROUTES.flatMap((route) => ["anonymous", ...ROLES].map((who) => [`${route.method.toUpperCase()} ${route.path} as ${who}`, route, who] as const)))(
+    "%s (public)",
+    async (_name, route, who) => {
+      const agent = who === "anonymous" ? request(t.app) : agents.get(who as Role)!;
+      const req = agent[route.method](route.path);
+      const res = await (route.body === undefined ? req : req.send(route.body as object));
+      expect(res.status, JSON.stringify(res.body)).toBe(route.status);
+    },
+  );
+
+  it.each(ROLES)("POST /api/auth/logout as %s ends that session (anonymous: 401)", async (role) => {
+    const agent = await t.signIn(role);
+    expect((await agent.post("/api/auth/logout")).status).toBe(200);
+    expect((await agent.get("/api/me")).status).toBe(401);
+    expect((await request(t.app).post("/api/auth/logout")).status).toBe(401);
   });
 
   it("health needs no sign-in and reports the database", async () => {
