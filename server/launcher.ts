@@ -20,6 +20,8 @@ import { configFromEnv, type AppConfig } from "./config";
 import { openDatabase } from "./db/database";
 import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
 import { DEMO_PASSWORD, demoEmail, issueDemoNodeSecrets, seedDemo } from "./db/seed/demo";
+import { setupBannerLines } from "./features/setup/announce";
+import { prepareSetupToken } from "./features/setup/service";
 import { createLogger } from "./logger";
 import { loadOrCreateSecret } from "./secrets";
 import { SupervisedChild } from "./supervisor";
@@ -39,6 +41,8 @@ const say = (line: string) => process.stdout.write(`[launcher]    ${line}  (+${e
 const children: SupervisedChild[] = [];
 let pg: EmbeddedPostgres | null = null;
 let shuttingDown = false;
+/** Set while no account exists: the banner prints the setup link. */
+let setupToken: string | null = null;
 
 async function shutdown(reason: string, exitCode = 0): Promise<never> {
   if (shuttingDown) return new Promise<never>(() => {});
@@ -152,6 +156,7 @@ async function prepareDatabase(config: AppConfig): Promise<string> {
       say(`demo data ready (Fernmoor Garden Railway Society${added})`);
       if (issued.length) say(`demo board secrets issued for ${issued.join("; ")} → ${path.join(config.dataDir, "secrets", "nodes")}`);
     }
+    setupToken = await prepareSetupToken({ db, config });
   } finally {
     await db.close();
   }
@@ -227,6 +232,7 @@ async function main(): Promise<void> {
           `  password "${DEMO_PASSWORD}" (demo only: change it, or run with DEMO=off). The fake layout is running trains at Kestrel Bank.`,
         ]
       : []),
+    ...setupBannerLines(url, setupToken, config.dataDir),
     "Blocklight is an operating aid, not a certified interlocking: keep independent protection on passenger-carrying lines.",
     "",
   ];
