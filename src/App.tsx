@@ -62,7 +62,7 @@ export function App() {
           <Route
             path="layouts/:slug/display-links"
             element={
-              <AdminOnly>
+              <AdminOnly action="display-links.manage">
                 <DisplayLinksPage />
               </AdminOnly>
             }
@@ -70,7 +70,7 @@ export function App() {
           <Route
             path="admin/outbox"
             element={
-              <AdminOnly>
+              <AdminOnly action="outbox.read">
                 <OutboxPage />
               </AdminOnly>
             }
@@ -78,7 +78,7 @@ export function App() {
           <Route
             path="admin/members"
             element={
-              <AdminOnly>
+              <AdminOnly action="members.manage">
                 <MembersPage />
               </AdminOnly>
             }

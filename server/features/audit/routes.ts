@@ -2,7 +2,7 @@ import { Router } from "express";
 import { QueryTypes } from "sequelize";
 import type { AuditResponse } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { listAccountAudit } from "./accounts";
 import { findLayout } from "../layouts/service";
 
@@ -23,7 +23,7 @@ export function auditRoutes(deps: AppDeps): Router {
     res.json(body);
   });
   // Account changes: setup, members, invitations, passwords (no layout).
-  router.get("/admin/audit", requireRole("admin"), async (_req, res) => {
+  router.get("/admin/audit", requirePermission("members.manage"), async (_req, res) => {
     res.json(await listAccountAudit(deps));
   });
   return router;

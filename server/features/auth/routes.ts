@@ -5,7 +5,7 @@ import { loginBodySchema, type MeResponse } from "../../../shared/contract/rest"
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { updateOwnAccount, updateOwnPreferences } from "./account";
-import { requireSignedIn } from "./middleware";
+import { allowAnyone, requireSignedIn } from "./middleware";
 import { requestPasswordReset, resetPassword } from "./reset";
 import { SESSION_COOKIE, TIMING_DUMMY_HASH, endSession, setSessionCookie, startSession, toUserDto, verifySecret } from "./service";
 
@@ -25,7 +25,7 @@ export function authRoutes(deps: AppDeps): Router {
   // Per account, not per address: a stolen cookie must not be a way to guess the password.
   const accountLimiter = limiter("password attempts", (req) => `user:${req.user?.id ?? "none"}`);
 
-  router.post("/auth/login", loginLimiter, async (req, res) => {
+  router.post("/auth/login", allowAnyone("signing in"), loginLimiter, async (req, res) => {
     const { email, password } = parseWith(loginBodySchema, req.body);
     const user = await deps.db.models.User.findOne({ where: { email } });
     const ok = await verifySecret(password, user?.passwordHash ?? TIMING_DUMMY_HASH);
@@ -42,13 +42,13 @@ export function authRoutes(deps: AppDeps): Router {
     res.json({ ok: true });
   });
 
-  router.post("/auth/reset", resetLimiter, (req, res) => {
+  router.post("/auth/reset", allowAnyone("asking for a reset mail (202 whoever asks)"), resetLimiter, (req, res) => {
     const { email } = parseWith(resetRequestBodySchema, req.body);
     res.status(202).json({ ok: true });
     requestPasswordReset(deps, email).catch((err: unknown) => deps.logger.warn({ err }, "password reset mail failed"));
   });
 
-  router.post("/auth/reset/:token", resetLimiter, async (req, res) => {
+  router.post("/auth/reset/:token", allowAnyone("the reset token"), resetLimiter, async (req, res) => {
     const { password } = parseWith(resetPasswordBodySchema, req.body);
     await resetPassword(deps, String(req.params.token), password);
     res.json({ ok: true });

@@ -4,7 +4,7 @@ import { updateMemberBodySchema } from "../../../shared/contract/accounts";
 import { acceptInvitationBodySchema, invitationBodySchema } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole } from "../auth/middleware";
+import { allowAnyone, requirePermission } from "../auth/middleware";
 import { acceptInvitation, inviteMember, listMembers, previewInvitation, removeMember, resendInvitation, revokeInvitation, updateMember } from "./service";
 
 const idParamsSchema = z.object({ id: z.coerce.number().int().min(1).max(2_147_483_647) });
@@ -14,41 +14,41 @@ export function memberRoutes(deps: AppDeps): Router {
   const actorOf = (req: { user?: { id: number; name: string } }) => ({ id: req.user!.id, name: req.user!.name });
   const idOf = (params: unknown) => parseWith(idParamsSchema, params, "path").id;
 
-  router.get("/admin/members", requireRole("admin"), async (_req, res) => {
+  router.get("/admin/members", requirePermission("members.manage"), async (_req, res) => {
     res.json(await listMembers(deps));
   });
 
-  router.patch("/admin/members/:id", requireRole("admin"), async (req, res) => {
+  router.patch("/admin/members/:id", requirePermission("members.manage"), async (req, res) => {
     const id = idOf(req.params);
     const body = parseWith(updateMemberBodySchema, req.body);
     res.json({ member: await updateMember(deps, id, body, actorOf(req)) });
   });
 
-  router.delete("/admin/members/:id", requireRole("admin"), async (req, res) => {
+  router.delete("/admin/members/:id", requirePermission("members.manage"), async (req, res) => {
     await removeMember(deps, idOf(req.params), actorOf(req));
     res.status(204).end();
   });
 
-  router.post("/invitations", requireRole("admin"), async (req, res) => {
+  router.post("/invitations", requirePermission("members.manage"), async (req, res) => {
     const body = parseWith(invitationBodySchema, req.body);
     res.status(201).json(await inviteMember(deps, body, actorOf(req)));
   });
 
-  router.post("/admin/invitations/:id/resend", requireRole("admin"), async (req, res) => {
+  router.post("/admin/invitations/:id/resend", requirePermission("members.manage"), async (req, res) => {
     res.json(await resendInvitation(deps, idOf(req.params), actorOf(req)));
   });
 
-  router.delete("/admin/invitations/:id", requireRole("admin"), async (req, res) => {
+  router.delete("/admin/invitations/:id", requirePermission("members.manage"), async (req, res) => {
     await revokeInvitation(deps, idOf(req.params), actorOf(req));
     res.status(204).end();
   });
 
   // The invitee has no account yet: the token is the authority.
-  router.get("/invitations/:token", async (req, res) => {
+  router.get("/invitations/:token", allowAnyone("the invitation token"), async (req, res) => {
     res.json(await previewInvitation(deps, String(req.params.token)));
   });
 
-  router.post("/invitations/:token/accept", async (req, res) => {
+  router.post("/invitations/:token/accept", allowAnyone("the invitation token"), async (req, res) => {
     const body = parseWith(acceptInvitationBodySchema, req.body);
     res.status(201).json(await acceptInvitation(deps, String(req.params.token), body));
   });

@@ -9,8 +9,8 @@ import { SETUP_TOKEN_FILE } from "./token";
 export function setupBannerLines(baseUrl: string, token: string | null, dataDir: string): string[] {
   if (!token) return [];
   return [
-    "No account exists yet. Set up your society (once) by opening:",
-    `  ${setupLink(baseUrl, token)}`,
-    `  (the token is also in ${path.join(dataDir, SETUP_TOKEN_FILE)}; it stops working once setup is done)`,
+    "  no account exists yet: set up your society (once) by opening",
+    `    ${setupLink(baseUrl, token)}`,
+    `    (the token is also in ${path.join(dataDir, SETUP_TOKEN_FILE)}; it stops working once setup is done)`,
   ];
 }

@@ -2,19 +2,20 @@ import { Router } from "express";
 import { setupBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
+import { allowAnyone } from "../auth/middleware";
 import { checkSetupToken, completeSetup, setupDone, setupNeeded } from "./service";
 import { societyName } from "./society";
 
 export function setupRoutes(deps: AppDeps): Router {
   const router = Router();
 
-  router.get("/setup", async (_req, res) => {
+  router.get("/setup", allowAnyone("nothing secret: whether setup is needed"), async (_req, res) => {
     const body: SetupStatus = { needed: await setupNeeded(deps) };
     res.json(body);
   });
 
   // Anyone may try; only the token holder gets past the check, and only once.
-  router.post("/setup", async (req, res) => {
+  router.post("/setup", allowAnyone("the setup token"), async (req, res) => {
     if (!(await setupNeeded(deps))) throw setupDone();
     checkSetupToken(deps, (req.body as { token?: unknown } | undefined)?.token);
     const body = parseWith(setupBodySchema, req.body);
@@ -23,7 +24,7 @@ export function setupRoutes(deps: AppDeps): Router {
   });
 
   // The society's name is on the visitor display too, so it needs no sign-in.
-  router.get("/society", async (_req, res) => {
+  router.get("/society", allowAnyone("nothing secret: the society's name"), async (_req, res) => {
     const body: SocietyResponse = { name: await societyName(deps) };
     res.json(body);
   });

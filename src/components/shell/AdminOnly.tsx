@@ -1,4 +1,5 @@
 import type { ReactNode } from "react";
+import { allows, type Action } from "../../../shared/contract/permissions";
 import { useCurrentUser } from "../../hooks/useCurrentUser";
 import { ROLE_LABELS } from "../../lib/permissions";
 
@@ -6,9 +7,9 @@ import { ROLE_LABELS } from "../../lib/permissions";
  * Admin pages render nothing of themselves for anyone else (not even their queries run):
  * the server refuses them anyway, and a form that cannot be used only confuses.
  */
-export function AdminOnly({ children }: { children: ReactNode }) {
+export function AdminOnly({ action, children }: { action: Action; children: ReactNode }) {
   const user = useCurrentUser();
-  if (user.role === "admin") return <>{children}</>;
+  if (allows(user.role, action)) return <>{children}</>;
   return (
     <section role="alert" className="mx-auto max-w-xl rounded-lg border border-panel-700 bg-panel-900 p-6">
       <h1 className="text-xl font-bold">This page is for admins</h1>
