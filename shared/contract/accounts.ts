@@ -28,6 +28,10 @@ export const setupBodySchema = z.strictObject({
 });
 export type SetupBody = z.infer<typeof setupBodySchema>;
 
+/** `PATCH /api/society` (admin): renaming the society, e.g. after moving from the demo. */
+export const societyBodySchema = z.strictObject({ name: z.string().trim().min(1, "give the society's name").max(120, "use at most 120 characters") });
+export type SocietyBody = z.infer<typeof societyBodySchema>;
+
 /** Reply to `GET /api/society`: the name shown in the header, in mail and on the display. */
 export interface SocietyResponse {
   name: string | null;

@@ -6,6 +6,7 @@ import type {
   ResetRequestBody,
   SetupBody,
   SetupStatus,
+  SocietyBody,
   SocietyResponse,
   UpdateMeBody,
   UpdateMemberBody,
@@ -41,6 +42,17 @@ export function useSociety() {
     queryFn: ({ signal }) => http.get<SocietyResponse>("/api/society", signal),
     select: (body) => body.name,
     staleTime: 5 * 60_000,
+  });
+}
+
+export function useRenameSociety() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: SocietyBody) => http.patch<SocietyResponse>("/api/society", body),
+    onSuccess: async (body) => {
+      queryClient.setQueryData(accountKeys.society, body);
+      await queryClient.invalidateQueries({ queryKey: accountKeys.audit });
+    },
   });
 }
 

@@ -30,7 +30,7 @@ function NameSection() {
     try {
       await update.mutateAsync(body);
       form.reset({ name: body.name, currentPassword: "" });
-      setMessage({ ok: true, text: "Name saved." });
+      setMessage({ ok: true, text: "Name saved. Any other browser signed in to your account has been signed out." });
     } catch (error) {
       const text = applyServerErrors(error, form.setError, ["name", "currentPassword"]);
       if (text) setMessage({ ok: false, text });

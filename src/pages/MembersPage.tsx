@@ -2,10 +2,12 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { ROLES } from "../../shared/contract/rest";
 import { invitationBodySchema, type InvitationBody } from "../../shared/contract/controlRoom";
+import { useSociety } from "../api/accounts";
 import { useInviteMutation, useMembers } from "../api/admin";
 import { AccountAudit } from "../components/members/AccountAudit";
 import { InvitationList } from "../components/members/InvitationList";
 import { MemberTable } from "../components/members/MemberTable";
+import { SocietyName } from "../components/members/SocietyName";
 import { Button } from "../components/ui/Button";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
@@ -18,6 +20,7 @@ export default function MembersPage() {
   const user = useCurrentUser();
   const members = useMembers();
   const invite = useInviteMutation();
+  const society = useSociety();
   const [changeError, setChangeError] = useState<string | null>(null);
   const form = useForm<InvitationBody>({ resolver: zodResolver(invitationBodySchema), defaultValues: { email: "", role: "viewer" } });
 
@@ -75,6 +78,7 @@ export default function MembersPage() {
           </Panel>
         </>
       ) : null}
+      <Panel title="Society">{society.isSuccess ? <SocietyName name={society.data} /> : null}</Panel>
       <Panel title="Account changes">
         <AccountAudit />
       </Panel>

@@ -147,13 +147,15 @@ describe("sessions end when they should", () => {
     expect((await request(t.app).post("/api/auth/login").send({ email: demoEmail("engineer"), password: "a-new-long-password" })).status).toBe(200);
   });
 
-  it("changes one's own name, and alarm mail without a password", async () => {
+  it("changes one's own name (other sessions end too, as for any change made with the password), and alarm mail without a password", async () => {
     const me = await t.signIn("maintainer");
+    const other = await t.signIn("maintainer");
     const nothing = await me.patch("/api/me").send({ currentPassword: DEMO_PASSWORD });
     expect(nothing.status).toBe(400);
     const renamed = await me.patch("/api/me").send({ name: "Wren Maintainer", currentPassword: DEMO_PASSWORD });
     expect(renamed.status).toBe(200);
     expect((await me.get("/api/me")).body.user.name).toBe("Wren Maintainer");
+    expect((await other.get("/api/me")).status).toBe(401);
 
     expect((await me.get("/api/me")).body.user.alarmMail).toBe(true);
     const off = await me.patch("/api/me/preferences").send({ alarmMail: false });

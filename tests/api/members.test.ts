@@ -138,6 +138,15 @@ describe("members and invitations", () => {
     expect(actions).toEqual(["invitation.revoke", "invitation.resend", "invitation.send"]);
   });
 
+  it("renames the society (admins only), and the new name is what everyone reads", async () => {
+    expect((await request(t.app).get("/api/society")).body).toEqual({ name: "Fernmoor Garden Railway Society" });
+    expect((await admin.patch("/api/society").send({ name: "  " })).status).toBe(400);
+    const res = await admin.patch("/api/society").send({ name: "Fernmoor Valley Railway Club" });
+    expect(res.status).toBe(200);
+    expect((await request(t.app).get("/api/society")).body).toEqual({ name: "Fernmoor Valley Railway Club" });
+    expect((await auditActions()).find((e) => e.action === "society.rename")).toMatchObject({ before: { name: "Fernmoor Garden Railway Society" }, after: { name: "Fernmoor Valley Railway Club" } });
+  });
+
   it("an accepted invitation can be neither resent nor revoked", async () => {
     const email = "bank.engineer@fernmoor.example";
     const { id } = (await admin.post("/api/invitations").send({ email, role: "engineer" })).body;

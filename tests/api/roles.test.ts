@@ -100,6 +100,7 @@ const ROUTES: RouteCase[] = [
   { method: "post", path: () => `/api/admin/invitations/${spare.invitationId}/resend`, action: "members.manage" },
   { method: "delete", path: () => `/api/admin/invitations/${spare.revocableId}`, action: "members.manage", okStatus: 204 },
   { method: "get", path: "/api/admin/audit", action: "members.manage" },
+  { method: "patch", path: "/api/society", action: "members.manage", body: () => ({ name: "Fernmoor Garden Railway Society" }) },
 ];
 
 /** Routes for people without an account (yet): every caller gets the same answer. */

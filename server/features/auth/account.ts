@@ -1,6 +1,7 @@
 /**
  * One's own account: name and password (the current password is asked for both) and the
- * choices that need none. A new password ends every other session of the account.
+ * choices that need none. Every change made with the password ends the account's other
+ * sessions (CONTRACT.md §6), so it doubles as "sign out my other browsers".
  */
 import type { PreferencesBody, UpdateMeBody } from "../../../shared/contract/accounts";
 import type { UserDto } from "../../../shared/contract/rest";
@@ -23,12 +24,8 @@ export async function updateOwnAccount(deps: AppDeps, who: { userId: number; ses
     if (passwordHash) user.passwordHash = passwordHash;
     user.updatedAt = new Date();
     await user.save({ transaction });
-    if (passwordHash) sessionsEnded = await endSessionsOf(deps, user.id, { except: who.sessionId, transaction });
-    await auditAccount(
-      deps,
-      { userId: user.id, action: passwordHash ? "account.password" : "account.name", target: user.email, before, after: { name: user.name, ...(passwordHash ? { sessionsEnded } : {}) } },
-      transaction,
-    );
+    sessionsEnded = await endSessionsOf(deps, user.id, { except: who.sessionId, transaction });
+    await auditAccount(deps, { userId: user.id, action: passwordHash ? "account.password" : "account.name", target: user.email, before, after: { name: user.name, sessionsEnded } }, transaction);
   });
   return { user: toUserDto(user), sessionsEnded };
 }

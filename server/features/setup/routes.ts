@@ -1,10 +1,11 @@
 import { Router } from "express";
-import { setupBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
+import { setupBodySchema, societyBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { allowAnyone } from "../auth/middleware";
+import { auditAccount } from "../audit/accounts";
+import { allowAnyone, requirePermission } from "../auth/middleware";
 import { checkSetupToken, completeSetup, setupDone, setupNeeded } from "./service";
-import { societyName } from "./society";
+import { setSocietyName, societyName } from "./society";
 
 export function setupRoutes(deps: AppDeps): Router {
   const router = Router();
@@ -26,6 +27,17 @@ export function setupRoutes(deps: AppDeps): Router {
   // The society's name is on the visitor display too, so it needs no sign-in.
   router.get("/society", allowAnyone("nothing secret: the society's name"), async (_req, res) => {
     const body: SocietyResponse = { name: await societyName(deps) };
+    res.json(body);
+  });
+
+  router.patch("/society", requirePermission("members.manage"), async (req, res) => {
+    const { name } = parseWith(societyBodySchema, req.body);
+    const before = await societyName(deps);
+    await deps.db.sequelize.transaction(async (transaction) => {
+      await setSocietyName(deps, name, transaction);
+      await auditAccount(deps, { userId: req.user!.id, action: "society.rename", target: name, before: { name: before }, after: { name } }, transaction);
+    });
+    const body: SocietyResponse = { name };
     res.json(body);
   });
 

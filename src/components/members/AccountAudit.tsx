@@ -4,6 +4,7 @@ import { LoadError, Loading } from "../ui/Status";
 
 const ACTION_WORDS: Record<string, string> = {
   setup: "set up the society",
+  "society.rename": "renamed the society",
   "invitation.send": "invited",
   "invitation.resend": "sent the invitation again to",
   "invitation.revoke": "revoked the invitation to",
