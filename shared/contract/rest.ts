@@ -136,7 +136,8 @@ export interface PublishResponse {
 export type ProofMoveDto =
   | { type: "arrive"; route: string; axles: number }
   | { type: "pulse"; detector: string; route: string; train: number }
-  | { type: "quiet"; rule: string };
+  | { type: "quiet"; rule: string }
+  | { type: "points"; points: string; lies: "normal" | "reverse" | "moving" };
 
 export interface ProofPropertyDto {
   id: string;

@@ -25,13 +25,31 @@ export const signalSchema = z.strictObject({
   at: metres,
   aspects: z.array(aspectSchema).min(1),
 });
-export const pointsSchema = z.strictObject({ id: idSchema, name: nameText, line: idSchema, at: metres });
+/** How points are moved: by a board on the rulebook's `throw` ("power") or by a person ("hand"). */
+export const POINTS_WORKING = ["power", "hand"] as const;
+export const pointsWorkingSchema = z.enum(POINTS_WORKING);
+export const pointsSchema = z.strictObject({
+  id: idSchema,
+  name: nameText,
+  line: idSchema,
+  at: metres,
+  /** Absent in older `/1` files: such points are hand-worked (CONTRACT.md §3); see {@link pointsWorking}. */
+  worked: pointsWorkingSchema.optional(),
+});
 export const nodeSchema = z.strictObject({
   id: idSchema,
   name: nameText,
   detectors: z.array(idSchema).default([]),
   signals: z.array(idSchema).default([]),
+  /** Points whose position this board reports or which it drives (absent in older `/1` files = none). */
+  points: z.array(idSchema).optional(),
 });
+
+/** How a points is worked, `hand` when the file does not say (CONTRACT.md §3). */
+export function pointsWorking(points: { worked?: PointsWorking }): PointsWorking {
+  return points.worked ?? "hand";
+}
+export type PointsWorking = z.infer<typeof pointsWorkingSchema>;
 
 export const layoutFileSchema = z.strictObject({
   format: z.literal(LAYOUT_FORMAT),
