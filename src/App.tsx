@@ -22,6 +22,8 @@ const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 const SessionsPage = lazy(() => import("./pages/SessionsPage"));
 const ReplayPage = lazy(() => import("./pages/ReplayPage"));
+// Carries the charting library: loaded only when a report is opened.
+const ReportPage = lazy(() => import("./pages/ReportPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -48,6 +50,7 @@ export function App() {
           <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
           <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
           <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
+          <Route path="layouts/:slug/sessions/:id/report" element={<ReportPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />
           <Route path="layouts/:slug/display-links" element={<DisplayLinksPage />} />
           <Route path="admin/outbox" element={<OutboxPage />} />

@@ -59,6 +59,8 @@ export interface SessionInputsResponse {
   /** The engine state just before the session's first event (state carries over between sessions). */
   start: EngineState;
   inputs: EngineInput[];
+  /** The event id of each input (same order): the row of the event log it came from. */
+  eventIds: string[];
   /** Versions published while the session ran: the live state restarted from their initial values. */
   rulebookSwitches: number[];
 }

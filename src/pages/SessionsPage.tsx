@@ -97,6 +97,9 @@ function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
           <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/replay`}>
             Replay this session
           </Link>
+          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/report`}>
+            Report of the day
+          </Link>
         </>
       }
     >

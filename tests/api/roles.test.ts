@@ -81,6 +81,8 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/sessions/1/events?format=csv", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/inputs", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/report", allowed: EVERYONE },
+  { method: "get", path: "/api/sessions/1/report?format=csv&table=trains", allowed: EVERYONE },
   // No file attached: 400 past the role check (uploads themselves: sessions-import.test.ts)
   { method: "post", path: "/api/layouts/kestrel-bank/sessions/import", allowed: ["maintainer", "admin"], okStatus: 400 },
   { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", allowed: EVERYONE },

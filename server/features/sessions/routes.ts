@@ -7,6 +7,8 @@ import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requireRole, requireSignedIn } from "../auth/middleware";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
+import { REPORT_TABLES, reportCsv } from "./reportCsv";
+import { sessionReport } from "./reportService";
 import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
@@ -23,6 +25,8 @@ const pageQuerySchema = z.object({
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),
 });
+
+const reportQuerySchema = z.object({ format: z.enum(["json", "csv"]).default("json"), table: z.enum(REPORT_TABLES).default("routes") });
 
 const importFieldsSchema = z.object({ rulebookVersion: z.union([z.literal(""), z.coerce.number().int().positive()]).optional() });
 
@@ -91,7 +95,21 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.get("/sessions/:id/inputs", requireSignedIn, async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
-    res.json(await sessionInputs(deps, id));
+    const { rulebook: _rulebook, ...inputs } = await sessionInputs(deps, id);
+    res.json(inputs);
+  });
+
+  router.get("/sessions/:id/report", requireSignedIn, async (req, res) => {
+    const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
+    const { format, table } = parseWith(reportQuerySchema, req.query, "query");
+    const report = await sessionReport(deps, id);
+    if (format === "json") {
+      res.json(report);
+      return;
+    }
+    res.setHeader("Content-Type", "text/csv; charset=utf-8");
+    res.setHeader("Content-Disposition", `attachment; filename="session-${id}-${table}.csv"`);
+    res.send(reportCsv(report, table));
   });
 
   return router;

@@ -175,6 +175,11 @@ interface InputRow {
  * to the engine (a pulse at its receipt time, as `LayoutRunner.replayFrom` does too).
  */
 async function* acceptedInputs(deps: AppDeps, where: string, replacements: Record<string, unknown>, after = "0"): AsyncGenerator<EngineInput> {
+  for await (const row of acceptedInputRows(deps, where, replacements, after)) yield row.input;
+}
+
+/** {@link acceptedInputs} with the id of each input's event. */
+async function* acceptedInputRows(deps: AppDeps, where: string, replacements: Record<string, unknown>, after = "0"): AsyncGenerator<{ eventId: string; input: EngineInput }> {
   for (;;) {
     const rows = await deps.db.sequelize.query<InputRow>(
       // `e.id`, not `id`: ORDER BY a bare name would sort the text column ("10" before "9").
@@ -186,7 +191,7 @@ async function* acceptedInputs(deps: AppDeps, where: string, replacements: Recor
     for (const row of rows) {
       const input: EngineInput | null =
         row.kind === "pulse" ? { type: "pulse", detector: row.detector!, at: new Date(row.received_at).getTime() } : row.input;
-      if (input) yield input;
+      if (input) yield { eventId: row.id, input };
     }
     if (rows.length < INPUT_PAGE) return;
     after = rows[rows.length - 1].id;
@@ -200,7 +205,7 @@ async function* acceptedInputs(deps: AppDeps, where: string, replacements: Recor
  * accepted inputs after it; the rulebook's initial values when that snapshot is of another
  * version (the runner restarts from them then too).
  */
-export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<SessionInputsResponse> {
+export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<SessionInputsResponse & { rulebook: Rulebook }> {
   const sessions = await deps.db.sequelize.query<{ layout_id: number; opened_at: Date; rulebook_version: number | null; imported_from: string | null; first_id: string | null }>(
     `SELECT s.layout_id, s.opened_at, s.rulebook_version, s.imported_from, (SELECT min(id)::text FROM events e WHERE e.session_id = s.id) AS first_id
        FROM sessions s WHERE s.id = :sessionId`,
@@ -211,7 +216,11 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   const layoutId = session.layout_id;
   const version = session.rulebook_version;
   const inputs: EngineInput[] = [];
-  for await (const input of acceptedInputs(deps, "e.session_id = :sessionId", { sessionId })) inputs.push(input);
+  const eventIds: string[] = [];
+  for await (const row of acceptedInputRows(deps, "e.session_id = :sessionId", { sessionId })) {
+    inputs.push(row.input);
+    eventIds.push(row.eventId);
+  }
 
   const rulebooks = await deps.db.sequelize.query<{ rulebook: Rulebook }>(
     `SELECT rulebook FROM rulebook_versions WHERE layout_id = :layoutId AND version = :version`,
@@ -221,7 +230,7 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   if (!rulebook) throw notFound(`rulebook version ${version} of session ${sessionId}`);
   // An uploaded log carries no state from before it: it replays from the rulebook's initial values.
   if (session.imported_from !== null) {
-    return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, rulebookSwitches: [] };
+    return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, eventIds, rulebookSwitches: [], rulebook };
   }
   const firstId = session.first_id ?? NO_ID_LIMIT;
   const snapshots = await deps.db.sequelize.query<{ rulebook_version: number; last_event_id: string; state: { engine: EngineState } }>(
@@ -247,7 +256,7 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
       ORDER BY rulebook_version`,
     { replacements: { layoutId, version: version ?? 0, firstId, sessionId }, type: QueryTypes.SELECT },
   );
-  return { sessionId, rulebookVersion: version, start, inputs, rulebookSwitches: switches.map((s) => s.rulebook_version) };
+  return { sessionId, rulebookVersion: version, start, inputs, eventIds, rulebookSwitches: switches.map((s) => s.rulebook_version), rulebook };
 }
 
 export const CSV_COLUMNS = ["id", "receivedAt", "kind", "status", "reason", "node", "boot", "seq", "detector", "boardT", "topic", "user", "input", "changes"] as const;

@@ -44,6 +44,9 @@ export function SessionTable({ slug, sessions, chosen, onChoose }: SessionTableP
             <Link to={`/layouts/${slug}/sessions/${id}/replay`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
               Replay
             </Link>
+            <Link to={`/layouts/${slug}/sessions/${id}/report`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
+              Report
+            </Link>
           </span>
         );
       },
