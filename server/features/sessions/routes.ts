@@ -24,6 +24,8 @@ const pageQuerySchema = z.object({
   detector: idText.optional(),
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),
+  /** The last N matching events instead of a page from `after` (the live ticker's history on load). */
+  tail: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).optional(),
 });
 
 const reportQuerySchema = z.object({ format: z.enum(["json", "csv"]).default("json"), table: z.enum(REPORT_TABLES).default("routes") });

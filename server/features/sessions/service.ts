@@ -129,7 +129,7 @@ const likePattern = (text: string) => `%${text.replace(/[\\%_]/g, (c) => `\\${c}
 export async function sessionEventPage(
   deps: AppDeps,
   sessionId: number,
-  options: SessionEventFilter & { after: string; limit: number },
+  options: SessionEventFilter & { after: string; limit: number; tail?: number },
 ): Promise<SessionEventPage> {
   const where = ["e.session_id = :sessionId"];
   const replacements: Record<string, unknown> = { sessionId, after: options.after, limit: options.limit + 1 };
@@ -143,6 +143,16 @@ export async function sessionEventPage(
     replacements.q = likePattern(options.q);
   }
   const filter = where.join(" AND ");
+  if (options.tail !== undefined) {
+    const [newest, total] = await Promise.all([
+      deps.db.sequelize.query<EventRow>(
+        `SELECT ${EVENT_COLUMNS} FROM events e LEFT JOIN users u ON u.id = e.user_id WHERE ${filter} ORDER BY e.id DESC LIMIT :tail`,
+        { replacements: { ...replacements, tail: options.tail }, type: QueryTypes.SELECT },
+      ),
+      deps.db.sequelize.query<{ n: number }>(`SELECT count(*)::int AS n FROM events e WHERE ${filter}`, { replacements, type: QueryTypes.SELECT }),
+    ]);
+    return { events: await withChanges(deps, newest.reverse()), total: total[0].n, next: null };
+  }
   const [rows, counted] = await Promise.all([
     deps.db.sequelize.query<EventRow>(
       `SELECT ${EVENT_COLUMNS}
