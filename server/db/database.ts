@@ -8,6 +8,7 @@ import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
 import * as importedSessions from "./migrations/003-imported-sessions";
 import * as groupedAlarms from "./migrations/009-grouped-alarms";
+import * as alarmSettings from "./migrations/010-alarm-settings";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -21,6 +22,7 @@ const MIGRATIONS = [
   { name: "002-live", ...live },
   { name: "003-imported-sessions", ...importedSessions },
   { name: "009-grouped-alarms", ...groupedAlarms },
+  { name: "010-alarm-settings", ...alarmSettings },
 ];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {

@@ -56,11 +56,20 @@ export class AuditEntry extends Model<InferAttributes<AuditEntry>, InferCreation
   declare at: CreationOptional<Date>;
 }
 
+/** Alarm settings a layout's engineer changed (see migration 010); absent keys take the defaults. */
+export class AlarmSettingsRecord extends Model<InferAttributes<AlarmSettingsRecord>, InferCreationAttributes<AlarmSettingsRecord>> {
+  declare layoutId: number;
+  declare settings: Record<string, number>;
+  declare updatedBy: number | null;
+  declare updatedAt: CreationOptional<Date>;
+}
+
 export interface Models {
   User: typeof User;
   Layout: typeof Layout;
   RulebookVersion: typeof RulebookVersion;
   AuditEntry: typeof AuditEntry;
+  AlarmSettingsRecord: typeof AlarmSettingsRecord;
 }
 
 export function defineModels(sequelize: Sequelize): Models {
@@ -121,5 +130,14 @@ export function defineModels(sequelize: Sequelize): Models {
     },
     { sequelize, tableName: "audit_entries" },
   );
-  return { User, Layout, RulebookVersion, AuditEntry };
+  AlarmSettingsRecord.init(
+    {
+      layoutId: { type: DataTypes.INTEGER, primaryKey: true },
+      settings: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+      updatedBy: { type: DataTypes.INTEGER },
+      updatedAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
+    },
+    { sequelize, tableName: "alarm_settings" },
+  );
+  return { User, Layout, RulebookVersion, AuditEntry, AlarmSettingsRecord };
 }

@@ -10,7 +10,7 @@ import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
 
-type Method = "get" | "post" | "delete";
+type Method = "get" | "post" | "put" | "delete";
 interface RouteCase {
   method: Method;
   path: string;
@@ -82,6 +82,8 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/inputs", allowed: EVERYONE },
   { method: "get", path: "/api/sessions/1/report", allowed: EVERYONE },
+  { method: "get", path: "/api/layouts/kestrel-bank/alarm-settings", allowed: EVERYONE },
+  { method: "put", path: "/api/layouts/kestrel-bank/alarm-settings", allowed: ["engineer", "admin"], body: () => ({ stuckAfterMs: 300_000 }) },
   { method: "get", path: "/api/sessions/1/report?format=csv&table=trains", allowed: EVERYONE },
   // No file attached: 400 past the role check (uploads themselves: sessions-import.test.ts)
   { method: "post", path: "/api/layouts/kestrel-bank/sessions/import", allowed: ["maintainer", "admin"], okStatus: 400 },

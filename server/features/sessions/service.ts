@@ -15,10 +15,12 @@ export const EXPORT_PAGE_EVENTS = 1000;
 export type SessionSummary = SessionSummaryDto;
 
 export async function listSessions(deps: AppDeps, layoutId: number, limit = 200): Promise<SessionSummary[]> {
-  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; imported_from: string | null; event_count: number }>(
-    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason, s.imported_from,
+  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; imported_from: string | null; event_count: number; opened_by: string | null; closed_by: string | null; note: string | null }>(
+    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason, s.imported_from, s.note,
+            o.name AS opened_by, c.name AS closed_by,
             (SELECT count(*) FROM events e WHERE e.session_id = s.id)::int AS event_count
-       FROM sessions s WHERE s.layout_id = :layoutId ORDER BY s.opened_at DESC, s.id DESC LIMIT :limit`,
+       FROM sessions s LEFT JOIN users o ON o.id = s.opened_by LEFT JOIN users c ON c.id = s.closed_by
+      WHERE s.layout_id = :layoutId ORDER BY s.opened_at DESC, s.id DESC LIMIT :limit`,
     { replacements: { layoutId, limit }, type: QueryTypes.SELECT },
   );
   return rows.map((r) => ({
@@ -29,7 +31,22 @@ export async function listSessions(deps: AppDeps, layoutId: number, limit = 200)
     closeReason: r.close_reason,
     importedFrom: r.imported_from,
     eventCount: r.event_count,
+    openedBy: r.opened_by,
+    closedBy: r.closed_by,
+    note: r.note,
   }));
+}
+
+/** After the live page opened or closed a session: who closed it, and the signaller's note (appended, one per line). */
+export async function recordSessionControl(deps: AppDeps, sessionId: number | undefined, action: "open" | "close", userId: number, note: string | null): Promise<void> {
+  if (!sessionId) return;
+  const line = note ? `${action === "open" ? "Opened" : "Closed"}: ${note}` : null;
+  await deps.db.sequelize.query(
+    `UPDATE sessions SET closed_by = CASE WHEN :close THEN :userId ELSE closed_by END,
+            note = CASE WHEN CAST(:line AS text) IS NULL THEN note WHEN note IS NULL THEN :line ELSE note || E'\n' || :line END
+      WHERE id = :sessionId`,
+    { replacements: { close: action === "close", userId, line, sessionId } },
+  );
 }
 
 export async function findSession(deps: AppDeps, id: number): Promise<{ id: number; layoutId: number }> {
