@@ -12,6 +12,8 @@ import { LayoutStatusBadge } from "../components/live/LayoutStatusBadge";
 import { EventTicker } from "../components/live/EventTicker";
 import { NodeStrip } from "../components/live/NodeStrip";
 import { StatePanel } from "../components/live/StatePanel";
+import { SessionControl } from "../components/live/SessionControl";
+import { WhyAtDanger } from "../components/live/WhyAtDanger";
 import { Mimic } from "../components/mimic/Mimic";
 import { MimicLegend } from "../components/mimic/MimicLegend";
 import { Button } from "../components/ui/Button";
@@ -115,6 +117,14 @@ export default function LivePage() {
 
       <Mimic title={mimicLayout.name} layout={mimicLayout} state={mimicState} routes={routes} pulses={pulses} className="border border-panel-700 [contain:layout_paint] will-change-transform" />
       <MimicLegend className="text-sm text-ink-soft" />
+
+      <Panel title="Why at danger">
+        <WhyAtDanger rulebook={rulebook.data?.rulebook} state={panelState ?? state} signals={mimicLayout.signals} onCommand={canControl ? onCommand : undefined} />
+      </Panel>
+
+      <Panel title="Running day">
+        <SessionControl slug={slug} session={state.session} canControl={canControl} />
+      </Panel>
 
       <Panel title="Nodes">
         <NodeStrip nodes={mimicLayout.nodes} live={state.nodes} now={now} />

@@ -1,6 +1,6 @@
 import { Link } from "react-router-dom";
 import type { SessionSummaryDto } from "../../../shared/contract/sessions";
-import { formatDateTime } from "../../lib/format";
+import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { columnsFor, DataTable } from "../ui/DataTable";
 
 interface SessionTableProps {
@@ -24,6 +24,15 @@ export function SessionTable({ slug, sessions, chosen, onChoose }: SessionTableP
         return closed ? `${formatDateTime(closed)}${info.row.original.closeReason ? ` (${info.row.original.closeReason})` : ""}` : <span className="text-notice-ok">running</span>;
       },
     }),
+    col.display({
+      id: "who",
+      header: "Started / ended by",
+      cell: (info) => {
+        const s = info.row.original;
+        return s.importedFrom ? `imported (${s.importedFrom})` : `${s.openedBy ?? "the layout"} / ${s.closedAt ? (s.closedBy ?? "the layout") : "—"}`;
+      },
+    }),
+    col.accessor("note", { header: "Note", cell: (info) => <span className="whitespace-pre-line">{info.getValue() ?? ""}</span> }),
     col.accessor("rulebookVersion", { header: "Rulebook", cell: (info) => (info.getValue() === null ? "—" : `v${info.getValue()}`) }),
     col.accessor("eventCount", { header: "Events", cell: (info) => info.getValue().toLocaleString("en-GB") }),
     col.display({
