@@ -41,7 +41,7 @@ export default function ReplayPage() {
   const sim = useSimulation();
   const { reset, goto } = sim;
   const rulebook = recordedRulebook.data?.rulebook;
-  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs) : null), [rulebook, session.data]);
+  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs, session.data.eventIds) : null), [rulebook, session.data]);
   // `?step=N` (e.g. from a priority check in the report) opens the replay at that moment.
   const [openingStep] = useState(() => Math.max(0, Math.floor(Number(search.get("step")) || 0)));
   useEffect(() => {

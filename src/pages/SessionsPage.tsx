@@ -80,7 +80,6 @@ function EventLog({ slug, session, detectors, nodes, fromEvent }: EventLogProps)
   const [cursors, setCursors] = useState<string[]>(() => (fromEvent && /^\d{1,18}$/.test(fromEvent) && Number(fromEvent) > 1 ? ["0", String(Number(fromEvent) - 1)] : ["0"]));
   const after = cursors[cursors.length - 1];
   const page = useSessionEvents(session, filter, after, PAGE_EVENTS);
-  const first = (cursors.length - 1) * PAGE_EVENTS;
 
   const changeFilter = (next: SessionEventFilter) => {
     setFilter(next);
@@ -116,7 +115,7 @@ function EventLog({ slug, session, detectors, nodes, fromEvent }: EventLogProps)
               <p role="status" className="text-ink-soft">
                 {page.data.total === 0
                   ? "No events match."
-                  : `Events ${(first + 1).toLocaleString("en-GB")}–${(first + page.data.events.length).toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")}`}
+                  : `Events #${page.data.events[0]?.id ?? "?"}–#${page.data.events.at(-1)?.id ?? "?"} (${page.data.events.length.toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")} matching)`}
                 {page.isFetching ? " (loading…)" : ""}
               </p>
               <div className="flex gap-2">
