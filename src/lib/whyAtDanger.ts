@@ -15,6 +15,8 @@ export interface LiveFacts {
   shown: Record<string, string>;
   held: string[];
   faulted: null | { reason: string };
+  /** Where each points lie as last reported, when the live state carries it. */
+  points?: Record<string, string>;
 }
 
 /** One failing part of a condition, and the command that would make it hold (if any). */
@@ -62,6 +64,11 @@ function blockersOf(c: Condition, facts: LiveFacts, negated = false): Blocker[] 
     if ((v === c.is) !== negated) return [];
     return [{ text: `needs selector ${c.selector} ${negated ? "not " : ""}${c.is}, but it is ${v ?? "unset"}` }];
   }
+  if ("points" in c) {
+    const lies = facts.points?.[c.points] ?? "unknown";
+    if ((lies === c.lies) !== negated) return [];
+    return [{ text: `needs points ${c.points} ${negated ? "not " : ""}lying ${c.lies}, but they lie ${lies}` }];
+  }
   const a = facts.shown[c.aspect] ?? "danger";
   if ((a === c.is) !== negated) return [];
   return [{ text: `needs ${c.aspect} ${negated ? "not " : ""}at ${c.is}, but it is at ${a}` }];
@@ -71,6 +78,7 @@ function triggerWords(rule: Rule): string {
   if (rule.on === "standing") return "as soon as its condition holds";
   if ("pass" in rule.on) return `on the next pulse at ${rule.on.pass}`;
   if ("quiet" in rule.on) return `when ${rule.on.quiet} has been quiet ${rule.on.ms / 1000} s`;
+  if ("moved" in rule.on) return `when points ${rule.on.moved} are reported moved`;
   return "on its trigger";
 }
 

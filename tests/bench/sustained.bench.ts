@@ -191,7 +191,11 @@ export async function run(report: Report): Promise<void> {
     const nodeOfDetector = new Map<string, number>();
     const mqttUrl = `mqtt://127.0.0.1:${mqttPort}`;
     const toAspect: number[] = [];
-    const pendingBySignal = new Map<string, number[]>();
+    /** Server's publish stamp → board receipt: the broker hop of the aspect command alone. */
+    const aspectHop: number[] = [];
+    /** Per signal, toggle pulses not yet seen at the board, with the aspect each leads to. */
+    const pendingBySignal = new Map<string, { at: number; aspect: "clear" | "danger" }[]>();
+    const togglesOf = new Map<string, number>();
     const boards: BenchBoard[] = [];
     for (let k = 0; k < BOARDS; k++) {
       const detectors = detectorIds.filter((_, i) => i % BOARDS === k);
@@ -201,10 +205,17 @@ export async function run(report: Report): Promise<void> {
       const node = `soak-board-${k}`;
       const res = await api(base, "POST", `/api/layouts/${SLUG}/nodes`, { id: node, name: `Soak board ${k}`, detectors, signals }, engineer);
       if (res.status !== 201) throw new Error(`registering ${node} failed: ${res.status}`);
-      const onAspect = (signal: string, at: number) => {
-        // Board 0 sees every aspect of the layout (signal/#): it times them all.
-        const started = pendingBySignal.get(signal)?.shift();
-        if (started !== undefined) toAspect.push(at - started);
+      const onAspect = (signal: string, aspect: string, at: number, publishedAt: number) => {
+        if (pendingBySignal.size > 0) aspectHop.push(performance.timeOrigin + at - publishedAt);
+        // Board 0 sees every aspect of the layout (signal/#): it times them all. Two toggles
+        // committed together publish nothing (the aspect did not change), so match the
+        // oldest pending toggle that leads to this aspect and drop the ones before it.
+        const pending = pendingBySignal.get(signal);
+        if (!pending) return;
+        const i = pending.findIndex((p) => p.aspect === aspect);
+        if (i === -1) return;
+        toAspect.push(at - pending[i].at);
+        pending.splice(0, i + 1);
       };
       boards.push(await BenchBoard.connect({ url: mqttUrl, layout: SLUG, node, secret: (res.body as { secret: string }).secret, boot: `soak${k}${Date.now().toString(36)}`, ...(k === 0 ? { onAspect } : {}) }));
     }
@@ -261,6 +272,7 @@ export async function run(report: Report): Promise<void> {
     let lastSentAt = 0;
     for (const rate of RATES) {
       toAspect.length = 0;
+      aspectHop.length = 0;
       toSocket.length = 0;
       sentAt.clear();
       pendingBySignal.clear();
@@ -289,12 +301,14 @@ export async function run(report: Report): Promise<void> {
           }
           const k = nodeOfDetector.get(detector)!;
           const at = performance.now();
-          const seq = boards[k].pulse(detector);
+          const seq = boards[k].pulse(detector, detector === CHATTER_DETECTOR ? at : begin + (sent * 1000) / rate);
           sentAt.set(`soak-board-${k}:${seq}`, at);
           const signal = signalOf.get(detector);
           if (signal) {
+            const n = (togglesOf.get(signal) ?? 0) + 1;
+            togglesOf.set(signal, n);
             const list = pendingBySignal.get(signal) ?? [];
-            list.push(at);
+            list.push({ at, aspect: n % 2 === 1 ? "clear" : "danger" });
             pendingBySignal.set(signal, list);
           }
         }
@@ -317,6 +331,9 @@ export async function run(report: Report): Promise<void> {
       report(`sustained.${rate}.aspect_p99_ms`, pct(a, 99), "ms");
       report(`sustained.${rate}.aspect_max_ms`, a.length ? a[a.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.aspect_samples`, a.length, "count");
+      const hop = sorted(aspectHop);
+      report(`sustained.${rate}.aspect_server_to_board_p50_ms`, pct(hop, 50), "ms");
+      report(`sustained.${rate}.aspect_server_to_board_p99_ms`, pct(hop, 99), "ms");
       report(`sustained.${rate}.socket_p50_ms`, pct(s, 50), "ms");
       report(`sustained.${rate}.socket_p99_ms`, pct(s, 99), "ms");
       report(`sustained.${rate}.socket_max_ms`, s.length ? s[s.length - 1] : Number.NaN, "ms");

@@ -21,7 +21,8 @@ export interface BenchBoardOptions {
   node: string;
   secret: string;
   boot: string;
-  onAspect?: (signal: string, receivedAt: number) => void;
+  /** `publishedAt`: the server's stamp (`at`, wall clock) on the command. */
+  onAspect?: (signal: string, aspect: string, receivedAt: number, publishedAt: number) => void;
 }
 
 export class BenchBoard {
@@ -82,9 +83,9 @@ export class BenchBoard {
         this.serverOffline = !status.online;
         if (this.serverOffline) this.faultRev = this.newestRev;
       } else if (topic.includes("/signal/")) {
-        const aspect = JSON.parse(payload.toString()) as { rev: number };
+        const aspect = JSON.parse(payload.toString()) as { rev: number; aspect: string; at: string };
         this.newestRev = Math.max(this.newestRev, aspect.rev);
-        options.onAspect?.(topic.split("/")[4], now);
+        options.onAspect?.(topic.split("/")[4], aspect.aspect, now, Date.parse(aspect.at));
       }
     });
   }
@@ -102,10 +103,14 @@ export class BenchBoard {
     return board;
   }
 
-  /** Publishes one pulse with the board's clock; returns its seq. */
-  pulse(detector: string): number {
+  /**
+   * Publishes one pulse stamped with the board's clock at `happenedAt` (performance.now()
+   * time when the axle crossed: the load's schedule, so a late publish is not a shorter gap);
+   * returns its seq.
+   */
+  pulse(detector: string, happenedAt = performance.now()): number {
     const seq = ++this.seq;
-    const t = Math.round(performance.now() - this.bootStartedAt);
+    const t = Math.max(0, Math.round(happenedAt - this.bootStartedAt));
     const payload = `{"detector":"${detector}","seq":${seq},"boot":"${this.boot}","t":${t}}`;
     this.uncovered.set(seq, payload);
     if (this.uncovered.size > BUFFER_MAX) {

@@ -2,7 +2,7 @@ import { Router } from "express";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
 import { alarmSettingsPatchSchema } from "../../../shared/contract/alarmSettings";
 import { acknowledgeAlarm, listAlarms } from "./service";
@@ -20,7 +20,7 @@ export function alarmRoutes(deps: AppDeps): Router {
     res.json({ alarms: await listAlarms(deps, layout.id, state) });
   });
 
-  router.post("/alarms/:id/acknowledge", requireRole("signaller", "maintainer", "admin"), async (req, res) => {
+  router.post("/alarms/:id/acknowledge", requirePermission("alarms.acknowledge"), async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "alarm id");
     const { comment } = parseWith(acknowledgeBodySchema, req.body ?? {});
     res.json({ alarm: await acknowledgeAlarm(deps, id, req.user!.id, comment || null) });
@@ -31,7 +31,7 @@ export function alarmRoutes(deps: AppDeps): Router {
     res.json(await describeAlarmSettings(deps, layout.id));
   });
 
-  router.put("/layouts/:slug/alarm-settings", requireRole("engineer", "admin"), async (req, res) => {
+  router.put("/layouts/:slug/alarm-settings", requirePermission("alarm-settings.edit"), async (req, res) => {
     const patch = parseWith(alarmSettingsPatchSchema, req.body ?? {});
     const layout = await findLayout(deps, String(req.params.slug));
     res.json(await updateAlarmSettings(deps, layout, patch, req.user!));
