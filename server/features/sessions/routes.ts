@@ -5,11 +5,12 @@ import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
+import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
 import { REPORT_TABLES, reportCsv } from "./reportCsv";
 import { sessionReport } from "./reportService";
-import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
+import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
 
@@ -83,12 +84,12 @@ export function sessionRoutes(deps: AppDeps): Router {
     res.status(200);
     res.setHeader("Content-Type", format === "csv" ? "text/csv; charset=utf-8" : "application/x-ndjson; charset=utf-8");
     res.setHeader("Content-Disposition", `attachment; filename="session-${id}.${format}"`);
-    if (format === "csv") res.write(CSV_COLUMNS.join(",") + "\r\n");
+    if (format === "csv") res.write(EVENT_CSV_HEADER);
     let aborted = false;
     res.on("close", () => (aborted = !res.writableFinished));
     for await (const page of sessionEvents(deps, id)) {
       if (aborted) return;
-      const chunk = page.map((event) => (format === "csv" ? csvRow(event) : JSON.stringify(event) + "\n")).join("");
+      const chunk = page.map((event) => (format === "csv" ? eventCsvRow(event) : JSON.stringify(event) + "\n")).join("");
       // Respect backpressure: a slow reader holds the next page back, memory stays flat.
       if (!res.write(chunk)) await Promise.race([once(res, "drain"), once(res, "close")]);
     }

@@ -285,15 +285,3 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   );
   return { sessionId, rulebookVersion: version, start, inputs, eventIds, rulebookSwitches: switches.map((s) => s.rulebook_version), rulebook };
 }
-
-export const CSV_COLUMNS = ["id", "receivedAt", "kind", "status", "reason", "node", "boot", "seq", "detector", "boardT", "topic", "user", "input", "changes"] as const;
-
-function csvCell(value: unknown): string {
-  if (value === null || value === undefined) return "";
-  const text = typeof value === "string" ? value : typeof value === "number" ? String(value) : JSON.stringify(value);
-  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
-
-export function csvRow(event: ExportedEvent): string {
-  return CSV_COLUMNS.map((column) => csvCell(event[column])).join(",") + "\r\n";
-}
