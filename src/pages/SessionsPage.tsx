@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { SessionEventFilter } from "../../shared/contract/sessions";
+import type { SessionEventFilter, SessionSummaryDto } from "../../shared/contract/sessions";
 import { useLayout } from "../api/layouts";
 import { sessionExportUrl, useSessionEvents, useSessions } from "../api/sessions";
 import { EventLogFilters } from "../components/sessions/EventLogFilters";
@@ -57,6 +57,7 @@ export default function SessionsPage() {
           fromEvent={search.get("event") ?? undefined}
           slug={slug}
           session={chosen}
+          summary={sessions.data.find((s) => s.id === chosen)}
           detectors={layout.data.detectors.map((d) => d.id)}
           nodes={layout.data.nodes.map((n) => n.id)}
         />
@@ -70,12 +71,14 @@ interface EventLogProps {
   /** Open the log at this event (an alarm's link). */
   fromEvent?: string;
   session: number;
+  /** The session's row in the list (absent when the link names one beyond its first 200). */
+  summary?: SessionSummaryDto;
   detectors: string[];
   nodes: string[];
 }
 
 /** One session's log, a keyset page at a time; the cursors of earlier pages are kept for "Previous". */
-function EventLog({ slug, session, detectors, nodes, fromEvent }: EventLogProps) {
+function EventLog({ slug, session, summary, detectors, nodes, fromEvent }: EventLogProps) {
   const [filter, setFilter] = useState<SessionEventFilter>({});
   const [cursors, setCursors] = useState<string[]>(() => (fromEvent && /^\d{1,18}$/.test(fromEvent) && Number(fromEvent) > 1 ? ["0", String(Number(fromEvent) - 1)] : ["0"]));
   const after = cursors[cursors.length - 1];
@@ -107,6 +110,12 @@ function EventLog({ slug, session, detectors, nodes, fromEvent }: EventLogProps)
       }
     >
       <div className="space-y-4">
+        {summary?.importedFrom ? (
+          <p role="note" className="rounded-md border border-panel-600 p-3 text-sm text-ink-soft">
+            Imported from {summary.importedFrom}. The file brings the inputs only; the changes listed here are its pulses, ticks and commands replayed through
+            rulebook v{summary.rulebookVersion ?? "?"} from its initial values, on the same engine as the live control room.
+          </p>
+        ) : null}
         <EventLogFilters filter={filter} detectors={detectors} nodes={nodes} onChange={changeFilter} />
         {page.isError ? <LoadError error={page.error} what="the event log" /> : null}
         {page.data ? (

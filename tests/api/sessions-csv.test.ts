@@ -160,8 +160,46 @@ describe("sessions: the event log's flat CSV, exported and imported", () => {
     const [before, after] = [await inputs(original), await inputs(created.sessionId)];
     expect(after.inputs).toEqual(before.inputs);
     expect(after.inputs.map((i) => i.type)).toEqual(expect.arrayContaining(["pulse", "tick", "command"]));
-    const strip = (events: Record<string, unknown>[]) => events.map(({ changes: _changes, ...rest }) => rest);
-    expect(strip(await jsonl(created.sessionId))).toEqual(strip(await jsonl(original)));
+    // The same rows, and the same changes: the import's are the engine's replay of its inputs.
+    const rows = await jsonl(created.sessionId);
+    expect(rows).toEqual(await jsonl(original));
+    expect(rows.filter((r) => r.changes.length > 0).map((r) => r.kind)).toEqual(expect.arrayContaining(["pulse", "tick", "command"]));
+  });
+
+  it("shows an imported session's changes, replayed, on the event log page and in the CSV", async () => {
+    const created = (await upload("siding-again.csv", await exported(original, "csv"))).body as SessionImportResponse;
+    const page = await maintainer.get(`/api/sessions/${created.sessionId}/events?format=json&kind=tick`);
+    expect(page.status).toBe(200);
+    expect(page.body.events[0].changes).toEqual(
+      expect.arrayContaining([
+        { kind: "counter", name: "axles", from: 2, to: 0, rule: "gone-quiet" },
+        { kind: "shown", name: "S1", from: "clear", to: "danger", rule: "gone-quiet" },
+      ]),
+    );
+    const hold = csvTable(await exported(created.sessionId, "csv")).find((r) => r.command === "hold")!;
+    expect(hold.changes).toContain("held S1");
+  });
+
+  it("replays a session imported before replays were stored, once, when its log is first read", async () => {
+    const created = (await upload("siding-older.csv", await exported(original, "csv"))).body as SessionImportResponse;
+    const changed = () =>
+      t.deps.db.sequelize.query<{ n: number }>(`SELECT count(*)::int AS n FROM changes c JOIN events e ON e.id = c.event_id WHERE e.session_id = :id`, {
+        type: QueryTypes.SELECT,
+        replacements: { id: created.sessionId },
+      });
+    const [{ n: replayed }] = await changed();
+    expect(replayed).toBeGreaterThan(0);
+    // As an import made before this release left it: inputs only, not marked replayed.
+    await t.deps.db.sequelize.query(`DELETE FROM changes c USING events e WHERE e.id = c.event_id AND e.session_id = :id`, { replacements: { id: created.sessionId } });
+    await t.deps.db.sequelize.query(`UPDATE sessions SET changes_replayed_at = NULL WHERE id = :id`, { replacements: { id: created.sessionId } });
+    expect((await changed())[0].n).toBe(0);
+    const [first, second] = await Promise.all([
+      maintainer.get(`/api/sessions/${created.sessionId}/events?format=json`),
+      maintainer.get(`/api/sessions/${created.sessionId}/events?format=json`),
+    ]);
+    expect([first.status, second.status]).toEqual([200, 200]);
+    expect((await changed())[0].n).toBe(replayed);
+    expect(first.body.events.some((e: { changes: unknown[] }) => e.changes.length > 0)).toBe(true);
   });
 
   it("still imports a CSV of the earlier export, with JSON in its input and changes cells", async () => {
@@ -185,6 +223,13 @@ describe("sessions: the event log's flat CSV, exported and imported", () => {
     const rows = await jsonl((res.body as SessionImportResponse).sessionId);
     expect(rows[0]).toMatchObject({ kind: "status", boot, input: { online: true, boot, fw: "1.3.9" } });
     expect(rows[1]).toMatchObject({ kind: "pulse", seq: 1, boardT: 5120 });
+    // The file's changes cell is not trusted: the replay's are stored.
+    expect(rows[1].changes).toEqual([
+      { kind: "counter", name: "axles", from: 0, to: 1, rule: "approach" },
+      { kind: "wanted", name: "S1", from: "danger", to: "clear", rule: "approach" },
+      { kind: "shown", name: "S1", from: "danger", to: "clear", rule: "approach" },
+      { kind: "quiet", name: "gone-quiet", from: null, to: Date.parse("2026-05-02T10:15:04.300Z"), rule: "gone-quiet" },
+    ]);
   });
 
   it("refuses a flat CSV with bad cells, naming line and column, and stores nothing", async () => {

@@ -2,13 +2,15 @@
  * Importing an event log (PRODUCT.md feature 8): a file in the export's own format (JSONL or
  * CSV, `GET /api/sessions/:id/events`) becomes a new, closed session marked as imported.
  * Every line is checked before anything is stored, and every problem is reported with its
- * line. The changes of the original are not imported: the replay recomputes them with the
- * engine. Imported events never pass through the live runner (see docs/live-pipeline.md).
+ * line. The changes of the original are not imported: they are recomputed by replaying the
+ * inputs through the engine (./importReplay.ts) and stored in the same transaction. Imported
+ * events never pass through the live runner (see docs/live-pipeline.md).
  */
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError } from "../../http/errors";
+import { storeImportedChanges } from "./importReplay";
 import { csvLayout, csvRecords, flatRecord, jsonCellRecord } from "./eventCsv";
 
 /** Largest upload accepted; a busy day's log is a few MB. */
@@ -220,6 +222,7 @@ export async function importSession(deps: AppDeps, events: ImportedEvent[], opti
         },
       );
     }
+    await storeImportedChanges(deps, session.id, transaction);
     await sequelize.query(
       `INSERT INTO audit_entries (layout_id, user_id, action, target, reason, after)
        VALUES (:layoutId, :userId, 'session-imported', :target, :reason, :after)`,

@@ -6,6 +6,7 @@ import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
+import { ensureImportReplayed } from "./importReplay";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
 import { REPORT_TABLES, reportCsv } from "./reportCsv";
@@ -76,11 +77,13 @@ export function sessionRoutes(deps: AppDeps): Router {
     if (req.query.format === "json") {
       const { format: _json, ...options } = parseWith(pageQuerySchema, req.query, "query");
       await findSession(deps, id);
+      await ensureImportReplayed(deps, id);
       res.json(await sessionEventPage(deps, id, options));
       return;
     }
     const { format } = parseWith(exportQuerySchema, req.query, "query");
     await findSession(deps, id);
+    await ensureImportReplayed(deps, id);
     res.status(200);
     res.setHeader("Content-Type", format === "csv" ? "text/csv; charset=utf-8" : "application/x-ndjson; charset=utf-8");
     res.setHeader("Content-Disposition", `attachment; filename="session-${id}.${format}"`);
