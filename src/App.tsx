@@ -22,6 +22,8 @@ const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 const SessionsPage = lazy(() => import("./pages/SessionsPage"));
 const ReplayPage = lazy(() => import("./pages/ReplayPage"));
+const LayoutEditPage = lazy(() => import("./pages/LayoutEditPage"));
+const JunctionPage = lazy(() => import("./pages/JunctionPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -41,6 +43,8 @@ export function App() {
         >
           <Route index element={<LayoutsPage />} />
           <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
+          <Route path="layouts/:slug/edit" element={<LayoutEditPage />} />
+          <Route path="layouts/:slug/junction" element={<JunctionPage />} />
           <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
           <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
           <Route path="layouts/:slug/placement" element={<PlacementPage />} />

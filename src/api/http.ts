@@ -101,4 +101,5 @@ export async function request<T>(path: string, options: RequestOptions = {}): Pr
 export const http = {
   get: <T>(path: string, signal?: AbortSignal) => request<T>(path, { method: "GET", signal }),
   post: <T>(path: string, body?: unknown) => request<T>(path, { method: "POST", body: body ?? {} }),
+  put: <T>(path: string, body: unknown) => request<T>(path, { method: "PUT", body }),
 };

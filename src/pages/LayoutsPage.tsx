@@ -2,6 +2,7 @@ import { Link } from "react-router-dom";
 import type { LayoutSummary } from "../../shared/contract/rest";
 import { useLayouts } from "../api/layouts";
 import { ImportLayoutForm } from "../components/layouts/ImportLayoutForm";
+import { NewLayoutForm } from "../components/layouts/NewLayoutForm";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
@@ -44,6 +45,11 @@ export default function LayoutsPage() {
           <DataTable caption="Layouts" columns={columns} data={layouts.data} getRowId={(l) => l.slug} empty="No layouts yet." />
         )}
       </Panel>
+      {can.importLayout(user.role) ? (
+        <Panel title="New layout">
+          <NewLayoutForm />
+        </Panel>
+      ) : null}
       {can.importLayout(user.role) ? (
         <Panel title="Import a layout">
           <ImportLayoutForm />
