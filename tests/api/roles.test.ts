@@ -44,7 +44,12 @@ const ROUTES: RouteCase[] = [
     body: () => ({ rulebook: kestrelBankLayout().rulebook, note: "matrix" }),
     okStatus: 201,
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", allowed: ["engineer", "admin"] },
+  {
+    method: "post",
+    path: "/api/layouts/kestrel-bank/rulebooks/1/publish",
+    allowed: ["engineer", "admin"],
+    body: () => ({ withoutProof: true, reason: "matrix check" }),
+  },
   {
     method: "post",
     path: "/api/simulate",
