@@ -4,7 +4,8 @@
  * `PUT /api/layouts/:slug` (CONTRACT.md §6: a layout file without `rulebook`, plus `revision`).
  */
 import type { LayoutDetail } from "../../shared/contract/rest";
-import { LAYOUT_FORMAT, nodeSchema, pointsSchema, type LayoutNode } from "../../shared/layout/schema";
+import { canonicalLayout } from "../../shared/layout/canonical";
+import { LAYOUT_FORMAT, type LayoutNode } from "../../shared/layout/schema";
 import { RULEBOOK_FORMAT } from "../../shared/rulebook/schema";
 import { validateLayoutFile, type ValidationError } from "../../shared/rulebook/validate";
 import { migrateForEditing, type DrawingDoc } from "../components/schematic/edits";
@@ -20,13 +21,8 @@ export interface LayoutDraft extends DrawingDoc {
   nodes: DraftNode[];
 }
 
-/** What `GET /api/layouts/:slug` adds for editing (CONTRACT.md §6). */
-export type EditableLayout = Omit<LayoutDetail, "nodes"> & { revision?: number; archived?: boolean; nodes: (LayoutDetail["nodes"][number] & { points?: string[] })[] };
-
-// The shared schema may not know the revision-2 fields yet: send them only when it does,
-// so a save is never refused for a field the server cannot store.
-const POINTS_HAVE_WORKED = "worked" in pointsSchema.shape;
-const NODES_HAVE_POINTS = "points" in nodeSchema.shape;
+/** `GET /api/layouts/:slug`: records, schematic and the `revision` to send back (CONTRACT.md §6). */
+export type EditableLayout = LayoutDetail;
 
 export function draftFromLayout(layout: EditableLayout): { draft: LayoutDraft; movedItems: number } {
   const base: LayoutDraft = {
@@ -47,7 +43,7 @@ export function draftFromLayout(layout: EditableLayout): { draft: LayoutDraft; m
 /** The draft as a layout file without rulebook (keys in the order of CONTRACT.md §3). */
 export function layoutFileFromDraft(draft: LayoutDraft): Record<string, unknown> {
   const ids = { detectors: draft.detectors.map((d) => d.id), signals: draft.signals.map((s) => s.id), points: draft.points.map((p) => p.id) };
-  return {
+  return canonicalLayout({
     format: LAYOUT_FORMAT,
     slug: draft.slug,
     name: draft.name,
@@ -55,10 +51,10 @@ export function layoutFileFromDraft(draft: LayoutDraft): Record<string, unknown>
     lines: draft.lines,
     detectors: draft.detectors,
     signals: draft.signals,
-    points: draft.points.map(({ worked, ...p }) => (POINTS_HAVE_WORKED && worked ? { ...p, worked } : p)),
-    nodes: draft.nodes.map(({ points, ...n }) => (NODES_HAVE_POINTS && points ? { ...n, points } : n)),
+    points: draft.points,
+    nodes: draft.nodes,
     schematic: serializeSchematic(draft.schematic, ids),
-  };
+  });
 }
 
 /**
@@ -70,5 +66,6 @@ export function draftErrors(draft: LayoutDraft): ValidationError[] {
   const file = { ...layoutFileFromDraft(draft), rulebook: { format: RULEBOOK_FORMAT, rules: [] } };
   const result = validateLayoutFile(file);
   if (result.ok) return [];
-  return result.errors.filter((e) => !e.path.startsWith("$.rulebook"));
+  // A layout just made has no lines yet and may be saved so; a file to import needs one.
+  return result.errors.filter((e) => !e.path.startsWith("$.rulebook") && !(e.path === "$.lines" && draft.lines.length === 0));
 }

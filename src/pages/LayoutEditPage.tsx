@@ -62,7 +62,7 @@ export default function LayoutEditPage() {
   if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
   if (!draft || !loaded) return null;
 
-  const archived = loaded.archived === true;
+  const archived = loaded.archivedAt !== null && loaded.archivedAt !== undefined;
   const readOnly = archived || !can.importLayout(user.role);
 
   const onSave = async () => {
