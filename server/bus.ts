@@ -18,8 +18,8 @@ export interface BusEvents {
   "rulebook.refuted": [{ layoutId: number; slug: string; version: number; live: boolean }];
   /** A committed step of a layout's live pipeline, to push to its room. */
   "live.update": [LiveUpdate];
-  /** An alarm was raised, acknowledged or cleared. */
-  "alarm.changed": [AlarmDto & { slug: string; layoutId: number }];
+  /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
+  "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

@@ -3,7 +3,7 @@ import { createLayoutBodySchema } from "../../../shared/contract/layoutEdit";
 import { createNodeBodySchema, type LayoutResponse, type LayoutsResponse } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { exportLayout, importLayout, layoutDetail, listLayouts, registerNode } from "./service";
 import { createLayout, saveLayout, setArchived } from "./edit";
 
@@ -15,27 +15,27 @@ export function layoutRoutes(deps: AppDeps): Router {
     res.json(body);
   });
 
-  router.post("/layouts/import", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts/import", requirePermission("layouts.import"), async (req, res) => {
     const { slug } = await importLayout(deps, req.body, req.user!.id);
     res.status(201).json({ slug });
   });
 
-  router.post("/layouts", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts", requirePermission("layouts.create"), async (req, res) => {
     const body = parseWith(createLayoutBodySchema, req.body);
     const reply: LayoutResponse = { layout: await createLayout(deps, body, req.user!.id) };
     res.status(201).json(reply);
   });
 
-  router.put("/layouts/:slug", requireRole("engineer", "admin"), async (req, res) => {
+  router.put("/layouts/:slug", requirePermission("layouts.edit"), async (req, res) => {
     const reply: LayoutResponse = { layout: await saveLayout(deps, String(req.params.slug), req.body, req.user!.id) };
     res.json(reply);
   });
 
-  router.post("/layouts/:slug/archive", requireRole("admin"), async (req, res) => {
+  router.post("/layouts/:slug/archive", requirePermission("layouts.archive"), async (req, res) => {
     res.json(await setArchived(deps, String(req.params.slug), true, req.user!.id));
   });
 
-  router.post("/layouts/:slug/restore", requireRole("admin"), async (req, res) => {
+  router.post("/layouts/:slug/restore", requirePermission("layouts.archive"), async (req, res) => {
     res.json(await setArchived(deps, String(req.params.slug), false, req.user!.id));
   });
 
@@ -50,7 +50,7 @@ export function layoutRoutes(deps: AppDeps): Router {
     res.json(file);
   });
 
-  router.post("/layouts/:slug/nodes", requireRole("engineer", "maintainer", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/nodes", requirePermission("nodes.manage"), async (req, res) => {
     const body = parseWith(createNodeBodySchema, req.body);
     res.status(201).json(await registerNode(deps, String(req.params.slug), body));
   });

@@ -8,7 +8,7 @@ import { generateTemplateBodySchema, type GeneratedRulebookResponse, type Templa
 import { JUNCTION_TEMPLATES, findTemplate, generateFromTemplate, templateOptionsJsonSchema } from "../../../shared/rulebook/templateCatalog";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound, parseWith } from "../../http/errors";
-import { requireRole } from "../auth/middleware";
+import { requirePermission } from "../auth/middleware";
 
 export function templateRoutes(_deps: AppDeps): Router {
   const router = Router();
@@ -23,11 +23,11 @@ export function templateRoutes(_deps: AppDeps): Router {
     })),
   };
 
-  router.get("/templates", requireRole("engineer", "admin"), (_req, res) => {
+  router.get("/templates", requirePermission("templates.use"), (_req, res) => {
     res.json(catalogue);
   });
 
-  router.post("/templates/:id", requireRole("engineer", "admin"), (req, res) => {
+  router.post("/templates/:id", requirePermission("templates.use"), (req, res) => {
     const template = findTemplate(String(req.params.id));
     if (!template) throw notFound(`template "${String(req.params.id)}"`);
     const body = parseWith(generateTemplateBodySchema, req.body);
