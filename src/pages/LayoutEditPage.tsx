@@ -63,7 +63,7 @@ export default function LayoutEditPage() {
   if (!draft || !loaded) return null;
 
   const archived = loaded.archivedAt !== null && loaded.archivedAt !== undefined;
-  const readOnly = archived || !can.importLayout(user.role);
+  const readOnly = archived || !can.editLayout(user.role);
 
   const onSave = async () => {
     setSaved(false);
@@ -107,7 +107,7 @@ export default function LayoutEditPage() {
           <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${slug}/placement`}>
             Detector placement
           </Link>
-          {user.role === "admin" ? (
+          {can.archiveLayout(user.role) ? (
             <Button tone={archived ? "plain" : "danger"} disabled={archive.isPending} onClick={() => archive.mutate(archived ? "restore" : "archive", { onSuccess: () => void reload() })}>
               {archived ? "Restore layout" : "Archive layout"}
             </Button>

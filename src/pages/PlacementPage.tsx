@@ -1,8 +1,8 @@
 import { useEffect, useMemo } from "react";
 import { useForm } from "react-hook-form";
 import { useParams } from "react-router-dom";
-import { approachDistance, type ApproachResult, type SpeedInput } from "../../shared/layout/placement";
-import { METRES_PER_MILE } from "../../shared/layout/placement";
+import { METRES_PER_MILE, type SpeedInput } from "../../shared/layout/placement";
+import { checkRoutePlacement, type RoutePlacementResult } from "../../shared/layout/routePlacement";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { AssumptionsForm } from "../components/placement/AssumptionsForm";
@@ -12,7 +12,6 @@ import { Panel } from "../components/ui/Panel";
 import { SafetyNote } from "../components/ui/SafetyNote";
 import { LoadError, Loading } from "../components/ui/Status";
 import { readLongestTrain, writeLongestTrain } from "../lib/longestTrain";
-import { routeDistances } from "../lib/placementRoutes";
 import { zodResolver } from "../lib/zodResolver";
 
 function Figure({ label, value }: { label: string; value: string }) {
@@ -55,23 +54,28 @@ export default function PlacementPage() {
   if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
   const l = layout.data;
 
-  let result: ApproachResult | null = null;
+  const routes = rulebook.data?.rulebook.proving?.routes ?? [];
+  let checked: RoutePlacementResult | null = null;
   let problem: string | null = null;
   try {
-    result = approachDistance({
-      ratio: l.scale.ratio,
-      speed: speedOf(values),
-      reactionS: Number(values.reactionS),
-      controllerLatencyMs: Number(values.controllerLatencyMs),
-      decelerationMps2: Number(values.decelerationMps2),
-      marginM: Number(values.marginM),
+    checked = checkRoutePlacement({
+      layout: l,
+      routes,
+      approach: {
+        speed: speedOf(values),
+        reactionS: Number(values.reactionS),
+        controllerLatencyMs: Number(values.controllerLatencyMs),
+        decelerationMps2: Number(values.decelerationMps2),
+        marginM: Number(values.marginM),
+      },
+      clearance: { longestTrainM: Number(values.longestTrainM), rearOverhangM: Number(values.rearOverhangM) },
     });
-    if (!Number.isFinite(result.totalM)) throw new RangeError("fill in every figure");
+    if (!Number.isFinite(checked.required.totalM)) throw new RangeError("fill in every figure");
   } catch (err) {
-    result = null;
+    checked = null;
     problem = err instanceof Error ? err.message : String(err);
   }
-  const rows = routeDistances(l, rulebook.data?.rulebook.proving?.routes ?? []);
+  const result = checked?.required ?? null;
 
   return (
     <div className="space-y-6">
@@ -102,7 +106,7 @@ export default function PlacementPage() {
         </Panel>
       </div>
       <Panel title={`This layout's routes${version ? ` (rulebook version ${version})` : ""}`}>
-        <RouteChecks rows={rows} result={result} values={values} />
+        <RouteChecks layout={l} routes={routes} result={checked} values={values} />
       </Panel>
       <SafetyNote />
     </div>

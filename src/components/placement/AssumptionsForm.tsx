@@ -12,7 +12,6 @@ const FIELDS: { name: Name; label: string; step: string; help?: string }[] = [
   { name: "longestTrainM", label: "Longest train (m)", step: "0.1", help: "the longest the society runs here" },
   { name: "longestTrainAxles", label: "Its axles", step: "1", help: "the proving forms' train length" },
   { name: "rearOverhangM", label: "Rear overhang (m)", step: "0.01", help: "last vehicle beyond its last axle" },
-  { name: "foulingBeyondPointsM", label: "Fouling point beyond the points (m)", step: "0.1", help: "where the two tracks are too close" },
 ];
 
 /** The speed (scale km/h, scale mph, or a timed run) and the other assumptions, errors beside each. */

@@ -1,77 +1,66 @@
-import { checkClearance, type ApproachResult } from "../../../shared/layout/placement";
-import type { RouteDistances } from "../../lib/placementRoutes";
+import type { LayoutDetail } from "../../../shared/contract/rest";
+import type { ProvingRoute } from "../../../shared/rulebook/schema";
+import type { RoutePlacementResult } from "../../../shared/layout/routePlacement";
 import { PlacementStrip } from "./PlacementStrip";
 import type { PlacementFormValues } from "./placementForm";
 
 interface RouteChecksProps {
-  rows: RouteDistances[];
-  result: ApproachResult | null;
+  layout: Pick<LayoutDetail, "detectors" | "signals">;
+  routes: readonly ProvingRoute[];
+  result: RoutePlacementResult | null;
   values: PlacementFormValues;
 }
 
-/** Per route: is the approach detector far enough, is the clearance detector past the fouling point, does the longest train fit. */
-export function RouteChecks({ rows, result, values }: RouteChecksProps) {
-  if (rows.length === 0) return <p className="text-sm text-ink-faint">No routes yet: they come from the rulebook's proving section (make one from a template).</p>;
+const tone = (ok: boolean | null) => (ok === false ? "text-notice-error" : ok ? "text-notice-ok" : "text-ink-faint");
+
+/** Per route: is the approach detector far enough, is the clearance detector past the fouling point with the longest train. */
+export function RouteChecks({ layout, routes, result, values }: RouteChecksProps) {
+  if (routes.length === 0) return <p className="text-sm text-ink-faint">No routes yet: they come from the rulebook's proving section (make one from a template).</p>;
+  if (!result) return <p className="text-sm text-ink-faint">Fill in the assumptions to check the routes.</p>;
+  const detectors = new Map(layout.detectors.map((d) => [d.id, d]));
+  const signals = new Map(layout.signals.map((s) => [s.id, s]));
   return (
     <div className="space-y-5">
-      {rows.map((row) => {
-        const ok = result && row.approachM !== null ? row.approachM >= result.totalM : null;
+      {result.routes.map((row) => {
+        const route = routes.find((r) => r.id === row.route);
+        const signal = signals.get(row.signal);
         const c = row.clearance;
-        const sign = row.direction === "down" ? -1 : 1;
-        const foulingAt = c ? (c.points ? c.points.at + sign * values.foulingBeyondPointsM : 0) : null;
-        const clearance =
-          c && foulingAt !== null
-            ? checkClearance({
-                foulingPointAt: foulingAt,
-                clearanceDetectorAt: c.detector.at,
-                rearOverhangM: values.rearOverhangM,
-                longestTrainM: values.longestTrainM,
-                nextStopAt: c.nextStopAt,
-                direction: row.direction,
-              })
-            : null;
-        // Drawn from the signal: on one line the metres agree; across lines the branch meets at the points.
-        const signalAt = row.signal?.at ?? 0;
-        const fromSignal = (at: number) => (c && row.signal && c.detector.line === row.signal.line ? sign * (at - signalAt) : Math.abs(at - (c?.points?.at ?? 0)) + 1);
+        const exit = c ? detectors.get(c.detector) : undefined;
+        const approach = detectors.get(row.approach.detector);
+        // Drawn from the signal, in the direction of travel; only what lies on the signal's line is to scale.
+        const dir = signal && approach && approach.line === signal.line ? Math.sign(signal.at - approach.at) || 1 : 1;
+        const onSignalLine = (at: number | null | undefined, line: string | undefined) => (signal && at !== null && at !== undefined && line === signal.line ? dir * (at - signal.at) : null);
+        const exitEntry = route ? detectors.get(route.entry) : undefined;
+        const beyond = (at: number | null) => onSignalLine(at, exit?.line) ?? (at !== null && exit && exitEntry && exit.line === exitEntry.line ? Math.abs(at - exitEntry.at) : null);
         return (
           <section key={row.route} aria-label={`Route ${row.route}`} className="space-y-2 border-t border-panel-700 pt-3" data-placement-route={row.route}>
             <h3 className="font-bold">
-              Route {row.route}: {row.approach?.id ?? "?"} → {row.signal?.id ?? "?"}
-              {c ? ` → ${c.detector.id}` : ""}
+              Route {row.route}: {row.approach.detector} → {row.signal}
+              {c ? ` → ${c.detector}` : ""}
             </h3>
             <ul className="space-y-1 text-sm">
-              <li className={ok === false ? "text-notice-error" : ok ? "text-notice-ok" : "text-ink-faint"} data-check="approach">
-                {row.approachM === null
-                  ? "Approach detector and signal are on different lines: measure on the layout."
-                  : ok === null
-                    ? `Approach detector ${row.approachM.toFixed(2)} m before the signal.`
-                    : ok
-                      ? `Far enough: ${row.approachM.toFixed(2)} m before the signal, ${result!.totalM.toFixed(2)} m needed.`
-                      : `Too close by ${(result!.totalM - row.approachM).toFixed(2)} m: ${row.approachM.toFixed(2)} m before the signal, ${result!.totalM.toFixed(2)} m needed.`}
+              <li className={tone(row.approach.ok)} data-check="approach" data-ok={String(row.approach.ok)}>
+                {row.approach.ok === false ? "Too close: " : row.approach.ok ? "Far enough: " : ""}
+                {row.approach.message}
               </li>
-              {clearance ? (
-                clearance.findings.map((f, i) => (
-                  <li key={i} className={f.ok ? "text-notice-ok" : "text-notice-error"} data-check={i === 0 ? "clearance" : "train"}>
-                    {c!.points ? "" : `(fouling point taken at the start of line ${c!.detector.line}) `}
-                    {f.message}
-                  </li>
-                ))
-              ) : (
-                <li className="text-ink-faint">No exit detector on this route to check clearance.</li>
-              )}
-              {clearance && c && c.nextStopAt === undefined ? <li className="text-ink-faint">The longest train is not checked for room: the route names no stop beyond its clearance detector.</li> : null}
+              {c?.findings.map((f, i) => (
+                <li key={i} className={tone(f.ok)} data-check={i === 0 ? "clearance" : "room"} data-ok={String(f.ok)}>
+                  {i === 0 && c.foulingPointFrom ? `(fouling point at ${c.foulingPointFrom}) ` : ""}
+                  {f.message}
+                </li>
+              ))}
             </ul>
             <PlacementStrip
               route={row.route}
-              approachM={row.approachM}
-              requiredM={result?.totalM ?? null}
-              foulingM={c && foulingAt !== null ? fromSignal(foulingAt) : null}
-              clearanceM={c ? fromSignal(c.detector.at) : null}
+              approachM={row.approach.actualM}
+              requiredM={row.approach.requiredM}
+              foulingM={c ? beyond(c.foulingPointAt) : null}
+              clearanceM={exit ? beyond(exit.at) : null}
               rearOverhangM={values.rearOverhangM}
               longestTrainM={values.longestTrainM}
-              approachId={row.approach?.id ?? "?"}
-              signalId={row.signal?.id ?? "?"}
-              clearanceId={c?.detector.id ?? null}
+              approachId={row.approach.detector}
+              signalId={row.signal}
+              clearanceId={c?.detector ?? null}
             />
           </section>
         );

@@ -15,7 +15,6 @@ export const placementFormSchema = z
     longestTrainM: z.number().min(0).max(100),
     longestTrainAxles: z.number().int().min(1).max(64),
     rearOverhangM: z.number().min(0).max(5),
-    foulingBeyondPointsM: z.number().min(0).max(20),
   })
   .refine((v) => !Number.isNaN(v.prototypeKmh), { path: ["prototypeKmh"], message: "a speed" });
 export type PlacementFormValues = z.infer<typeof placementFormSchema>;
@@ -33,5 +32,4 @@ export const PLACEMENT_DEFAULTS: PlacementFormValues = {
   longestTrainM: 3,
   longestTrainAxles: 8,
   rearOverhangM: 0.1,
-  foulingBeyondPointsM: 0.6,
 };
