@@ -154,7 +154,10 @@ describe("editing a drawing", () => {
 
   it("draws, bends and straightens tracks; vertices snap to the grid", () => {
     let d = addTrack({ ...doc(), schematic: emptySchematic() }, "main", [[0, 0], [400, 0]]);
+    // Items already on the line keep their positions: the span is the line's length (14 m + 10 %).
     expect(d.schematic.tracks[0].metres).toEqual([0, 15.5]);
+    // An empty line is read at 30 units a metre.
+    expect(addTrack({ ...doc(), schematic: emptySchematic() }, "branch", [[0, 0], [300, 0], [300, 300]]).schematic.tracks[0].metres).toEqual([0, 20]);
     d = insertVertex(d, 0, [203, 38], 20);
     expect(d.schematic.tracks[0].points).toEqual([[0, 0], [200, 40], [400, 0]]);
     d = moveVertex(d, 0, 1, [211, -3], 20);

@@ -8,7 +8,7 @@
  */
 import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../../../shared/layout/schema";
 import { isPt, MAX_COORD, MAX_TRACK_POINTS, type ItemKind, type Pt, type Schematic, type SchematicTrack } from "./format";
-import { nearestSegment, pointAlong, project } from "./polyline";
+import { nearestSegment, pointAlong, polylineLength, project } from "./polyline";
 import { snapMetres, snapToGrid } from "./snap";
 import { lineLengthEstimate, metresAtPoint, nearestTrack, pointAtMetres } from "./trackMetres";
 
@@ -112,11 +112,20 @@ function withTracks(doc: DrawingDoc, tracks: SchematicTrack[]): DrawingDoc {
   return { ...doc, schematic: { ...doc.schematic, tracks } };
 }
 
-/** A new track for a line from drawn points; it spans 0 to the line's current length. */
+/** A new line's track is read at this many drawing units to the metre (as the automatic drawing). */
+export const NEW_TRACK_UNITS_PER_METRE = 30;
+
+/**
+ * A new track for a line from drawn points. It spans 0 to the line's length when items are
+ * already on the line (so they keep their positions), else its drawn length at
+ * NEW_TRACK_UNITS_PER_METRE (600 units: 20 m); the span can be changed afterwards.
+ */
 export function addTrack(doc: DrawingDoc, line: string, points: Pt[]): DrawingDoc {
   const clean = points.filter(isPt).map(clampPt).slice(0, MAX_TRACK_POINTS);
   if (clean.length < 2 || !doc.lines.some((l) => l.id === line)) return doc;
-  return withTracks(doc, [...doc.schematic.tracks, { line, points: clean, metres: [0, snapMetres(lineLength(doc, line), 0.5) || 1] }]);
+  const occupied = [...doc.detectors, ...doc.signals, ...doc.points].some((x) => x.line === line);
+  const lengthM = occupied ? lineLength(doc, line) : polylineLength(clean) / NEW_TRACK_UNITS_PER_METRE;
+  return withTracks(doc, [...doc.schematic.tracks, { line, points: clean, metres: [0, snapMetres(lengthM, 0.5) || 1] }]);
 }
 
 export function removeTrack(doc: DrawingDoc, index: number): DrawingDoc {
