@@ -57,7 +57,8 @@ export interface CreateLayoutInput {
 export function useCreateLayoutMutation() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (input: CreateLayoutInput) => http.post<{ slug: string }>("/api/layouts", input),
+    // 201 with the new layout (CONTRACT.md §6; shared/contract/layoutEdit.ts).
+    mutationFn: (input: CreateLayoutInput) => http.post<LayoutResponse>("/api/layouts", input).then((body) => body.layout),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }

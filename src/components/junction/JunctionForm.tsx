@@ -72,7 +72,8 @@ export function JunctionForm({ form, records }: JunctionFormProps) {
                 <input className={INPUT} {...register(`routes.${i}.id`)} />
               </FormField>
               {lineSelect("Comes in on line", `routes.${i}.line`, (picked) => {
-                const fresh = routeFor(records, picked, sectionLine, routeValues[i]?.id ?? picked);
+                const others = routeValues.filter((_, j) => j !== i).flatMap((r) => [r.entry, ...r.approach]);
+                const fresh = routeFor(records, picked, sectionLine, routeValues[i]?.id ?? picked, others);
                 setValue(`routes.${i}`, { ...fresh, id: routeValues[i]?.id ?? picked });
               })}
               <SelectRole label="Home signal" name={`routes.${i}.signal`} options={signalsOn(records, line)} register={register} error={err(`routes.${i}.signal`)} />

@@ -48,16 +48,22 @@ export interface JunctionValues {
 
 const list = (v: unknown): string[] => (Array.isArray(v) ? v.map(String) : typeof v === "string" && v ? [v] : []);
 
-export function routeFor(records: RoleRecords, line: string, sectionLine: string, id: string): RouteValues {
+/** A route on `line`, its exits guessed beyond every detector the routes use on the section's line. */
+export function routeFor(records: RoleRecords, line: string, sectionLine: string, id: string, usedByOthers: readonly string[] = []): RouteValues {
   const guess = guessRoute(records, line);
-  return { id, line, ...guess, exit: guessExit(records, sectionLine, [guess.entry, ...guess.approach]) };
+  return { id, line, ...guess, exit: guessExit(records, sectionLine, [guess.entry, ...guess.approach, ...usedByOthers]) };
 }
 
 /** Sensible first values: one route per line (the first line is the section), or roads per line. */
 export function initialValues(records: RoleRecords & { lines: { id: string }[] }, kind: JunctionKind, axles: number): JunctionValues {
   const lines = records.lines.map((l) => l.id);
   const first = lines[0] ?? "";
-  const routes = (lines.length >= 2 ? lines : [first, first]).slice(0, 4).map((line, i) => routeFor(records, line, first, lines.length >= 2 ? line : `route${i + 1}`));
+  const routeLines = (lines.length >= 2 ? lines : [first, first]).slice(0, 4);
+  const used = routeLines.flatMap((line) => {
+    const g = guessRoute(records, line);
+    return [g.entry, ...g.approach];
+  });
+  const routes = routeLines.map((line, i) => routeFor(records, line, first, lines.length >= 2 ? line : `route${i + 1}`, used));
   const facing = guessRoute(records, first);
   const entry = records.detectors.find((d) => d.id === facing.entry);
   const roadLines = lines.length >= 2 ? lines.slice(0, 4) : [first, first];

@@ -282,7 +282,7 @@ export function SchematicEditor({ doc, onChange, onGestureEnd, onUndo, onRedo, r
           </defs>
           <rect data-canvas="background" x={area.x0} y={area.y0} width={w} height={hgt} fill="url(#bl-grid)" onPointerDown={onBackgroundPointerDown} />
           {geometry.labels.map((l, i) => (
-            <text key={i} x={l.at[0]} y={l.at[1]} fill="#7f8fa0" fontSize={12} aria-hidden="true">
+            <text key={i} x={l.at[0]} y={l.at[1]} fill="#7f8fa0" fontSize={12} aria-hidden="true" pointerEvents="none">
               {l.text}
             </text>
           ))}
@@ -320,14 +320,14 @@ export function SchematicEditor({ doc, onChange, onGestureEnd, onUndo, onRedo, r
             }}
           />
           {pending.length > 0 ? (
-            <g aria-hidden="true">
+            <g aria-hidden="true" pointerEvents="none">
               <polyline points={pending.map((p) => p.join(",")).join(" ")} fill="none" stroke="#d9b35f" strokeWidth={4} strokeDasharray="6 4" />
               {pending.map((p, i) => (
                 <circle key={i} cx={p[0]} cy={p[1]} r={5} fill="#d9b35f" />
               ))}
             </g>
           ) : null}
-          {ghost ? <circle cx={ghost.at[0]} cy={ghost.at[1]} r={10} fill="#d9b35f" fillOpacity={0.4} stroke="#d9b35f" aria-hidden="true" /> : null}
+          {ghost ? <circle cx={ghost.at[0]} cy={ghost.at[1]} r={10} fill="#d9b35f" fillOpacity={0.4} stroke="#d9b35f" aria-hidden="true" pointerEvents="none" /> : null}
         </svg>
         <SchematicInspector doc={doc} selection={selection} readOnly={readOnly} onChange={onChange} onSelect={setSelection} />
       </div>

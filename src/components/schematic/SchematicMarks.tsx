@@ -44,7 +44,7 @@ export function SchematicMarks({ doc, geometry, selection, drawnLines, readOnly,
     const labelSelected = isSel(selection, "label", kind, id);
     return (
       <g key={`${kind}:${id}`}>
-        {post ? <line x1={post[0]} y1={post[1]} x2={p[0]} y2={p[1]} stroke={INK_FAINT} strokeWidth={2} aria-hidden="true" /> : null}
+        {post ? <line x1={post[0]} y1={post[1]} x2={p[0]} y2={p[1]} stroke={INK_FAINT} strokeWidth={2} aria-hidden="true" pointerEvents="none" /> : null}
         <g
           role="button"
           tabIndex={focusable}
@@ -95,7 +95,7 @@ export function SchematicMarks({ doc, geometry, selection, drawnLines, readOnly,
         const selected = selection?.type === "track" || selection?.type === "vertex" ? selection.track === trackIndex : false;
         return (
           <g key={`track-${i}`}>
-            <polyline points={pts(t.points)} fill="none" stroke={own ? TRACK : "#283746"} strokeDasharray={own ? undefined : "10 8"} strokeWidth={7} strokeLinecap="round" strokeLinejoin="round" aria-hidden="true" />
+            <polyline points={pts(t.points)} fill="none" stroke={own ? TRACK : "#283746"} strokeDasharray={own ? undefined : "10 8"} strokeWidth={7} strokeLinecap="round" strokeLinejoin="round" aria-hidden="true" pointerEvents="none" />
             {own ? (
               <polyline
                 role="button"
@@ -117,7 +117,7 @@ export function SchematicMarks({ doc, geometry, selection, drawnLines, readOnly,
                 onKeyDown={h.onKey}
               />
             ) : (
-              <text x={t.points[0][0]} y={t.points[0][1] - 12} fill={INK_FAINT} fontSize={11} aria-hidden="true">
+              <text x={t.points[0][0]} y={t.points[0][1] - 12} fill={INK_FAINT} fontSize={11} aria-hidden="true" pointerEvents="none">
                 {`${t.line} (drawn automatically)`}
               </text>
             )}
