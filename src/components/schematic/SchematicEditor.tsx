@@ -162,13 +162,14 @@ export function SchematicEditor({ doc, onChange, onGestureEnd, onUndo, onRedo, r
       if (sel.type === "item") {
         const item = doc[sel.kind].find((x) => x.id === sel.id);
         const step = (e.shiftKey ? AT_STEP_COARSE_M : AT_STEP_M) * (e.key === "ArrowLeft" || e.key === "ArrowDown" ? -1 : 1);
-        if (item) onChange(setItemAt(doc, sel.kind, sel.id, Math.max(0, Number((item.at + step).toFixed(6)))), `key:${sel.kind}:${sel.id}`);
+        // Each key press is its own undo step.
+        if (item) onChange(setItemAt(doc, sel.kind, sel.id, Math.max(0, Number((item.at + step).toFixed(6)))));
       } else if (sel.type === "label") {
         const current = geometry.labelOffsets[labelKey(sel.kind, sel.id)] ?? [0, 0];
-        onChange(moveLabel(doc, sel.kind, sel.id, nudge(current, e.key, grid / 4, e.shiftKey)), `key-label:${sel.kind}:${sel.id}`);
+        onChange(moveLabel(doc, sel.kind, sel.id, nudge(current, e.key, grid / 4, e.shiftKey)));
       } else if (sel.type === "vertex") {
         const v = doc.schematic.tracks[sel.track]?.points[sel.vertex];
-        if (v) onChange(moveVertex(doc, sel.track, sel.vertex, nudge(v, e.key, grid, e.shiftKey), null), `key-vertex:${sel.track}:${sel.vertex}`);
+        if (v) onChange(moveVertex(doc, sel.track, sel.vertex, nudge(v, e.key, grid, e.shiftKey), null));
       }
       return;
     }
