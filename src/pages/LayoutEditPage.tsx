@@ -1,6 +1,7 @@
 import { useCallback, useEffect, useMemo, useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
 import type { ValidationError } from "../../shared/rulebook/validate";
+import { LAYOUT_EDIT_ERRORS } from "../../shared/contract/layoutEdit";
 import { ApiError } from "../api/http";
 import { useArchiveMutation, useEditableLayout, useSaveLayoutMutation } from "../api/layouts";
 import { RecordsEditor } from "../components/records/RecordsEditor";
@@ -77,7 +78,7 @@ export default function LayoutEditPage() {
       if (fresh.data) start(fresh.data);
       setSaved(true);
     } catch (error) {
-      if (error instanceof ApiError && error.status === 409) setStale(true);
+      if (error instanceof ApiError && error.code === LAYOUT_EDIT_ERRORS.stale) setStale(true);
       else if (error instanceof ApiError) setServerErrors({ for: draft, errors: error.fieldErrors.length > 0 ? error.fieldErrors : [{ path: "$", message: error.message }] });
       else setServerErrors({ for: draft, errors: [{ path: "$", message: String(error) }] });
     }

@@ -22,7 +22,14 @@ const columns = col.columns([
   col.accessor("scale", { header: "Scale", cell: (info) => `${info.getValue().name} (1:${info.getValue().ratio})` }),
   col.accessor("liveVersion", {
     header: "Live rulebook",
-    cell: (info) => (info.getValue() === null ? <span className="text-ink-faint">none</span> : `version ${info.getValue()}`),
+    cell: (info) =>
+      info.row.original.archived ? (
+        <span className="rounded border border-aspect-caution/70 px-1.5 text-xs font-bold uppercase text-aspect-caution">archived</span>
+      ) : info.getValue() === null ? (
+        <span className="text-ink-faint">none</span>
+      ) : (
+        `version ${info.getValue()}`
+      ),
   }),
   col.accessor("detectorCount", { header: "Detectors" }),
   col.accessor("signalCount", { header: "Signals" }),
