@@ -28,6 +28,8 @@ export interface UserDto {
   email: string;
   name: string;
   role: Role;
+  /** Whether alarms are mailed to this member. */
+  alarmMail: boolean;
 }
 export interface MeResponse {
   user: UserDto;
@@ -146,7 +148,8 @@ export interface PublishResponse {
 export type ProofMoveDto =
   | { type: "arrive"; route: string; axles: number }
   | { type: "pulse"; detector: string; route: string; train: number }
-  | { type: "quiet"; rule: string };
+  | { type: "quiet"; rule: string }
+  | { type: "points"; points: string; lies: "normal" | "reverse" | "moving" };
 
 export interface ProofPropertyDto {
   id: string;

@@ -92,17 +92,13 @@ export const facingOptionsSchema = z
     points: idSchema,
     roads: z
       .array(z.strictObject({ id: routeId, exit: detectorList("road") }))
-      .min(2, "a facing junction needs at least two roads")
-      .max(MAX_ROUTES),
-    /** "points": the points are set by hand and the signal follows them; "first-free": the rulebook picks the road. */
-    choose: z.enum(["points", "first-free"]),
+      .length(2, "a facing junction has exactly two roads: the points' normal road first, then the reverse one"),
+    /** "power": the rulebook picks the first free road and throws the points; "hand": a person sets them and the signal follows. */
+    worked: z.enum(["power", "hand"]),
     ...provingSize,
   })
   .superRefine((options, ctx) => {
     distinct(options.roads.map((r) => r.id), ctx, (i) => ["roads", i, "id"], "road id");
-    if (options.choose === "points" && options.roads.length !== 2) {
-      ctx.addIssue({ code: "custom", path: ["roads"], message: 'choose "points" needs exactly two roads' });
-    }
     const onRoads = new Set<string>();
     options.roads.forEach((road, i) =>
       road.exit.forEach((detector, j) => {
@@ -159,7 +155,7 @@ export const JUNCTION_TEMPLATES: readonly JunctionTemplate[] = [
     id: "facing-junction",
     name: "Facing junction",
     description:
-      "One signal before facing points that lead to two or more roads, such as a passing loop. Each road is counted from the entry detector to its last exit; the signal clears only for a free road, chosen by where the points lie or by the rulebook (first free road).",
+      "One signal before facing points that lead to two or more roads, such as a passing loop. Each road is counted from the entry detector to its last exit; the signal clears only for a free road, chosen by the rulebook, which throws power-worked points to the first free road, or by where hand-worked points lie.",
     options: facingOptionsSchema,
     example: {
       signal: "W1",
@@ -170,7 +166,7 @@ export const JUNCTION_TEMPLATES: readonly JunctionTemplate[] = [
         { id: "through", exit: ["TX", "TZ"] },
         { id: "loop", exit: ["LX", "LZ"] },
       ],
-      choose: "first-free",
+      worked: "power",
       maxAxles: 2,
       maxTrainsPerRoute: 2,
     },

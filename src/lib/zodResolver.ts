@@ -3,23 +3,24 @@ import type { z } from "zod";
 import { toJsonPath } from "../../shared/rulebook/validate";
 
 /**
- * react-hook-form ⇄ a zod schema from shared/: the form is checked by the very schema the
- * server uses, and each problem lands on its field (nested paths as `a.0.b`).
+ * react-hook-form validation with one of the zod schemas the server also uses (shared/), so a
+ * form and the API refuse the same input with the same words. Each problem lands on its field;
+ * nested paths (`routes.0.signal`) are nested the way react-hook-form looks errors up.
  */
-export function zodResolver<T extends FieldValues>(schema: z.ZodType<T, FieldValues>): Resolver<T> {
+export function zodResolver<Input extends FieldValues, Output extends FieldValues = Input>(schema: z.ZodType<Output, Input>): Resolver<Input, unknown, Output> {
   return async (values) => {
-    const result = schema.safeParse(values);
+    const result = await schema.safeParseAsync(values);
     if (result.success) return { values: result.data, errors: {} };
-    const errors: Record<string, unknown> = {};
+    const flat: Record<string, { type: string; message: string }> = {};
     for (const issue of result.error.issues) {
       const name = issue.path.map(String).join(".") || "root";
-      if (!(name in errors)) errors[name] = { type: issue.code, message: issue.message };
+      flat[name] ??= { type: issue.code, message: issue.message };
     }
-    return { values: {}, errors: nest(errors) as FieldErrors<T> };
+    return { values: {}, errors: nest(flat) as FieldErrors<Input> };
   };
 }
 
-/** `{"a.0.b": e}` → `{a: {0: {b: e}}}`, the shape react-hook-form looks errors up in. */
+/** `{"a.0.b": e}` → `{a: {0: {b: e}}}`. */
 function nest(flat: Record<string, unknown>): Record<string, unknown> {
   const out: Record<string, unknown> = {};
   for (const [name, error] of Object.entries(flat)) {

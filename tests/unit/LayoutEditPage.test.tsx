@@ -16,6 +16,7 @@ afterEach(() => {
 const file = kestrelBankLayout();
 const detail = (revision: number): LayoutDetail => ({
   ...file,
+  schematic: file.schematic ?? null,
   versions: [],
   revision,
   liveVersion: 1,

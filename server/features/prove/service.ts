@@ -69,7 +69,10 @@ export function toResultDto(result: ProofResult, rulebook?: Rulebook): ProofResu
 
 /** The verdict of a proof stopped before it ended: nothing decided. */
 function cancelledResult(rulebook: Rulebook, progress: ProofProgressDto | null, ms: number, by: string | null): ProofResultDto {
-  const properties = PROPERTY_IDS.filter((id) => id !== "priority-unhindered" || rulebook.proving?.priority);
+  const routePoints = rulebook.proving?.routes.some((r) => Object.keys(r.points ?? {}).length > 0) ?? false;
+  const properties = PROPERTY_IDS.filter((id) =>
+    id === "priority-unhindered" ? rulebook.proving?.priority : id === "points-set-for-train" || id === "points-locked" ? routePoints : true,
+  );
   return {
     verdict: "unfinished",
     properties: properties.map((id) => ({ id, holds: null })),

@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import { useForm, type DefaultValues, type FieldValues, type Path } from "react-hook-form";
+import { useForm, type DefaultValues, type FieldValues, type Path, type Resolver } from "react-hook-form";
 import { z } from "zod";
 import type { ValidationError } from "../../../shared/rulebook/validate";
 import { zodResolver } from "../../lib/zodResolver";
@@ -40,7 +40,8 @@ export function RowForm<T extends FieldValues>({ title, fields, schema, initial,
       }) as z.ZodType<T, FieldValues>,
     [schema, takenIds],
   );
-  const { register, handleSubmit, formState } = useForm<T>({ resolver: zodResolver(checked), defaultValues: initial as DefaultValues<T> });
+  // The row schemas take any field values and give the record type: one type for both sides here.
+  const { register, handleSubmit, formState } = useForm<T>({ resolver: zodResolver(checked) as unknown as Resolver<T>, defaultValues: initial as DefaultValues<T> });
   const errorOf = (name: string): string[] => {
     const own = (formState.errors as Record<string, { message?: string } | undefined>)[name]?.message;
     return [...(own ? [own] : []), ...(formState.isSubmitted ? [] : (outside[name] ?? []))];
