@@ -31,9 +31,9 @@ describe("junction roles from the layout's records", () => {
     expect(optionsOf(initialValues(kestrel, "converging-first-come", 3))).toMatchObject({ order: "first-come", maxAxles: 3 });
   });
 
-  it("fills a facing junction with one road per line, beyond the entry", () => {
-    const options = optionsOf(initialValues(wrenfold, "facing-first-free", 2));
-    expect(options).toMatchObject({ signal: "W1", approach: ["WA"], entry: "WE", points: "P2", choose: "first-free", roads: [{ id: "main", exit: ["TX", "TZ"] }, { id: "loop", exit: ["LX", "LZ"] }] });
+  it("fills a facing junction with one road per line (normal first), beyond the entry", () => {
+    const options = optionsOf(initialValues(wrenfold, "facing-power", 2));
+    expect(options).toMatchObject({ signal: "W1", approach: ["WA"], entry: "WE", points: "P2", worked: "power", roads: [{ id: "main", exit: ["TX", "TZ"] }, { id: "loop", exit: ["LX", "LZ"] }] });
     expect(facingOptionsSchema.safeParse(options).success).toBe(true);
   });
 

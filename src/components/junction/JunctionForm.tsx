@@ -116,20 +116,14 @@ export function JunctionForm({ form, records }: JunctionFormProps) {
       </div>
       {roads.fields.map((field, i) => (
         <fieldset key={field.id} className="grid gap-3 rounded-md border border-panel-700 p-3 sm:grid-cols-3" aria-label={`Road ${i + 1}`}>
-          <legend className="px-1 text-sm font-bold">Road {i + 1}</legend>
+          <legend className="px-1 text-sm font-bold">{i === 0 ? "Road 1 (points normal)" : "Road 2 (points reverse)"}</legend>
           <FormField label="Road id" error={err(`roads.${i}.id`)}>
             <input className={INPUT} {...register(`roads.${i}.id`)} />
           </FormField>
           {lineSelect("Runs along line", `roads.${i}.line`, () => setValue(`roads.${i}.exit`, []))}
           <PickRoles label="Detectors along the road (first beyond the fouling point, last at its end)" name={`roads.${i}.exit`} options={detectorsOn(records, roadValues[i]?.line ?? "")} register={register} error={err(`roads.${i}.exit`)} />
-          <div className="sm:col-span-3">
-            <Button tone="danger" disabled={roads.fields.length <= 2} onClick={() => roads.remove(i)}>
-              Remove road {i + 1}
-            </Button>
-          </div>
         </fieldset>
       ))}
-      {kind === "facing-first-free" ? <Button onClick={() => roads.append({ id: `road${roads.fields.length + 1}`, line: facingLine, exit: [] })}>Add road</Button> : null}
       <SizeFields form={form} />
     </div>
   );

@@ -7,13 +7,13 @@ import type { ValidationError } from "../../../shared/rulebook/validate";
 import { toJsonPath } from "../../../shared/rulebook/validate";
 import { guessExit, guessRoad, guessRoute, type RoleRecords } from "../../lib/junctionRoles";
 
-export type JunctionKind = "converging-priority" | "converging-first-come" | "facing-points" | "facing-first-free";
+export type JunctionKind = "converging-priority" | "converging-first-come" | "facing-power" | "facing-hand";
 
 export const JUNCTION_KINDS: { id: JunctionKind; template: string; label: string; help: string }[] = [
   { id: "converging-priority", template: "converging-junction", label: "Converging, in priority order", help: "routes join one section; the priority route goes first whenever it has a train waiting" },
   { id: "converging-first-come", template: "converging-junction", label: "Converging, first come first served", help: "routes join one section; waiting routes take turns in the order their trains arrived" },
-  { id: "facing-first-free", template: "facing-junction", label: "Facing, first free road", help: "one signal before facing points; the rulebook picks the first free road" },
-  { id: "facing-points", template: "facing-junction", label: "Facing, set by the points", help: "one signal before hand-set facing points; the signal clears for the road the points lie for" },
+  { id: "facing-power", template: "facing-junction", label: "Facing, power-worked points", help: "one signal before facing points; the rulebook picks the first free road and throws the points" },
+  { id: "facing-hand", template: "facing-junction", label: "Facing, hand-worked points", help: "one signal before facing points set by a person; the signal clears for the road they lie for" },
 ];
 
 export interface RouteValues {
@@ -35,7 +35,7 @@ export interface JunctionValues {
   sectionLine: string;
   priority: string;
   routes: RouteValues[];
-  /** Facing: the line of the signal and its approach. */
+  /** Facing: the line of the signal and its approach; exactly two roads, the points' normal road first. */
   line: string;
   signal: string;
   approach: string[];
@@ -66,7 +66,7 @@ export function initialValues(records: RoleRecords & { lines: { id: string }[] }
   const routes = routeLines.map((line, i) => routeFor(records, line, first, lines.length >= 2 ? line : `route${i + 1}`, used));
   const facing = guessRoute(records, first);
   const entry = records.detectors.find((d) => d.id === facing.entry);
-  const roadLines = lines.length >= 2 ? lines.slice(0, 4) : [first, first];
+  const roadLines = lines.length >= 2 ? lines.slice(0, 2) : [first, first];
   return {
     kind,
     sectionLine: first,
@@ -102,7 +102,7 @@ export function optionsOf(v: JunctionValues): Record<string, unknown> {
     entry: v.entry,
     points: v.points,
     roads: v.roads.map((r) => ({ id: r.id, exit: list(r.exit) })),
-    choose: v.kind === "facing-points" ? "points" : "first-free",
+    worked: v.kind === "facing-hand" ? "hand" : "power",
     ...size,
   };
 }
