@@ -8,6 +8,7 @@
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
+import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";
 import { CSV_COLUMNS } from "./service";
 
@@ -79,6 +80,12 @@ export type ParsedLog = { ok: true; events: ImportedEvent[] } | { ok: false; err
 const lineError = (line: number, path: string, message: string): LineError => ({ path: path ? `line ${line}: ${path}` : `line ${line}`, message });
 
 function checkEvent(value: unknown, line: number, events: ImportedEvent[], errors: LineError[]): void {
+  // A NUL or absurd nesting would pass the schema and then fail in PostgreSQL (a 500).
+  const hostile = jsonBodyProblems(value);
+  if (hostile.length > 0) {
+    for (const problem of hostile) errors.push(lineError(line, problem.path.replace(/^\$\.?/, ""), problem.message));
+    return;
+  }
   const result = importedEventSchema.safeParse(value);
   if (result.success) events.push(result.data);
   else for (const issue of result.error.issues) errors.push(lineError(line, issue.path.map(String).join("."), issue.message));
