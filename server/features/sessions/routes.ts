@@ -6,7 +6,7 @@ import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
-import { findLayout } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
 import { REPORT_TABLES, reportCsv } from "./reportCsv";
 import { sessionReport } from "./reportService";
 import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
@@ -59,6 +59,7 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.post("/layouts/:slug/sessions/import", requirePermission("sessions.import"), oneLogFile, async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     if (!req.file) throw badRequest("attach the event log as the form field \"file\"");
     const { rulebookVersion } = parseWith(importFieldsSchema, req.body ?? {}, "form");
     const text = req.file.buffer.toString("utf8");
