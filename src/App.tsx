@@ -23,6 +23,8 @@ const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 const SessionsPage = lazy(() => import("./pages/SessionsPage"));
 const ReplayPage = lazy(() => import("./pages/ReplayPage"));
+const LayoutEditPage = lazy(() => import("./pages/LayoutEditPage"));
+const JunctionPage = lazy(() => import("./pages/JunctionPage"));
 const SetupPage = lazy(() => import("./pages/SetupPage"));
 const AccountPage = lazy(() => import("./pages/AccountPage"));
 const ForgotPasswordPage = lazy(() => import("./pages/ForgotPasswordPage"));
@@ -51,6 +53,8 @@ export function App() {
         >
           <Route index element={<LayoutsPage />} />
           <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
+          <Route path="layouts/:slug/edit" element={<LayoutEditPage />} />
+          <Route path="layouts/:slug/junction" element={<JunctionPage />} />
           <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
           <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
           <Route path="layouts/:slug/placement" element={<PlacementPage />} />
