@@ -23,6 +23,11 @@ export interface BusEvents {
   "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
   /** A layout's alarm settings changed (the watchers and the board roll call take them at once). */
   "alarm-settings.changed": [{ layoutId: number; slug: string; settings: AlarmSettings }];
+  /**
+   * Sign-in sessions ended (sign-out, a new password, a reset, a removed member), after the
+   * change is committed: live sockets opened with them are disconnected.
+   */
+  "auth.sessions-ended": [{ sessionId: string } | { userId: number; except?: string }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

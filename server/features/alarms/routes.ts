@@ -3,7 +3,7 @@ import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
-import { findLayout } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
 import { alarmSettingsPatchSchema } from "../../../shared/contract/alarmSettings";
 import { acknowledgeAlarm, listAlarms } from "./service";
 import { describeAlarmSettings, updateAlarmSettings } from "./settings";
@@ -34,6 +34,7 @@ export function alarmRoutes(deps: AppDeps): Router {
   router.put("/layouts/:slug/alarm-settings", requirePermission("alarm-settings.edit"), async (req, res) => {
     const patch = parseWith(alarmSettingsPatchSchema, req.body ?? {});
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     res.json(await updateAlarmSettings(deps, layout, patch, req.user!));
   });
 

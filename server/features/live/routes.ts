@@ -9,7 +9,7 @@ import { commandBodySchema } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { allowAnyone, requirePermission } from "../auth/middleware";
-import { findLayout } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
 import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
 
@@ -61,6 +61,7 @@ export function liveRoutes(deps: AppDeps): Router {
   router.post("/layouts/:slug/display-links", requirePermission("display-links.manage"), async (req, res) => {
     const { label } = parseWith(displayLinkBodySchema, req.body ?? {});
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     const { token, url } = await createDisplayLink(deps, layout.id, req.user!.id, label || null);
     res.status(201).json({ token, url });
   });

@@ -9,6 +9,7 @@
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
+import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";
 import { storeImportedChanges } from "./importReplay";
 import { csvLayout, csvRecords, flatRecord, jsonCellRecord } from "./eventCsv";
@@ -81,6 +82,12 @@ export type ParsedLog = { ok: true; events: ImportedEvent[] } | { ok: false; err
 const lineError = (line: number, path: string, message: string): LineError => ({ path: path ? `line ${line}: ${path}` : `line ${line}`, message });
 
 function checkEvent(value: unknown, line: number, events: ImportedEvent[], errors: LineError[], rename: Record<string, string> = {}): void {
+  // A NUL or absurd nesting would pass the schema and then fail in PostgreSQL (a 500).
+  const hostile = jsonBodyProblems(value);
+  if (hostile.length > 0) {
+    for (const problem of hostile) errors.push(lineError(line, problem.path.replace(/^\$\.?/, ""), problem.message));
+    return;
+  }
   const result = importedEventSchema.safeParse(value);
   if (result.success) events.push(result.data);
   else for (const issue of result.error.issues) errors.push(lineError(line, issue.path.map((p) => rename[String(p)] ?? String(p)).join("."), issue.message));

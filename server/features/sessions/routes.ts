@@ -8,18 +8,22 @@ import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
 import { ensureImportReplayed } from "./importReplay";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
-import { findLayout } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
 import { REPORT_TABLES, reportCsv } from "./reportCsv";
 import { sessionReport } from "./reportService";
 import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
 
+/** Event ids are bigint: a 19-digit id past its top would fail in PostgreSQL, not here. */
+const MAX_EVENT_ID = 9_223_372_036_854_775_807n;
+const eventIdText = z.string().regex(/^\d{1,19}$/, "an event id").refine((id) => BigInt(id) <= MAX_EVENT_ID, "an event id (at most 9223372036854775807)");
+
 const idText = z.string().regex(/^[A-Za-z0-9_-]{1,32}$/, "an id of letters, digits, _ or -");
 /** `format=json`: one page of the log table; the filters match the table's. */
 const pageQuerySchema = z.object({
   format: z.literal("json"),
-  after: z.string().regex(/^\d{1,19}$/, "an event id").default("0"),
+  after: eventIdText.default("0"),
   limit: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).default(100),
   kind: z.enum(["pulse", "tick", "status", "shown", "command", "message"]).optional(),
   status: z.enum(["accepted", "duplicate", "rejected"]).optional(),
@@ -57,6 +61,7 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.post("/layouts/:slug/sessions/import", requirePermission("sessions.import"), oneLogFile, async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     if (!req.file) throw badRequest("attach the event log as the form field \"file\"");
     const { rulebookVersion } = parseWith(importFieldsSchema, req.body ?? {}, "form");
     const text = req.file.buffer.toString("utf8");
