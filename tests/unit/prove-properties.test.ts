@@ -558,7 +558,7 @@ describe("the prover proves sound rulebooks", () => {
     expect(result.properties.every((p) => p.holds === null)).toBe(true);
   });
 
-  /** Big enough (over 100,000 states) that progress is reported several times. */
+  /** Big enough (over 100,000 states, reduced) that progress is reported several times. */
   const threeRoutesTwoTrains = (): Rulebook =>
     convergingJunction({
       routes: [
@@ -567,7 +567,7 @@ describe("the prover proves sound rulebooks", () => {
         { id: "goods", signal: "G1", approach: ["GA"], entry: "GE", exit: ["JX"] },
       ],
       order: "priority",
-      maxAxles: 2,
+      maxAxles: 4,
       maxTrainsPerRoute: 2,
     });
 
