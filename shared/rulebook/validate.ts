@@ -12,7 +12,7 @@
  * if (!result.ok) for (const e of result.errors) console.log(`${e.path}: ${e.message}`);
  */
 import type { z } from "zod";
-import { LAYOUT_FORMAT, layoutFileSchema, pointsWorking, type LayoutFile } from "../layout/schema";
+import { LAYOUT_FORMAT, layoutFileSchema, layoutRecordsSchema, pointsWorking, type LayoutFile, type LayoutRecords } from "../layout/schema";
 import { signalsMentioned } from "./mentions";
 import { ACTION_KINDS, CONDITION_KINDS, TRIGGER_KINDS, matchAction, matchCondition, matchTrigger } from "./kinds";
 import { ID_PATTERN, RULEBOOK_FORMAT, RULEBOOK_FORMAT_1, RULEBOOK_FORMAT_2, rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
@@ -24,6 +24,7 @@ export interface ValidationError {
 }
 
 export type LayoutValidation = { ok: true; layout: LayoutFile } | { ok: false; errors: ValidationError[] };
+export type LayoutRecordsValidation = { ok: true; records: LayoutRecords } | { ok: false; errors: ValidationError[] };
 export type RulebookValidation = { ok: true; rulebook: Rulebook } | { ok: false; errors: ValidationError[] };
 
 /** What a rulebook can be checked against when it belongs to a known layout. */
@@ -391,7 +392,8 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
   }
 }
 
-function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
+/** The records' own cross-references: ids unique, lines known, nodes serving what exists. */
+function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
   const lines = duplicates(layout.lines, "$.lines", "line", errors);
   const detectors = duplicates(layout.detectors, "$.detectors", "detector", errors);
   const signals = duplicates(layout.signals, "$.signals", "signal", errors);
@@ -429,20 +431,28 @@ function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
     node.signals.forEach((signal, index) => {
       if (!signals.has(signal)) errors.push({ path: `$.nodes[${nodeIndex}].signals[${index}]`, message: `unknown signal "${signal}"` });
     });
-    (node.points ?? []).forEach((points, index) => {
-      if (!pointsIds.has(points)) errors.push({ path: `$.nodes[${nodeIndex}].points[${index}]`, message: `unknown points "${points}"` });
+    (node.points ?? []).forEach((id, index) => {
+      if (!pointsIds.has(id)) errors.push({ path: `$.nodes[${nodeIndex}].points[${index}]`, message: `unknown points "${id}"` });
     });
   });
+}
 
+/** What a layout's records offer a rulebook to refer to. */
+export function rulebookContextOf(records: Pick<LayoutRecords, "detectors" | "signals"> & Partial<Pick<LayoutRecords, "points" | "nodes">>): RulebookContext {
+  return {
+    detectors: records.detectors.map((detector) => detector.id),
+    signals: records.signals.map((signal) => ({ id: signal.id, aspects: signal.aspects })),
+    points: records.points?.map((points) => ({ id: points.id, worked: pointsWorking(points) })),
+    reportedPoints: records.nodes?.flatMap((node) => node.points ?? []),
+  };
+}
+
+function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
+  checkRecords(layout, errors);
   checkRulebook(
     layout.rulebook,
     "$.rulebook",
-    {
-      detectors: layout.detectors.map((detector) => detector.id),
-      signals: layout.signals.map((signal) => ({ id: signal.id, aspects: signal.aspects })),
-      points: layout.points.map((points) => ({ id: points.id, worked: pointsWorking(points) })),
-      reportedPoints: layout.nodes.flatMap((node) => node.points ?? []),
-    },
+    rulebookContextOf(layout),
     errors,
   );
 }
@@ -464,6 +474,24 @@ export function validateLayoutFile(input: unknown): LayoutValidation {
   const errors: ValidationError[] = [];
   checkLayout(parsed.data, errors);
   return errors.length > 0 ? { ok: false, errors } : { ok: true, layout: parsed.data };
+}
+
+/**
+ * Checks a layout's records (a layout file without its rulebook, as `PUT /api/layouts/:slug`
+ * sends them) and lists every error, the same way as {@link validateLayoutFile}.
+ */
+export function validateLayoutRecords(input: unknown): LayoutRecordsValidation {
+  const parsed = layoutRecordsSchema.safeParse(input);
+  if (!parsed.success) {
+    const errors = shapeErrors(parsed.error);
+    const table = Object.fromEntries(Object.entries(LAYOUT_PLACEHOLDERS).filter(([key]) => !key.startsWith("rulebook")));
+    const salvaged = salvage(input, parsed.error, table, layoutRecordsSchema);
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (records, out) => checkRecords(records, out), errors));
+    return { ok: false, errors };
+  }
+  const errors: ValidationError[] = [];
+  checkRecords(parsed.data, errors);
+  return errors.length > 0 ? { ok: false, errors } : { ok: true, records: parsed.data };
 }
 
 /**
