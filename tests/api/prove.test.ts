@@ -46,6 +46,9 @@ function slowRulebook(): Rulebook {
   return rulebook;
 }
 
+/** Longest wait for a job that proves the full demo: the pool's own limit, and some. */
+const PROOF_WAIT_MS = 90_000;
+
 async function waitForJob(agent: Agent, jobId: string, until: (job: ProofJobDto) => boolean, timeoutMs = 20_000): Promise<ProofJobDto> {
   const deadline = Date.now() + timeoutMs;
   for (;;) {
@@ -92,7 +95,7 @@ describe("POST /api/prove", () => {
     expect(body.properties.every((p) => p.holds === true && p.counterexample === undefined)).toBe(true);
     expect(body.stats.states).toBeGreaterThan(0);
     expect(typeof body.stats.ms).toBe("number");
-  });
+  }, PROOF_WAIT_MS);
 
   it("refutes a copy whose approach rule clears both home signals, with a replayable counterexample", async () => {
     const file = brokenKestrelBank();
@@ -160,7 +163,10 @@ describe("proof jobs of stored versions", () => {
   });
 
   it("proves a draft to completion: the version becomes proved and keeps the proof", async () => {
-    const version = await saveDraft(engineer, kestrelBankLayout().rulebook);
+    const rulebook = structuredClone(kestrelBankLayout().rulebook);
+    // Short trains keep the job quick on a loaded machine; the full demo is proved above.
+    rulebook.proving = { ...rulebook.proving!, maxAxles: 2, maxTrainsPerRoute: 2 };
+    const version = await saveDraft(engineer, rulebook);
     const start = await engineer.post(`/api/layouts/kestrel-bank/rulebooks/${version}/proofs`);
     expect(start.status).toBe(202);
     const job = await waitForJob(viewer, start.body.jobId, hasEnded);
@@ -189,10 +195,11 @@ describe("proof jobs of stored versions", () => {
 
   it("never changes a published version's status", async () => {
     const start = await engineer.post("/api/layouts/kestrel-bank/rulebooks/1/proofs");
-    const job = await waitForJob(viewer, start.body.jobId, hasEnded);
+    // The published demo (8 axles × 2 trains a route): allow for the proof's own time limit.
+    const job = await waitForJob(viewer, start.body.jobId, hasEnded, PROOF_WAIT_MS);
     expect(job).toMatchObject({ state: "done", status: "published" });
     expect((await viewer.get("/api/layouts/kestrel-bank/rulebooks/1")).body.version.status).toBe("published");
-  });
+  }, PROOF_WAIT_MS + 10_000);
 
   it("cancels a running job: the worker stops, the verdict is unfinished and nothing is stored", async () => {
     const version = await saveDraft(engineer, slowRulebook());

@@ -47,6 +47,8 @@ export interface SpinOptions {
   optimise?: boolean;
   /** Expected number of states (e.g. from the plain search), to size pan's hash table and first depth. */
   states?: number;
+  /** Stop pan after this long (all its runs together); the report is then incomplete. */
+  timeoutMs?: number;
 }
 
 /**
@@ -67,13 +69,15 @@ export async function runSpin(model: string, options: SpinOptions = {}): Promise
     const expected = options.states ?? 0;
     const hashBits = Math.min(PAN_HASH_BITS_MAX, Math.max(PAN_HASH_BITS_MIN, Math.ceil(Math.log2(Math.max(1, expected) * 2))));
     let depth = Math.min(PAN_MAX_DEPTH, Math.max(PAN_FIRST_DEPTH, expected + 1));
+    const deadline = options.timeoutMs === undefined ? Infinity : Date.now() + options.timeoutMs;
     for (;;) {
-      // pan exits non-zero when it finds errors; its report is on stdout either way.
-      const result = await run("./pan", ["-c0", "-E", `-m${depth}`, `-w${hashBits}`], { cwd: dir, maxBuffer: 64 << 20 }).catch(
+      const timeout = deadline === Infinity ? 0 : Math.max(1, deadline - Date.now());
+      // pan exits non-zero when it finds errors (or is stopped); its report is on stdout either way.
+      const result = await run("./pan", ["-c0", "-E", `-m${depth}`, `-w${hashBits}`], { cwd: dir, maxBuffer: 64 << 20, timeout }).catch(
         (err: { stdout?: string; stderr?: string }) => ({ stdout: err.stdout ?? "", stderr: err.stderr ?? "" }),
       );
       const output = `${result.stdout}\n${result.stderr}`;
-      if (/max search depth too small/i.test(output) && depth < PAN_MAX_DEPTH) {
+      if (/max search depth too small/i.test(output) && depth < PAN_MAX_DEPTH && Date.now() < deadline) {
         depth = Math.min(PAN_MAX_DEPTH, depth * PAN_DEPTH_GROWTH);
         continue;
       }
