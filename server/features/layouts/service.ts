@@ -9,7 +9,7 @@ import { LAYOUT_FORMAT, type LayoutFile } from "../../../shared/layout/schema";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict, notFound } from "../../http/errors";
-import { hashSecret } from "../auth/service";
+import { hashNodeSecret } from "../../nodeSecret";
 import type { Layout } from "../../db/models";
 
 export async function findLayout(deps: AppDeps, slug: string): Promise<Layout> {
@@ -164,7 +164,7 @@ const SECRET_BYTES = 24;
 
 /**
  * Registers a board (or re-issues the secret of an existing one) and returns its MQTT
- * password once; only the bcrypt hash is kept.
+ * password once; only its SHA-256 digest is kept (server/nodeSecret.ts says why not bcrypt).
  */
 export async function registerNode(
   deps: AppDeps,
@@ -187,7 +187,7 @@ export async function registerNode(
   if (errors.length) throw new HttpError(400, "invalid_node", "the node names things this layout does not have", errors);
 
   const secret = randomBytes(SECRET_BYTES).toString("base64url");
-  const secretHash = await hashSecret(secret);
+  const secretHash = hashNodeSecret(secret);
   await deps.db.sequelize.query(
     `INSERT INTO nodes (layout_id, node_id, name, detectors, signals, secret_hash, position)
      VALUES (:layoutId, :id, :name, :detectors, :signals, :secretHash,
