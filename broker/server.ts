@@ -62,6 +62,13 @@ function connectError(message: string, returnCode: number): AuthenticateError {
   return err;
 }
 
+/** While an address is over its budget, one log line per this long, with the count refused. */
+const OVER_BUDGET_LOG_EVERY_MS = 10_000;
+/** A refused connection that never sends its CONNECT is dropped after this long. */
+const REFUSED_SOCKET_TIMEOUT_MS = 5_000;
+/** CONNACK with return code 3, session present 0 (MQTT 3.1.1 §3.2). */
+const CONNACK_SERVER_UNAVAILABLE = Buffer.from([0x20, 0x02, 0x00, SERVER_UNAVAILABLE]);
+
 export async function startBroker(options: StartBrokerOptions): Promise<RunningBroker> {
   const identities = new WeakMap<Client, BrokerIdentity>();
   const usernames = new WeakMap<Client, string>();
@@ -69,6 +76,21 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
   const limiter = new ConnectLimiter(options.connectLimits ?? DEFAULT_CONNECT_LIMITS);
   const maxPacketBytes = options.maxPacketBytes ?? MAX_PACKET_BYTES;
   const refuse = (refusal: BrokerRefusal) => options.onRefusal?.(refusal);
+  const overBudgetLog = new Map<string, { at: number; suppressed: number }>();
+  const refuseOverBudget = (socket: net.Socket, address: string, report: (suppressed: number) => void) => {
+    socket.on("error", () => {});
+    socket.setTimeout(REFUSED_SOCKET_TIMEOUT_MS, () => socket.destroy());
+    socket.once("data", () => socket.end(CONNACK_SERVER_UNAVAILABLE));
+    const now = Date.now();
+    const last = overBudgetLog.get(address);
+    if (last && now - last.at < OVER_BUDGET_LOG_EVERY_MS) {
+      last.suppressed++;
+      return;
+    }
+    if (overBudgetLog.size > 10_000) overBudgetLog.clear(); // many addresses: forget rather than grow without bound
+    overBudgetLog.set(address, { at: now, suppressed: 0 });
+    report(last?.suppressed ?? 0);
+  };
   const addressOf = (client: Client) => addresses.get(client.conn as unknown as Duplex) ?? "unknown";
 
   const broker = await Aedes.createBroker({
@@ -79,7 +101,6 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
         refuse({ what: "connect", clientId: client.id, username: user || null, address, reason });
         done(connectError(reason, returnCode), false);
       };
-      if (!limiter.take(address)) return refuseConnect("too many connect attempts from this address; try again shortly", SERVER_UNAVAILABLE);
       options
         .authenticate(user, password?.toString("utf8") ?? "")
         .then((identity) => {
@@ -124,6 +145,19 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
   // algorithm and the peer's delayed ACK: that alone adds ~40 ms per hop.
   const server = net.createServer({ noDelay: true }, (socket) => {
     const address = socket.remoteAddress ?? "unknown";
+    // Over its budget, an address gets CONNACK 3 from here: no aedes client, no database, no hash.
+    if (!limiter.take(address)) {
+      refuseOverBudget(socket, address, (suppressed) =>
+        refuse({
+          what: "connect",
+          clientId: "",
+          username: null,
+          address,
+          reason: `too many connect attempts from this address; refused without checking${suppressed ? ` (and ${suppressed} more in the last ${OVER_BUDGET_LOG_EVERY_MS / 1000} s)` : ""}`,
+        }),
+      );
+      return;
+    }
     const conn = limitPacketSize(socket, maxPacketBytes, (announced) => {
       const client = (conn as unknown as { client?: Client }).client;
       refuse({
