@@ -64,7 +64,7 @@ async function main(): Promise<void> {
   const db: Database = await openDatabase(databaseUrl);
   cleanups.push(() => db.close());
 
-  const deps: AppDeps = { config, db, logger, bus: new Bus() };
+  const deps: AppDeps = { config, db, logger, bus: new Bus(logger) };
   if (config.demo) {
     const seeded = await seedDemo(deps);
     logger.info(seeded, "demo data ready (Fernmoor Garden Railway Society)");
