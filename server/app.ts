@@ -49,7 +49,9 @@ export const API_ROUTERS: ApiRouterFactory[] = [
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {
   const app = express();
   app.disable("x-powered-by");
-  app.set("trust proxy", "loopback");
+  // Only when told (TRUST_PROXY): trusting loopback by default let anyone on the machine pick
+  // their address with X-Forwarded-For and step round the sign-in limit.
+  if (deps.config.trustProxy !== null) app.set("trust proxy", deps.config.trustProxy);
   app.use(
     helmet({
       contentSecurityPolicy: {
