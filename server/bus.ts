@@ -15,8 +15,8 @@ export interface BusEvents {
   "layout.nodes-changed": [{ layoutId: number; slug: string }];
   /** A committed step of a layout's live pipeline, to push to its room. */
   "live.update": [LiveUpdate];
-  /** An alarm was raised, acknowledged or cleared. */
-  "alarm.changed": [AlarmDto & { slug: string; layoutId: number }];
+  /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
+  "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

@@ -8,6 +8,7 @@ import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
 import * as importedSessions from "./migrations/003-imported-sessions";
 import * as nodeSecretDigests from "./migrations/005-node-secret-digests";
+import * as groupedAlarms from "./migrations/009-grouped-alarms";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -21,6 +22,7 @@ const MIGRATIONS = [
   { name: "002-live", ...live },
   { name: "003-imported-sessions", ...importedSessions },
   { name: "005-node-secret-digests", ...nodeSecretDigests },
+  { name: "009-grouped-alarms", ...groupedAlarms },
 ];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {

@@ -516,14 +516,13 @@ export class LayoutRunner {
       if (item.retain && before && before.online === p.online && before.boot === (p.boot ?? null)) return;
       const live: NodeLiveDto = { online: p.online, since: iso(at), boot: p.boot ?? null, fw: p.fw ?? null };
       this.nodeLive.set(result.node, live);
-      const index = this.record(
+      // node-offline alarms are the watchers' (features/alarms/watchers.ts), after their delay.
+      this.record(
         batch,
         effects,
         this.newEvent({ kind: "status", status: "accepted", node: result.node, boot: p.boot ?? null, receivedAt: at, topic: item.topic, input: p }),
         { nodes: Object.fromEntries(this.nodeLive) },
       );
-      if (!p.online) effects.alarms.push({ kind: "node-offline", subject: result.node, message: `node "${result.node}" went offline`, eventIndex: index });
-      else effects.clears.push({ kind: "node-offline", subject: result.node });
       return;
     }
     // Lamp proving: the board reports what it shows; it must be what we last commanded.
