@@ -13,7 +13,7 @@ import { loadUser } from "./features/auth/middleware";
 import { healthRoutes } from "./features/health";
 import { layoutRoutes } from "./features/layouts/routes";
 import { rulebookRoutes } from "./features/rulebooks/routes";
-import { simulateRoutes } from "./features/simulate/routes";
+import { SIMULATE_PATH, simulateRoutes } from "./features/simulate/routes";
 import { alarmRoutes } from "./features/alarms/routes";
 import { liveRoutes } from "./features/live/routes";
 import { sessionRoutes } from "./features/sessions/routes";
@@ -22,9 +22,10 @@ import { auditRoutes } from "./features/audit/routes";
 import { displayRoutes } from "./features/display/routes";
 import { mailRoutes } from "./features/mail/routes";
 import { memberRoutes } from "./features/members/routes";
+import { jsonDepthLimit } from "./http/bounds";
 import { errorHandler, notFoundApi } from "./http/errors";
 
-/** Layout files with large schematics and simulator input lists stay well under this. */
+/** Layout files with large schematics stay well under this (the simulator has its own limit). */
 const JSON_BODY_LIMIT = "5mb";
 
 export type ApiRouterFactory = (deps: AppDeps) => express.Router;
@@ -67,7 +68,10 @@ export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []):
     }),
   );
   app.use(cookieParser());
-  app.use(express.json({ limit: JSON_BODY_LIMIT }));
+  // The simulator's body goes to its worker unparsed (features/simulate/routes.ts).
+  const json = express.json({ limit: JSON_BODY_LIMIT });
+  app.use((req, res, next) => (req.path === SIMULATE_PATH ? next() : json(req, res, next)));
+  app.use(jsonDepthLimit);
 
   const api = express.Router();
   api.use(loadUser(deps));

@@ -8,6 +8,7 @@
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
+import { findNul, findTooDeep, MAX_JSON_DEPTH } from "../../http/bounds";
 import { badRequest, HttpError } from "../../http/errors";
 import { CSV_COLUMNS } from "./service";
 
@@ -79,6 +80,12 @@ export type ParsedLog = { ok: true; events: ImportedEvent[] } | { ok: false; err
 const lineError = (line: number, path: string, message: string): LineError => ({ path: path ? `line ${line}: ${path}` : `line ${line}`, message });
 
 function checkEvent(value: unknown, line: number, events: ImportedEvent[], errors: LineError[]): void {
+  // Checked before the schema: text with a NUL cannot be stored (PostgreSQL refuses it), and
+  // `input` is free-form JSON that could otherwise be nested deep enough to overflow the check.
+  const nul = findNul(value);
+  if (nul) return void errors.push(lineError(line, nul.replace(/^\$\.?/, ""), "contains a NUL character, which cannot be stored"));
+  const deep = findTooDeep(value);
+  if (deep) return void errors.push(lineError(line, deep.replace(/^\$\.?/, ""), `nested deeper than ${MAX_JSON_DEPTH} levels`));
   const result = importedEventSchema.safeParse(value);
   if (result.success) events.push(result.data);
   else for (const issue of result.error.issues) errors.push(lineError(line, issue.path.map(String).join("."), issue.message));

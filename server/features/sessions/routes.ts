@@ -3,6 +3,7 @@ import { Router, type RequestHandler } from "express";
 import multer from "multer";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
+import { eventIdText } from "../../http/bounds";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
@@ -15,7 +16,7 @@ const idText = z.string().regex(/^[A-Za-z0-9_-]{1,32}$/, "an id of letters, digi
 /** `format=json`: one page of the log table; the filters match the table's. */
 const pageQuerySchema = z.object({
   format: z.literal("json"),
-  after: z.string().regex(/^\d{1,19}$/, "an event id").default("0"),
+  after: eventIdText.default("0"),
   limit: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).default(100),
   kind: z.enum(["pulse", "tick", "status", "shown", "command", "message"]).optional(),
   status: z.enum(["accepted", "duplicate", "rejected"]).optional(),
