@@ -8,7 +8,6 @@
 import type { Worker } from "node:worker_threads";
 import { HttpError } from "../../http/errors";
 import { startTsWorker } from "../../workers/tsWorker";
-import type { SimulationReply } from "./simulation";
 import type { SimulationRequest, SimulationResponse } from "./worker";
 
 export const SIMULATE_MAX_MS = 10_000;
@@ -18,29 +17,38 @@ export const SIMULATE_WORKER_HEAP_MB = 512;
 
 const WORKER_URL = new URL("./worker.ts", import.meta.url).href;
 
+/** The status and the UTF-8 JSON body of a reply, ready to write out. */
+export interface SimulationResult {
+  status: number;
+  body: Uint8Array;
+}
+
 interface Job {
   id: number;
   body: Uint8Array;
-  resolve(reply: SimulationReply): void;
+  maxMs: number;
+  resolve(reply: SimulationResult): void;
   reject(err: Error): void;
 }
 
 export class SimulationRunner {
   private worker: Worker | null = null;
-  private current: (Job & { timer: NodeJS.Timeout }) | null = null;
+  private workerReady = false;
+  private current: (Job & { timer: NodeJS.Timeout | null }) | null = null;
   private readonly waiting: Job[] = [];
   private nextId = 1;
   private closed = false;
 
   constructor(private readonly options: { maxMs?: number } = {}) {}
 
-  run(body: Uint8Array): Promise<SimulationReply> {
+  run(body: Uint8Array, options: { maxMs?: number } = {}): Promise<SimulationResult> {
     if (this.closed) return Promise.reject(new HttpError(503, "unavailable", "the server is stopping"));
     if (this.waiting.length >= SIMULATE_MAX_WAITING) {
       return Promise.reject(new HttpError(503, "simulations_busy", "too many simulations are waiting; try again shortly"));
     }
-    return new Promise<SimulationReply>((resolve, reject) => {
-      this.waiting.push({ id: this.nextId++, body, resolve, reject });
+    return new Promise<SimulationResult>((resolve, reject) => {
+      const maxMs = options.maxMs ?? this.options.maxMs ?? SIMULATE_MAX_MS;
+      this.waiting.push({ id: this.nextId++, body, maxMs, resolve, reject });
       this.next();
     });
   }
@@ -49,23 +57,36 @@ export class SimulationRunner {
     if (this.current || this.closed) return;
     const job = this.waiting.shift();
     if (!job) return;
-    const worker = this.ensureWorker();
-    const maxMs = this.options.maxMs ?? SIMULATE_MAX_MS;
-    const timer = setTimeout(() => {
+    this.current = { ...job, timer: null };
+    const { worker, ready } = this.ensureWorker();
+    if (ready) this.send(worker, this.current);
+  }
+
+  /** Posts the current job and starts its clock (once the worker has loaded). */
+  private send(worker: Worker, job: Job & { timer: NodeJS.Timeout | null }): void {
+    const { maxMs } = job;
+    job.timer = setTimeout(() => {
       this.discardWorker();
       this.finish(job.id, null, new HttpError(503, "simulation_timeout", `the simulation took longer than ${maxMs / 1000} s; simulate fewer inputs`));
     }, maxMs);
-    this.current = { ...job, timer };
     // The body's bytes move to the worker rather than being copied.
     const copy = new Uint8Array(job.body);
     worker.postMessage({ id: job.id, body: copy } satisfies SimulationRequest, [copy.buffer]);
   }
 
-  private ensureWorker(): Worker {
-    if (this.worker) return this.worker;
+  private ensureWorker(): { worker: Worker; ready: boolean } {
+    if (this.worker) return { worker: this.worker, ready: this.workerReady };
     const worker = startTsWorker(WORKER_URL, { resourceLimits: { maxOldGenerationSizeMb: SIMULATE_WORKER_HEAP_MB } });
+    this.workerReady = false;
     worker.unref(); // an idle simulation worker must not keep the process alive
-    worker.on("message", (response: SimulationResponse) => this.finish(response.id, { status: response.status, json: response.json }));
+    worker.on("message", (response: SimulationResponse) => {
+      if (response.type === "ready") {
+        this.workerReady = true;
+        if (this.current && this.current.timer === null && this.worker === worker) this.send(worker, this.current);
+        return;
+      }
+      this.finish(response.id, { status: response.status, body: response.body });
+    });
     worker.on("error", (err) => {
       if (this.worker !== worker) return; // a worker already discarded after a timeout
       const outOfMemory = (err as NodeJS.ErrnoException).code === "ERR_WORKER_OUT_OF_MEMORY";
@@ -80,13 +101,13 @@ export class SimulationRunner {
       if (this.current) this.finish(this.current.id, null, new HttpError(500, "internal", "the simulation worker stopped"));
     });
     this.worker = worker;
-    return worker;
+    return { worker, ready: false };
   }
 
-  private finish(id: number, reply: SimulationReply | null, err?: Error): void {
+  private finish(id: number, reply: SimulationResult | null, err?: Error): void {
     const job = this.current;
     if (!job || job.id !== id) return;
-    clearTimeout(job.timer);
+    if (job.timer) clearTimeout(job.timer);
     this.current = null;
     if (reply) job.resolve(reply);
     else job.reject(err ?? new Error("the simulation failed"));

@@ -18,8 +18,12 @@ import { zodDetails } from "../../http/errors";
 export const MAX_EVENTS = 100_000;
 export const MAX_RULES = 1_000;
 export const MAX_DECLARED = 256;
-/** Steps × (latches + counters + selectors + signals + 1): about 15 MB of reply at most. */
-export const MAX_OUTPUT_CELLS = 1_000_000;
+/**
+ * Steps × (latches + counters + selectors + signals + 1). A step of the demo junction is about
+ * 500 bytes of JSON (8 cells), so this keeps a reply near 20 MB: the main thread only writes it
+ * out, but a socket still has to carry it.
+ */
+export const MAX_OUTPUT_CELLS = 300_000;
 
 /** Times may be ISO 8601 strings (the contract's form) or milliseconds. */
 const timeSchema = z.union([z.number().finite().min(0).max(8.64e15), z.iso.datetime({ offset: true }).transform((s) => Date.parse(s))]);
