@@ -23,6 +23,8 @@ import { displayRoutes } from "./features/display/routes";
 import { mailRoutes } from "./features/mail/routes";
 import { memberRoutes } from "./features/members/routes";
 import { jsonDepthLimit } from "./http/bounds";
+import { templateRoutes } from "./features/templates/routes";
+import { setupRoutes } from "./features/setup/routes";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics stay well under this (the simulator has its own limit). */
@@ -45,6 +47,8 @@ export const API_ROUTERS: ApiRouterFactory[] = [
   displayRoutes,
   mailRoutes,
   memberRoutes,
+  templateRoutes,
+  setupRoutes,
 ];
 
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {

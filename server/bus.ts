@@ -8,21 +8,33 @@
  * unhandled rejection. Listeners are registered per owner, and `removeOwner(owner)` removes
  * all of one owner's listeners together, so anything that subscribes can be stopped.
  */
+import type { AlarmSettings } from "../shared/contract/alarmSettings";
 import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
 
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];
   "layout.nodes-changed": [{ layoutId: number; slug: string }];
+  /** The records (lines, detectors, signals, points, nodes, schematic) were saved. */
+  "layout.records-changed": [{ layoutId: number; slug: string; revision: number }];
+  /** An admin archived a layout: it must stop running live (the live runtime listens). */
+  "layout.archived": [{ layoutId: number; slug: string }];
+  /** An archived layout was restored: it runs live again if it has a published rulebook. */
+  "layout.restored": [{ layoutId: number; slug: string }];
+  /** A published version's proof was refuted (the alarm is raised when it is the live one). */
+  "rulebook.refuted": [{ layoutId: number; slug: string; version: number; live: boolean }];
   /** A committed step of a layout's live pipeline, to push to its room. */
   "live.update": [LiveUpdate];
   /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
   "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
+  /** A layout's alarm settings changed (the watchers and the board roll call take them at once). */
+  "alarm-settings.changed": [{ layoutId: number; slug: string; settings: AlarmSettings }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }
 
 export type BusEvent = keyof BusEvents;
-export type BusListener<K extends BusEvent> = (...args: BusEvents[K]) => void | Promise<unknown>;
+/** May return anything; a returned promise that rejects is logged like a throw. */
+export type BusListener<K extends BusEvent> = (...args: BusEvents[K]) => unknown;
 
 /** What the bus needs of a logger (pino's shape). */
 export interface BusLogger {

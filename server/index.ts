@@ -16,8 +16,12 @@ import { attachLiveSocket } from "./features/live/socket";
 import { attachProofSocket } from "./features/prove/socket";
 import { closeProofJobs } from "./features/prove/service";
 import { startAlarmWatchers } from "./features/alarms/watchRunner";
+import { startBoardRollCall } from "./features/alarms/boardRollCall";
+import { allStoredAlarmSettings } from "./features/alarms/settings";
 import { startAlarmMail } from "./features/mail/alarmMail";
 import { startMailer } from "./features/mail/service";
+import { setupBannerLines } from "./features/setup/announce";
+import { prepareSetupToken } from "./features/setup/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
 import { stopWhenLauncherGoes } from "./parentWatch";
@@ -89,8 +93,14 @@ async function main(): Promise<void> {
   cleanups.push(() => deps.mail!.close());
   logger.info({ mail: deps.mail.describe() }, "mail ready");
   const alarmMail = startAlarmMail(deps);
-  const watchers = startAlarmWatchers(deps);
+  // Each layout's alarm settings at start, and every change from the settings page at once.
+  const watchers = startAlarmWatchers(deps, { layoutSettings: await allStoredAlarmSettings(deps) });
+  const onSettings = ({ slug, settings }: { slug: string; settings: Parameters<typeof watchers.setSettings>[1] }) => watchers.setSettings(slug, settings);
+  deps.bus.on("alarm-settings.changed", onSettings);
+  const rollCall = startBoardRollCall(deps);
   cleanups.push(async () => {
+    deps.bus.off("alarm-settings.changed", onSettings);
+    rollCall.stop();
     await watchers.stop();
     alarmMail.stop();
   });
@@ -113,7 +123,8 @@ async function main(): Promise<void> {
   logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
   // Under the launcher, the launcher prints the one banner people should read.
   if (!process.env.BLOCKLIGHT_SUPERVISED) {
-    process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);
+    const setup = setupBannerLines(url, await prepareSetupToken(deps), config.dataDir);
+    process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n${setup.map((l) => l + "\n").join("")}\n`);
   }
 }
 

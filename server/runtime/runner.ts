@@ -329,6 +329,13 @@ export class LayoutRunner {
     this.abandon();
   }
 
+  /** Taken out of service (the layout was archived): every signal to danger, then a clean stop. */
+  async retire(reason: string): Promise<void> {
+    await this.idle();
+    this.failSafe(reason);
+    await this.stop();
+  }
+
   /** Crash: drop the queue and timers at once, acknowledging nothing more. */
   abandon(): void {
     this.stopped = true;

@@ -20,7 +20,7 @@ import { configFromEnv } from "../../server/config";
 import { openDatabase } from "../../server/db/database";
 import { freePort, startEmbeddedPostgres } from "../../server/db/embeddedPostgres";
 import type { AppDeps } from "../../server/deps";
-import { hashSecret, SESSION_COOKIE, signSession } from "../../server/features/auth/service";
+import { hashSecret, SESSION_COOKIE, startSession } from "../../server/features/auth/service";
 import { importLayout, registerNode } from "../../server/features/layouts/service";
 import { MAX_EVENTS, MAX_OUTPUT_CELLS } from "../../server/features/simulate/simulation";
 import { createLogger } from "../../server/logger";
@@ -135,7 +135,7 @@ export async function run(report: Report): Promise<void> {
     const events = Array.from({ length: inputs }, (_, i) => ({ type: "pulse", detector: ["MA", "MA", "ME", "ME", "JX", "JX"][i % 6], at: i * 500 }));
     const bodyFile = path.join(dataDir, "simulation.json");
     fs.writeFileSync(bodyFile, JSON.stringify({ layout, events }));
-    const cookie = `${SESSION_COOKIE}=${signSession({ id: viewer.id, role: "viewer" }, config.sessionSecret)}`;
+    const cookie = `${SESSION_COOKIE}=${(await startSession(deps, viewer)).token}`;
     const viewerProcess = spawn(process.execPath, ["--import", "tsx", "tests/bench/simulateViewer.ts", `${baseUrl}/api/simulate`, cookie, bodyFile], {
       stdio: ["ignore", "pipe", "inherit"],
     });

@@ -7,6 +7,7 @@ import { Button } from "../../ui/Button";
 import { ErrorList } from "../../ui/ErrorList";
 import { DeclarationTables } from "./DeclarationTables";
 import { FieldErrors, errorsUnder } from "./fields";
+import { ProvingEditor } from "./ProvingEditor";
 import { RuleEditor } from "./RuleEditor";
 
 interface RuleFormEditorProps {
@@ -14,12 +15,15 @@ interface RuleFormEditorProps {
   value: Rulebook;
   context: RulebookContext;
   onChange: (next: Rulebook) => void;
+  /** Train length (axles) for a new proving section; from the placement page's longest train. */
+  defaultAxles?: number;
 }
 
 function triggerSummary(trigger: unknown): string {
   if (trigger === "standing") return "standing";
   if (trigger !== null && typeof trigger === "object") {
     if ("pass" in trigger) return `pass ${String(trigger.pass)}`;
+    if ("moved" in trigger) return `${String(trigger.moved)} moved`;
     if ("quiet" in trigger && "ms" in trigger) return `${String(trigger.quiet)} quiet ${String(trigger.ms)} ms`;
   }
   return "(see JSON)";
@@ -35,7 +39,7 @@ function sentence(rule: Rule): string {
 }
 
 const RULE_FIELDS = ["id", "note", "on", "if", "do"];
-const PLACED = /^\$\.(rules\[\d+\]|(latches|counters|selectors|initial)[.[])/;
+const PLACED = /^\$\.(rules\[\d+\]|(latches|counters|selectors|initial)[.[]|proving)/;
 
 /** The declared names the selects offer. */
 function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
@@ -45,6 +49,7 @@ function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
     selectors: Object.entries(rulebook.selectors).map(([name, s]) => ({ name, values: Array.isArray(s?.values) ? s.values : [] })),
     signals: context.signals,
     detectors: context.detectors,
+    points: context.points ?? [],
   };
 }
 
@@ -53,7 +58,7 @@ function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
  * openable into its own editor. Selects offer only declared names; the whole draft is still
  * validated after every edit and each problem is shown beside the rule or field it is about.
  */
-export function RuleFormEditor({ value, context, onChange }: RuleFormEditorProps) {
+export function RuleFormEditor({ value, context, onChange, defaultAxles = 2 }: RuleFormEditorProps) {
   const [open, setOpen] = useState<number | null>(null);
   const errors: ValidationError[] = useMemo(() => {
     const result = validateRulebookFile(value, context);
@@ -160,7 +165,7 @@ export function RuleFormEditor({ value, context, onChange }: RuleFormEditorProps
         <Button onClick={addRule}>Add rule</Button>
       </section>
 
-      {value.proving !== undefined ? <p className="text-sm text-ink-faint">The proving section (routes, conflicts, priority) is kept as it is; change it in the JSON tab.</p> : null}
+      <ProvingEditor rulebook={value} context={context} errors={errors} defaultAxles={defaultAxles} onChange={onChange} />
       <ErrorList errors={unplaced} title="Other problems in the draft" />
     </div>
   );
