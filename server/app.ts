@@ -13,7 +13,7 @@ import { loadUser } from "./features/auth/middleware";
 import { healthRoutes } from "./features/health";
 import { layoutRoutes } from "./features/layouts/routes";
 import { rulebookRoutes } from "./features/rulebooks/routes";
-import { simulateRoutes } from "./features/simulate/routes";
+import { SIMULATE_PATH, simulateRoutes } from "./features/simulate/routes";
 import { alarmRoutes } from "./features/alarms/routes";
 import { liveRoutes } from "./features/live/routes";
 import { sessionRoutes } from "./features/sessions/routes";
@@ -27,7 +27,7 @@ import { setupRoutes } from "./features/setup/routes";
 import { guardJsonBody } from "./http/bodyGuard";
 import { errorHandler, notFoundApi } from "./http/errors";
 
-/** Layout files with large schematics and simulator input lists stay well under this. */
+/** Layout files with large schematics stay well under this (the simulator has its own limit). */
 const JSON_BODY_LIMIT = "5mb";
 
 export type ApiRouterFactory = (deps: AppDeps) => express.Router;
@@ -54,7 +54,9 @@ export const API_ROUTERS: ApiRouterFactory[] = [
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {
   const app = express();
   app.disable("x-powered-by");
-  app.set("trust proxy", "loopback");
+  // Only when told (TRUST_PROXY): trusting loopback by default let anyone on the machine pick
+  // their address with X-Forwarded-For and step round the sign-in limit.
+  if (deps.config.trustProxy !== null) app.set("trust proxy", deps.config.trustProxy);
   app.use(
     helmet({
       contentSecurityPolicy: {
@@ -70,7 +72,9 @@ export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []):
     }),
   );
   app.use(cookieParser());
-  app.use(express.json({ limit: JSON_BODY_LIMIT }));
+  // The simulator's body goes to its worker unparsed (features/simulate/routes.ts).
+  const json = express.json({ limit: JSON_BODY_LIMIT });
+  app.use((req, res, next) => (req.path === SIMULATE_PATH ? next() : json(req, res, next)));
   app.use(guardJsonBody);
 
   const api = express.Router();

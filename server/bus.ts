@@ -1,8 +1,13 @@
 /**
  * The server's typed event bus: joins features without them importing each other
  * (e.g. publishing a rulebook tells the live runtime to load it).
+ *
+ * Every listener is guarded: one that throws, or returns a promise that rejects, is logged
+ * with its owner's name and the event, and the emitter and the other listeners carry on. A
+ * broken subscriber (a socket push, a mail sender) must never fault a layout or escape as an
+ * unhandled rejection. Listeners are registered per owner, and `removeOwner(owner)` removes
+ * all of one owner's listeners together, so anything that subscribes can be stopped.
  */
-import { EventEmitter } from "node:events";
 import type { AlarmSettings } from "../shared/contract/alarmSettings";
 import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
 
@@ -32,4 +37,84 @@ export interface BusEvents {
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }
 
-export class Bus extends EventEmitter<BusEvents> {}
+export type BusEvent = keyof BusEvents;
+/** May return anything; a returned promise that rejects is logged like a throw. */
+export type BusListener<K extends BusEvent> = (...args: BusEvents[K]) => unknown;
+
+/** What the bus needs of a logger (pino's shape). */
+export interface BusLogger {
+  error(fields: object, message: string): void;
+}
+
+/** The owner of listeners registered without one. */
+export const UNNAMED_OWNER = "unnamed";
+
+interface Registration {
+  owner: string;
+  listener: BusListener<never>;
+}
+
+/** Used when no logger is given: the failure still shows, on stderr. */
+const stderrLogger: BusLogger = {
+  error: (fields, message) => process.stderr.write(`${message} ${JSON.stringify(fields, (_k, v: unknown) => (v instanceof Error ? v.stack : v))}\n`),
+};
+
+export class Bus {
+  private readonly listeners = new Map<BusEvent, Registration[]>();
+
+  constructor(private readonly logger: BusLogger = stderrLogger) {}
+
+  /** Registers `listener` for `event` on behalf of `owner` (a feature's name, used in logs). */
+  on<K extends BusEvent>(event: K, listener: BusListener<K>, owner: string = UNNAMED_OWNER): this {
+    const list = this.listeners.get(event) ?? [];
+    list.push({ owner, listener: listener as BusListener<never> });
+    this.listeners.set(event, list);
+    return this;
+  }
+
+  off<K extends BusEvent>(event: K, listener: BusListener<K>): this {
+    const list = this.listeners.get(event);
+    if (!list) return this;
+    const index = list.findIndex((r) => r.listener === (listener as BusListener<never>));
+    if (index >= 0) list.splice(index, 1);
+    return this;
+  }
+
+  /** Removes every listener `owner` registered, on every event. */
+  removeOwner(owner: string): void {
+    for (const [event, list] of this.listeners) {
+      this.listeners.set(
+        event,
+        list.filter((r) => r.owner !== owner),
+      );
+    }
+  }
+
+  listenerCount(event: BusEvent, owner?: string): number {
+    return (this.listeners.get(event) ?? []).filter((r) => owner === undefined || r.owner === owner).length;
+  }
+
+  /** Calls every listener of `event` in order; true if there was any. Never throws for a listener. */
+  emit<K extends BusEvent>(event: K, ...args: BusEvents[K]): boolean {
+    const list = this.listeners.get(event);
+    if (!list || list.length === 0) return false;
+    // A listener that removes itself (or its owner) must not make the next one be skipped.
+    for (const { owner, listener } of [...list]) {
+      try {
+        const result = (listener as BusListener<K>)(...args) as unknown;
+        if (result instanceof Promise) result.catch((err: unknown) => this.failed(owner, event, err));
+      } catch (err) {
+        this.failed(owner, event, err);
+      }
+    }
+    return true;
+  }
+
+  private failed(owner: string, event: BusEvent, err: unknown): void {
+    try {
+      this.logger.error({ err, owner, event }, `bus listener of ${owner} failed on ${event}; the others carry on`);
+    } catch {
+      // A failing logger must not undo the isolation.
+    }
+  }
+}

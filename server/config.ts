@@ -25,6 +25,12 @@ export interface AppConfig {
   serveClient: boolean;
   /** Cookies marked Secure only when served over HTTPS by a proxy. */
   secureCookies: boolean;
+  /**
+   * Express's `trust proxy` (TRUST_PROXY): unset = trust no proxy, so a client's own
+   * X-Forwarded-For never changes the address the sign-in limit counts. A number of hops, or
+   * addresses/subnets such as `loopback` or `10.0.0.1`, when a reverse proxy is in front.
+   */
+  trustProxy: number | string | null;
   /** Sign-in attempts allowed per address per window. */
   loginLimitPerWindow: number;
   loginWindowMs: number;
@@ -35,6 +41,11 @@ function intFrom(value: string | undefined, fallback: number, name: string): num
   const n = Number(value);
   if (!Number.isInteger(n) || n < 0 || n > 65535) throw new Error(`${name} must be a whole number from 0 to 65535, got "${value}"`);
   return n;
+}
+
+function trustProxyFrom(value: string | undefined): number | string | null {
+  if (value === undefined || value.trim() === "") return null;
+  return /^\d+$/.test(value.trim()) ? Number(value.trim()) : value.trim();
 }
 
 export function configFromEnv(env: NodeJS.ProcessEnv = process.env, defaults: { demo?: boolean } = {}): AppConfig {
@@ -54,6 +65,7 @@ export function configFromEnv(env: NodeJS.ProcessEnv = process.env, defaults: { 
     serverMqttPassword: env.SERVER_MQTT_PASSWORD ?? "",
     serveClient: true,
     secureCookies: env.SECURE_COOKIES === "on",
+    trustProxy: trustProxyFrom(env.TRUST_PROXY),
     loginLimitPerWindow: intFrom(env.LOGIN_LIMIT, 10, "LOGIN_LIMIT"),
     loginWindowMs: 60_000,
   };

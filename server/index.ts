@@ -70,7 +70,7 @@ async function main(): Promise<void> {
   const db: Database = await openDatabase(databaseUrl);
   cleanups.push(() => db.close());
 
-  const deps: AppDeps = { config, db, logger, bus: new Bus() };
+  const deps: AppDeps = { config, db, logger, bus: new Bus(logger) };
   // Under the launcher the demo is already seeded (and said so) before any child starts.
   if (config.demo && !process.env.BLOCKLIGHT_SUPERVISED) {
     const seeded = await seedDemo(deps);

@@ -37,7 +37,7 @@ export class MqttBoards {
             const statusTopic = topics.status(layout, board.node);
             const client = mqtt.connect(brokerUrl, {
               protocolVersion: 4,
-              clientId: `fake-${layout}-${board.node}`.slice(0, 64),
+              clientId: `${layout}.${board.node}`, // CONTRACT.md §2, board duty 1: the broker refuses any other
               username: board.node,
               password: secrets[board.node],
               clean: true,

@@ -56,6 +56,11 @@ export const guardJsonBody: RequestHandler = (req, _res, next) => {
   const body: unknown = req.body;
   if (typeof body !== "object" || body === null) return next();
   const problems = jsonBodyProblems(body);
-  if (problems.length > 0) return next(new HttpError(400, "invalid_input", "the request body holds values the server cannot store", problems));
-  next();
+  if (problems.length === 0) return next();
+  const tooDeep = problems.every((p) => p.message.startsWith("is nested too deeply"));
+  next(
+    tooDeep
+      ? new HttpError(400, "too_deep", `the request body is nested deeper than ${MAX_JSON_DEPTH} levels`, problems)
+      : new HttpError(400, "invalid_input", "the request body holds values the server cannot store", problems),
+  );
 };

@@ -51,6 +51,7 @@ export function errorHandler(logger: Logger): ErrorRequestHandler {
     const status = typeof err?.status === "number" && err.status >= 400 && err.status < 500 ? err.status : 500;
     if (status === 500) logger.error({ err }, "unhandled error in a request");
     const message = status === 500 ? "internal error" : String(err?.message ?? "bad request");
-    res.status(status).json({ error: { code: status === 500 ? "internal" : "bad_request", message } });
+    const code = status === 500 ? "internal" : status === 413 ? "too_large" : "bad_request";
+    res.status(status).json({ error: { code, message } });
   };
 }

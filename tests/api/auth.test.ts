@@ -6,7 +6,8 @@ import { startTestApp, type TestApp } from "../support/testApp";
 describe("sign-in", () => {
   let t: TestApp;
   beforeAll(async () => {
-    t = await startTestApp({ config: { loginLimitPerWindow: 5 } });
+    // Behind a proxy on loopback, so X-Forwarded-For gives the rate-limit test an address of its own.
+    t = await startTestApp({ config: { loginLimitPerWindow: 5, trustProxy: "loopback" } });
   });
   afterAll(() => t.close());
 

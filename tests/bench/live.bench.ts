@@ -120,7 +120,7 @@ export async function run(report: Report): Promise<void> {
     const mqttUrl = `mqtt://127.0.0.1:${mqttPort}`;
     for (let tries = 0; ; tries++) {
       try {
-        await (await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, reconnectPeriod: 0 })).endAsync();
+        await (await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, clientId: "blocklight-server.bench-probe", reconnectPeriod: 0 })).endAsync();
         break;
       } catch (err) {
         if (tries > 200) throw err;
@@ -137,8 +137,8 @@ export async function run(report: Report): Promise<void> {
     cleanups.unshift(() => sockets.close());
 
     // ── bare MQTT round trip ──
-    const bareSub = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, clientId: "bench-bare-sub" });
-    const barePub = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, clientId: "bench-bare-pub" });
+    const bareSub = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, clientId: "blocklight-server.bench-bare-sub" });
+    const barePub = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: "blocklight-server", password: serverPassword, clientId: "blocklight-server.bench-bare-pub" });
     for (const c of [bareSub, barePub]) (c.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
     await bareSub.subscribeAsync("bench/round-trip", { qos: 1 });
     const bare: number[] = [];
@@ -156,7 +156,7 @@ export async function run(report: Report): Promise<void> {
 
     // ── a board and a browser ──
     const boards = await Promise.all(
-      secrets.map((secret, k) => mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: `bench-board-${k}`, password: secret, clientId: `bench-board-${k}` })),
+      secrets.map((secret, k) => mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: `bench-board-${k}`, password: secret, clientId: `${SLUG}.bench-board-${k}` })),
     );
     for (const b of boards) (b.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
     const board = boards[0];

@@ -164,7 +164,7 @@ export async function run(report: Report): Promise<void> {
 
     const clients = new Map<string, mqtt.MqttClient>();
     for (const b of boards) {
-      const c = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: b.id, password: secrets.get(b.id), clientId: `bench-${b.id}` });
+      const c = await mqtt.connectAsync(mqttUrl, { protocolVersion: 4, username: b.id, password: secrets.get(b.id), clientId: `${SLUG}.${b.id}` });
       (c.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
       clients.set(b.id, c);
     }

@@ -108,7 +108,7 @@ export async function connectBoard(
     protocolVersion: 4,
     username: node,
     password: secret,
-    clientId: `board-${node}-${randomBytes(3).toString("hex")}`,
+    clientId: `${layout}.${node}`, // CONTRACT.md §2, board duty 1
     reconnectPeriod: 0,
     will: { topic: `blocklight/v1/${layout}/node/${node}/status`, payload: Buffer.from(JSON.stringify({ online: false })), qos: 1, retain: true },
   });

@@ -45,7 +45,8 @@ export async function startTestApp(
     loginLimitPerWindow: 1000,
     ...options.config,
   };
-  const deps: AppDeps = { config, db, logger: createLogger("silent"), bus: new Bus(), ...options.deps };
+  const logger = createLogger("silent");
+  const deps: AppDeps = { config, db, logger, bus: new Bus(logger), ...options.deps };
   if (options.demo ?? true) await seedDemo(deps);
   const app = createApp(deps, options.routers);
   return {

@@ -10,6 +10,7 @@ import type { Role } from "../../../shared/contract/rest";
 import { kestrelBankLayout, wrenfoldLoopLayout } from "../../../shared/demo/fernmoor";
 import type { AppDeps } from "../../deps";
 import { hashSecret } from "../../features/auth/service";
+import { hashNodeSecret, isLegacyNodeHash } from "../../nodeSecret";
 import { importLayout } from "../../features/layouts/service";
 import { setSocietyName, societyName } from "../../features/setup/society";
 
@@ -77,7 +78,7 @@ function readSecretsFile(file: string): NodeSecretsFile {
 /**
  * Demo only: gives every board of the demo layouts an MQTT password so the fake layout can
  * connect as each board. Issues one for a node with no secret yet, or whose secret is not in
- * the file (the file is the demo's only copy of the plain text); the bcrypt hash goes to
+ * the file (the file is the demo's only copy of the plain text); its SHA-256 digest goes to
  * `nodes.secret_hash`, the plain secrets to `DATA_DIR/secrets/nodes/<slug>.json` (mode 0600).
  * A society running its own layouts with DEMO=off never gets such a file: real boards get
  * their secret once, from `POST /api/layouts/:slug/nodes`.
@@ -95,12 +96,18 @@ export async function issueDemoNodeSecrets(deps: Pick<AppDeps, "db" | "config">)
     const secrets = readSecretsFile(file);
     const fresh: string[] = [];
     for (const node of nodes) {
-      if (node.secret_hash && secrets[node.node_id]) continue;
+      const setHash = (hash: string) =>
+        deps.db.sequelize.query(
+          `UPDATE nodes SET secret_hash = :hash WHERE node_id = :node AND layout_id = (SELECT id FROM layouts WHERE slug = :slug)`,
+          { replacements: { hash, node: node.node_id, slug } },
+        );
+      if (node.secret_hash && secrets[node.node_id]) {
+        // A demo from before migration 005: the plain secret is known, so store the fast form now.
+        if (isLegacyNodeHash(node.secret_hash)) await setHash(hashNodeSecret(secrets[node.node_id]));
+        continue;
+      }
       const secret = randomBytes(DEMO_NODE_SECRET_BYTES).toString("base64url");
-      await deps.db.sequelize.query(
-        `UPDATE nodes SET secret_hash = :hash WHERE node_id = :node AND layout_id = (SELECT id FROM layouts WHERE slug = :slug)`,
-        { replacements: { hash: await hashSecret(secret), node: node.node_id, slug } },
-      );
+      await setHash(hashNodeSecret(secret));
       secrets[node.node_id] = secret;
       fresh.push(node.node_id);
     }

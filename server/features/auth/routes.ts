@@ -17,6 +17,8 @@ export function authRoutes(deps: AppDeps): Router {
       limit: deps.config.loginLimitPerWindow,
       standardHeaders: "draft-8",
       legacyHeaders: false,
+      // Without TRUST_PROXY a client's own X-Forwarded-For is ignored on purpose (server/config.ts).
+      validate: { xForwardedForHeader: false },
       ...(key ? { keyGenerator: key } : {}),
       handler: (_req, _res, next) => next(new HttpError(429, "too_many_attempts", `too many ${what}: wait a minute and try again`)),
     });

@@ -12,7 +12,7 @@ import { canonicalRulebook } from "../../../shared/rulebook/canonical";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict, notFound } from "../../http/errors";
-import { hashSecret } from "../auth/service";
+import { hashNodeSecret } from "../../nodeSecret";
 import type { Layout } from "../../db/models";
 import { readRecords, writeRecords, type RecordLists } from "./records";
 
@@ -143,7 +143,7 @@ const SECRET_BYTES = 24;
 
 /**
  * Registers a board (or re-issues the secret of an existing one) and returns its MQTT
- * password once; only the bcrypt hash is kept.
+ * password once; only its SHA-256 digest is kept (server/nodeSecret.ts says why not bcrypt).
  */
 export async function registerNode(deps: AppDeps, slug: string, body: CreateNodeBodyParsed): Promise<{ id: string; secret: string }> {
   const layout = await findLayout(deps, slug);
@@ -168,7 +168,7 @@ export async function registerNode(deps: AppDeps, slug: string, body: CreateNode
   if (errors.length) throw new HttpError(400, "invalid_node", "the node names things this layout does not have", errors);
 
   const secret = randomBytes(SECRET_BYTES).toString("base64url");
-  const secretHash = await hashSecret(secret);
+  const secretHash = hashNodeSecret(secret);
   const { NodeRecord } = deps.db.models;
   await deps.db.sequelize.transaction(async (transaction) => {
     const values = { name: body.name, detectors: body.detectors, signals: body.signals, points, secretHash };

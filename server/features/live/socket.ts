@@ -49,6 +49,9 @@ async function sessionStillOpen(deps: AppDeps, sessionId: string): Promise<boole
   return row !== null;
 }
 
+/** Numbers socket servers so each one's bus listeners have an owner of their own. */
+let socketServers = 0;
+
 export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: LiveIo; close(): Promise<void> } {
   const io: LiveIo = new Server(server, { serveClient: false, cors: { origin: false } });
 
@@ -125,18 +128,17 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
       if (gone) socket.disconnect(true);
     }
   };
-  deps.bus.on("live.update", onUpdate);
-  deps.bus.on("auth.sessions-ended", onSessionsEnded);
-  deps.bus.on("alarm.changed", onAlarm);
-  deps.bus.on("display-link.revoked", onRevoked);
+  // One owner per socket server (tests attach several to one bus), removed together on close.
+  const owner = `live-socket#${++socketServers}`;
+  deps.bus.on("live.update", onUpdate, owner);
+  deps.bus.on("alarm.changed", onAlarm, owner);
+  deps.bus.on("display-link.revoked", onRevoked, owner);
+  deps.bus.on("auth.sessions-ended", onSessionsEnded, owner);
 
   return {
     io,
     close: async () => {
-      deps.bus.off("live.update", onUpdate);
-      deps.bus.off("alarm.changed", onAlarm);
-      deps.bus.off("display-link.revoked", onRevoked);
-      deps.bus.off("auth.sessions-ended", onSessionsEnded);
+      deps.bus.removeOwner(owner);
       await new Promise<void>((resolve) => io.close(() => resolve()));
     },
   };

@@ -16,7 +16,7 @@ export function startAlarmMail(deps: AppDeps): { stop(): void } {
     if (!alarm.created) return;
     void sendAlarmMail(deps, alarm).catch((err) => deps.logger.warn({ err }, "alarm mail failed"));
   };
-  deps.bus.on("alarm.changed", onAlarm);
+  deps.bus.on("alarm.changed", onAlarm, "alarm-mail");
   return { stop: () => deps.bus.off("alarm.changed", onAlarm) };
 }
 

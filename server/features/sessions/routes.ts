@@ -3,6 +3,7 @@ import { Router, type RequestHandler } from "express";
 import multer from "multer";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
+import { eventIdText } from "../../http/bounds";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
@@ -15,9 +16,6 @@ import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEve
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
 
-/** Event ids are bigint: a 19-digit id past its top would fail in PostgreSQL, not here. */
-const MAX_EVENT_ID = 9_223_372_036_854_775_807n;
-const eventIdText = z.string().regex(/^\d{1,19}$/, "an event id").refine((id) => BigInt(id) <= MAX_EVENT_ID, "an event id (at most 9223372036854775807)");
 
 const idText = z.string().regex(/^[A-Za-z0-9_-]{1,32}$/, "an id of letters, digits, _ or -");
 /** `format=json`: one page of the log table; the filters match the table's. */
