@@ -9,6 +9,9 @@
  * 3. Keeps every pulse and points report until an `applied` for its boot covers its seq;
  *    after every (re)connect publishes the uncovered ones again, in seq order, before anything
  *    new (a new mqtt.js client per connection, so nothing is sent twice by the library itself).
+ *    The server's reconnect counts too: when `server/status` turns online in a live (not
+ *    retained) message, the uncovered ones go again — a broker that restarted may have
+ *    dropped what came before the server's subscription.
  *    A full buffer drops its oldest message and keeps counting: the server sees the gap.
  * 4. Fail-safe: every signal shows danger while the broker link has been down over 2 s, while
  *    `server/status` says offline, or 3 s after the last `server/status`; afterwards a signal
@@ -143,11 +146,11 @@ export class ReferenceBoard {
           retain: true,
         });
       }
-      // Duty 3: everything uncovered again, in seq order, before anything new.
-      for (const out of [...this.outbox.values()].sort((a, b) => a.seq - b.seq)) this.transmit(out);
+      this.serverOnline = false; // until this connection hears it
+      this.resendUncovered();
       onFirst?.();
     });
-    client.on("message", (topic, payload) => this.onMessage(topic, payload));
+    client.on("message", (topic, payload, packet) => this.onMessage(topic, payload, packet.retain));
     client.on("error", (err) => {
       if (!settled && onFirstError) {
         settled = true;
@@ -169,6 +172,11 @@ export class ReferenceBoard {
         onFirstError(new Error("connection closed before CONNACK"));
       }
     });
+  }
+
+  /** Duty 3: everything uncovered again, in seq order, before anything new. */
+  private resendUncovered(): void {
+    for (const out of [...this.outbox.values()].sort((a, b) => a.seq - b.seq)) this.transmit(out);
   }
 
   private transmit(out: Outgoing): void {
@@ -232,7 +240,7 @@ export class ReferenceBoard {
     this.current?.stream?.destroy();
   }
 
-  private onMessage(topic: string, raw: Buffer): void {
+  private onMessage(topic: string, raw: Buffer, retained: boolean): void {
     const { layout, node } = this.options;
     let json: unknown;
     try {
@@ -255,7 +263,9 @@ export class ReferenceBoard {
     if (topic === topics.serverStatus(layout)) {
       const p = serverStatusPayloadSchema.safeParse(json);
       if (!p.success) return;
+      const cameBack = p.data.online && !this.serverOnline && !retained;
       this.serverOnline = p.data.online;
+      if (cameBack) this.resendUncovered();
       if (p.data.online) this.lastHeartbeat = this.now();
       this.check();
       return;
