@@ -25,7 +25,14 @@ export const MAX_SEQ_AHEAD = 100_000;
  * Text a board sends that ends up in the event log: printable, no NUL or other control
  * characters (PostgreSQL text cannot hold NUL; control characters only hide things in the log).
  */
-const boardText = (max: number) => z.string().min(1).max(max).regex(/^[^\u0000-\u001f\u007f]+$/u, "must be printable text (no NUL or control characters)");
+const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+const boardText = (max: number) =>
+  z
+    .string()
+    .min(1)
+    .max(max)
+    .regex(/^[^\u0000-\u001f\u007f]+$/, "must be printable text (no NUL or control characters)")
+    .refine((text) => !LONE_SURROGATE.test(text), "must be well-formed Unicode (no lone surrogates)");
 
 export const topics = {
   pulse: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/pulse`,
