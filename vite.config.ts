@@ -1,13 +1,20 @@
 import { defineConfig } from "vite";
 import react from "@vitejs/plugin-react";
 import tailwindcss from "@tailwindcss/vite";
+import { writeSourceStamp } from "./server/clientBuild";
 
 // The API server (server/index.ts) listens here; in dev the client is served by Vite
 // and forwards API calls and the live socket so cookies stay same-origin.
 const API_TARGET = "http://127.0.0.1:8080";
 
 export default defineConfig({
-  plugins: [react(), tailwindcss()],
+  plugins: [
+    react(),
+    tailwindcss(),
+    // Any build (npm run build too) records what it was built from, so `npm start` can skip
+    // building again when nothing changed (server/clientBuild.ts).
+    { name: "blocklight-source-stamp", apply: "build", closeBundle: () => writeSourceStamp(process.cwd()) },
+  ],
   build: {
     outDir: "dist",
     emptyOutDir: true,

@@ -13,6 +13,7 @@ import { createLogger } from "../server/logger";
 import { loadOrCreateSecret } from "../server/secrets";
 import { databaseAuthenticator } from "./auth";
 import { startBroker } from "./server";
+import { stopWhenLauncherGoes } from "../server/parentWatch";
 
 const logger = createLogger();
 
@@ -45,6 +46,7 @@ async function main(): Promise<void> {
   };
   process.on("SIGINT", () => void stop("SIGINT"));
   process.on("SIGTERM", () => void stop("SIGTERM"));
+  stopWhenLauncherGoes(stop);
 }
 
 main().catch((err) => {

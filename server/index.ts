@@ -21,6 +21,7 @@ import { startMailer } from "./features/mail/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
 import { runtimeDeps } from "./runtimeDeps";
+import { stopWhenLauncherGoes } from "./parentWatch";
 import { loadOrCreateSecret } from "./secrets";
 
 const SHUTDOWN_GRACE_MS = 5_000;
@@ -50,6 +51,7 @@ async function main(): Promise<void> {
   const startedAt = Date.now();
   process.on("SIGINT", () => void shutdown("SIGINT"));
   process.on("SIGTERM", () => void shutdown("SIGTERM"));
+  stopWhenLauncherGoes(shutdown);
   const config = configFromEnv(process.env, { demo: true });
   config.sessionSecret ||= loadOrCreateSecret(config.dataDir, "session");
   config.serverMqttPassword ||= loadOrCreateSecret(config.dataDir, "server-mqtt");
@@ -66,7 +68,8 @@ async function main(): Promise<void> {
   cleanups.push(() => db.close());
 
   const deps: AppDeps = { config, db, logger, bus: new Bus() };
-  if (config.demo) {
+  // Under the launcher the demo is already seeded (and said so) before any child starts.
+  if (config.demo && !process.env.BLOCKLIGHT_SUPERVISED) {
     const seeded = await seedDemo(deps);
     logger.info(seeded, "demo data ready (Fernmoor Garden Railway Society)");
   }

@@ -8,14 +8,19 @@
  *    the broker (unless MQTT_URL is set), the server, and with DEMO on the fake layout
  *    playing a day at Kestrel Bank once the server answers /api/health; with DEV=1 also
  *    the Vite dev server. A child that dies unexpectedly is restarted.
- * Ctrl-C / SIGTERM stops the children (SIGTERM, then SIGKILL after a grace) and then
- * PostgreSQL. `server/index.ts` still runs on its own; the two agree only through env.
+ * Ctrl-C / SIGTERM stops the clients (fake layout, server) together, then the broker, then
+ * PostgreSQL. If the launcher dies without stopping them (`kill -9`), the children see their
+ * stdin pipe close and stop themselves (server/parentWatch.ts), a guard process stops
+ * PostgreSQL, and the next start stops a cluster of this DATA_DIR still left running.
+ * With `--build` (npm start) the client is rebuilt first, but only when its sources changed.
+ * `server/index.ts` still runs on its own; the two agree only through env.
  */
 import fs from "node:fs";
 import net from "node:net";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { Bus } from "./bus";
+import { ensureClientBuilt } from "./clientBuild";
 import { configFromEnv, type AppConfig } from "./config";
 import { openDatabase } from "./db/database";
 import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
@@ -23,6 +28,7 @@ import { DEMO_PASSWORD, demoEmail, issueDemoNodeSecrets, seedDemo } from "./db/s
 import { createLogger } from "./logger";
 import { loadOrCreateSecret } from "./secrets";
 import { SupervisedChild } from "./supervisor";
+import { claimLauncherLock, releaseLauncherLock } from "./launcherLock";
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 const HEALTH_TIMEOUT_MS = 120_000;
@@ -39,20 +45,19 @@ const say = (line: string) => process.stdout.write(`[launcher]    ${line}  (+${e
 const children: SupervisedChild[] = [];
 let pg: EmbeddedPostgres | null = null;
 let shuttingDown = false;
+let lockDir: string | null = null;
 
 async function shutdown(reason: string, exitCode = 0): Promise<never> {
   if (shuttingDown) return new Promise<never>(() => {});
   shuttingDown = true;
   say(`stopping (${reason})`);
   for (const child of children) child.markStopping();
-  // Reverse start order: the fake layout and the server before the broker they talk to.
-  for (const child of [...children].reverse()) {
-    try {
-      await child.stop();
-    } catch (err) {
-      say(`error while stopping a child: ${String(err)}`);
-    }
-  }
+  // The broker's clients first, side by side, then the broker: a broker that goes first
+  // makes every client log reconnect attempts on its way out.
+  const stopAll = (group: SupervisedChild[]) =>
+    Promise.all(group.map((child) => child.stop().catch((err: unknown) => say(`error while stopping ${child.name}: ${String(err)}`))));
+  await stopAll(children.filter((child) => child.name !== "broker"));
+  await stopAll(children.filter((child) => child.name === "broker"));
   if (pg) {
     try {
       pg.stop();
@@ -62,6 +67,7 @@ async function shutdown(reason: string, exitCode = 0): Promise<never> {
       exitCode = 1;
     }
   }
+  releaseLauncherLock(lockDir);
   process.exit(exitCode);
 }
 
@@ -78,7 +84,10 @@ function watchParent(): void {
 }
 
 function childEnv(config: AppConfig, databaseUrl: string, extra: NodeJS.ProcessEnv = {}): NodeJS.ProcessEnv {
-  return { ...process.env, DATA_DIR: config.dataDir, DATABASE_URL: databaseUrl, BLOCKLIGHT_SUPERVISED: "1", ...extra };
+  // Children write to a pipe, so they cannot see the terminal themselves: tell them whether a
+  // person is reading (readable log lines) or a program (JSON lines).
+  const pretty = process.stdout.isTTY ? { BLOCKLIGHT_PRETTY: "1" } : {};
+  return { ...process.env, DATA_DIR: config.dataDir, DATABASE_URL: databaseUrl, BLOCKLIGHT_SUPERVISED: "1", ...pretty, ...extra };
 }
 
 function supervise(name: string, args: string[], env: NodeJS.ProcessEnv): SupervisedChild {
@@ -136,7 +145,9 @@ async function waitForHealth(baseUrl: string, timeoutMs: number): Promise<boolea
 async function prepareDatabase(config: AppConfig): Promise<string> {
   let databaseUrl = config.databaseUrl;
   if (!databaseUrl) {
-    pg = await startEmbeddedPostgres({ dataDir: config.dataDir, port: config.pgPort, log: say });
+    // The launcher lock says no other launcher owns this DATA_DIR, so a cluster still running
+    // here was left by a launcher that died: stop it rather than ask the user to.
+    pg = await startEmbeddedPostgres({ dataDir: config.dataDir, port: config.pgPort, log: say, stopOrphan: true, guard: true });
     databaseUrl = pg.url;
     say(`embedded PostgreSQL is up on 127.0.0.1:${config.pgPort} (cluster in ${path.join(config.dataDir, "pg")})`);
   }
@@ -149,7 +160,7 @@ async function prepareDatabase(config: AppConfig): Promise<string> {
       const secrets = await issueDemoNodeSecrets(deps);
       const added = seeded.layoutsAdded.length ? `; layouts added: ${seeded.layoutsAdded.join(", ")}` : "";
       const issued = Object.entries(secrets.issued).map(([slug, nodes]) => `${slug} (${nodes.join(", ")})`);
-      say(`demo data ready (Fernmoor Garden Railway Society${added})`);
+      say(`demo data ready (Fernmoor Garden Railway Society${added || "; already seeded"})`);
       if (issued.length) say(`demo board secrets issued for ${issued.join("; ")} → ${path.join(config.dataDir, "secrets", "nodes")}`);
     }
   } finally {
@@ -172,6 +183,13 @@ async function main(): Promise<void> {
   // Made here, before any child runs, so the server and the broker read the same files
   // instead of racing to create them.
   fs.mkdirSync(config.dataDir, { recursive: true });
+  const other = claimLauncherLock(config.dataDir);
+  if (other !== null) {
+    say(`another Blocklight launcher (pid ${other}) is running on ${config.dataDir}: stop it first, or set DATA_DIR to another folder`);
+    process.exit(1);
+  }
+  lockDir = config.dataDir;
+  if (process.argv.includes("--build")) ensureClientBuilt(ROOT, say);
   loadOrCreateSecret(config.dataDir, "session");
   loadOrCreateSecret(config.dataDir, "server-mqtt");
 
@@ -193,7 +211,7 @@ async function main(): Promise<void> {
   say("starting the server");
   supervise("server", nodeFile("server/index.ts"), env);
   if (dev) {
-    supervise("vite", [path.join(ROOT, "node_modules/vite/bin/vite.js"), "--host", "127.0.0.1", "--port", String(VITE_PORT), "--strictPort"], env);
+    supervise("vite", nodeFile("server/devClient.ts"), { ...env, VITE_PORT: String(VITE_PORT) });
   }
 
   const host = config.host === "0.0.0.0" || config.host === "::" ? "127.0.0.1" : config.host;
@@ -218,16 +236,24 @@ async function main(): Promise<void> {
   // From process start, so the figure includes loading the launcher itself.
   const seconds = process.uptime().toFixed(1);
   const url = dev ? `http://127.0.0.1:${VITE_PORT}` : baseUrl;
+  const running = [
+    config.databaseUrl ? "PostgreSQL from DATABASE_URL" : `PostgreSQL on 127.0.0.1:${config.pgPort}`,
+    config.mqttUrl ? `the broker at ${config.mqttUrl}` : `the broker on ${mqttUrl}`,
+    `the server on ${baseUrl}`,
+    ...(config.demo ? ["the fake layout (trains at Kestrel Bank)"] : []),
+    ...(dev ? [`Vite on ${url}`] : []),
+  ];
   const lines = [
     "",
     `Blocklight is running at ${url}  (started in ${seconds} s; Ctrl-C stops it)`,
+    `  running: ${running.join(", ")}`,
     ...(config.demo
       ? [
-          `Demo accounts: ${demoEmail("admin")}, ${demoEmail("engineer")}, ${demoEmail("signaller")}, ${demoEmail("maintainer")}, ${demoEmail("viewer")}`,
-          `  password "${DEMO_PASSWORD}" (demo only: change it, or run with DEMO=off). The fake layout is running trains at Kestrel Bank.`,
+          `  demo accounts: ${demoEmail("admin")}, ${demoEmail("engineer")}, ${demoEmail("signaller")}, ${demoEmail("maintainer")}, ${demoEmail("viewer")}`,
+          `    password "${DEMO_PASSWORD}" (public: never run a real layout with them; DEMO=off starts a real install)`,
         ]
       : []),
-    "Blocklight is an operating aid, not a certified interlocking: keep independent protection on passenger-carrying lines.",
+    "  Blocklight is an operating aid, not a certified interlocking: keep independent protection on passenger-carrying lines.",
     "",
   ];
   process.stdout.write(lines.join("\n") + "\n");

@@ -43,6 +43,10 @@ export class SupervisedChild {
     this.prefix = `[${options.name}]`.padEnd((options.prefixWidth ?? 0) + 2) + " ";
   }
 
+  get name(): string {
+    return this.options.name;
+  }
+
   get pid(): number | undefined {
     return this.child?.pid;
   }
@@ -52,7 +56,9 @@ export class SupervisedChild {
     const child = spawn(process.execPath, this.options.args, {
       cwd: this.options.cwd,
       env: this.options.env,
-      stdio: ["ignore", "pipe", "pipe"],
+      // stdin is a pipe the launcher never writes to: the child sees it close when the
+      // launcher dies by any means (server/parentWatch.ts).
+      stdio: ["pipe", "pipe", "pipe"],
     });
     this.child = child;
     this.startedAt = Date.now();

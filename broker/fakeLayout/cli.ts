@@ -17,6 +17,7 @@ import { realScheduler } from "./clock";
 import { MqttBoards } from "./mqttBoards";
 import { FAKE_FIRMWARE, FakeLayoutPlayer, type TrainEvent } from "./player";
 import { checkScenarioAgainstLayout, loadScenarioFile, ScenarioInvalidError } from "./scenario";
+import { stopWhenLauncherGoes } from "../../server/parentWatch";
 
 const HERE = path.dirname(fileURLToPath(import.meta.url));
 const DEMO_LAYOUTS: Record<string, () => LayoutFile> = {
@@ -173,6 +174,7 @@ async function main(): Promise<void> {
 
   process.on("SIGINT", () => void stop("SIGINT"));
   process.on("SIGTERM", () => void stop("SIGTERM"));
+  stopWhenLauncherGoes(stop);
 }
 
 main().catch((err: unknown) => fail(err instanceof Error ? (err.stack ?? err.message) : String(err)));

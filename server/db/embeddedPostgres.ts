@@ -7,7 +7,7 @@
  * not reap, so liveness is read from /proc rather than trusted from `pg_ctl status`, and
  * stale `postmaster.pid` / socket lock files are cleared before starting.
  */
-import { execFileSync, spawnSync } from "node:child_process";
+import { execFileSync, spawn, spawnSync } from "node:child_process";
 import { randomBytes } from "node:crypto";
 import fs from "node:fs";
 import net from "node:net";
@@ -19,6 +19,17 @@ export interface EmbeddedPostgresOptions {
   /** Faster, unsafe settings for throwaway test clusters; never for `npm start`. */
   ephemeral?: boolean;
   log?: (message: string) => void;
+  /**
+   * A postmaster of this cluster left running by an earlier start whose owner is gone
+   * (the launcher was killed): stop it and start afresh instead of refusing. The caller
+   * decides that the owner is gone (the launcher keeps a pid file in DATA_DIR).
+   */
+  stopOrphan?: boolean;
+  /**
+   * Also stop the cluster when this process dies without calling stop() (`kill -9`): a
+   * small guard process waits for this process's end and then runs `pg_ctl stop`.
+   */
+  guard?: boolean;
 }
 
 export interface EmbeddedPostgres {
@@ -163,7 +174,11 @@ export async function startEmbeddedPostgres(options: EmbeddedPostgresOptions): P
 
   const running = postmasterPid(clusterDir);
   if (running !== null && processAlive(running)) {
-    throw new Error(`a PostgreSQL (pid ${running}) is already running on ${clusterDir}: is another Blocklight running?`);
+    if (!options.stopOrphan) {
+      throw new Error(`a PostgreSQL (pid ${running}) is already running on ${clusterDir}: is another Blocklight running?`);
+    }
+    log(`stopping the PostgreSQL (pid ${running}) an earlier start left running on ${clusterDir}`);
+    runAs(bin("pg_ctl"), ["-D", clusterDir, "-m", "fast", "-w", "-t", "30", "stop"], { allowFail: true });
   }
   clearStaleLocks(clusterDir, socketDir, options.port);
   if (!(await isPortFree(options.port))) throw new PortInUseError(options.port);
@@ -202,15 +217,43 @@ export async function startEmbeddedPostgres(options: EmbeddedPostgresOptions): P
   const exists = runAs(bin("psql"), [...connect, "-tAc", `SELECT 1 FROM pg_database WHERE datname='${DATABASE}'`], { password });
   if (exists.out.trim() !== "1") runAs(bin("createdb"), [...connect, DATABASE], { password });
 
+  const guard = options.guard ? startStopGuard(asRoot, bin("pg_ctl"), clusterDir) : null;
   let stopped = false;
   const stop = () => {
     if (stopped) return;
     stopped = true;
     process.removeListener("exit", stop);
+    guard?.disarm();
     runAs(bin("pg_ctl"), ["-D", clusterDir, "-m", "fast", "-w", "-t", "30", "stop"], { allowFail: true });
   };
   // A process that exits without calling stop() (an error, process.exit) must not leave a
   // postmaster behind; stopping is synchronous, so it can run in the exit handler.
   process.once("exit", stop);
   return { url: `postgres://${auth}/${DATABASE}`, adminUrl, stop };
+}
+
+/**
+ * `sh` reads a pipe from this process that is never written to; the kernel closes it when this
+ * process ends however it ends, and then `sh` stops the cluster. The guard runs in a process
+ * group of its own, so a Ctrl-C meant for us does not fire it early; `disarm()` (a clean stop,
+ * which stops the cluster itself) kills the group.
+ */
+function startStopGuard(asRoot: boolean, pgCtl: string, clusterDir: string): { disarm(): void } {
+  const stopCommand = [...(asRoot ? ["runuser", "-u", OS_USER, "--"] : []), pgCtl, "-D", clusterDir, "-m", "fast", "-w", "-t", "30", "stop"];
+  const child = spawn("sh", ["-c", 'cat >/dev/null; exec "$@" >/dev/null 2>&1', "blocklight-pg-guard", ...stopCommand], {
+    cwd: "/",
+    detached: true,
+    stdio: ["pipe", "ignore", "ignore"],
+  });
+  child.unref();
+  (child.stdin as unknown as { unref?: () => void }).unref?.();
+  return {
+    disarm() {
+      try {
+        if (child.pid) process.kill(-child.pid, "SIGKILL");
+      } catch {
+        /* already gone */
+      }
+    },
+  };
 }

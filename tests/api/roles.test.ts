@@ -4,96 +4,109 @@
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { allows, type Action } from "../../shared/contract/permissions";
 import { ROLES, type Role } from "../../shared/contract/rest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
+import { API_ROUTERS } from "../../server/app";
+import type { RouteGuard } from "../../server/features/auth/middleware";
 
 type Method = "get" | "post" | "delete";
 interface RouteCase {
   method: Method;
   path: string;
-  allowed: readonly Role[];
+  /** The permission the route's guard names; the roles it allows come from the one table. */
+  action: Action;
   /** A body that succeeds for an allowed role; may vary per role to stay unique. */
   body?: (role: Role) => unknown;
   okStatus?: number;
+  /** Signs in afresh for this row (it ends the session it runs in). */
+  ownSession?: boolean;
 }
 
-const EVERYONE = ROLES;
 const layoutCopy = (role: Role) => ({ ...kestrelBankLayout(), slug: `matrix-${role}` });
 
 const ROUTES: RouteCase[] = [
-  { method: "get", path: "/api/me", allowed: EVERYONE },
-  { method: "get", path: "/api/layouts", allowed: EVERYONE },
-  { method: "post", path: "/api/layouts/import", allowed: ["engineer", "admin"], body: layoutCopy, okStatus: 201 },
-  { method: "get", path: "/api/layouts/kestrel-bank", allowed: EVERYONE },
-  { method: "get", path: "/api/layouts/kestrel-bank/export", allowed: EVERYONE },
+  { method: "get", path: "/api/me", action: "read" },
+  { method: "post", path: "/api/auth/logout", action: "read", ownSession: true },
+  { method: "get", path: "/api/layouts", action: "read" },
+  { method: "post", path: "/api/layouts/import", action: "layouts.import", body: layoutCopy, okStatus: 201 },
+  { method: "get", path: "/api/layouts/kestrel-bank", action: "read" },
+  { method: "get", path: "/api/layouts/kestrel-bank/export", action: "read" },
   {
-    method: "post",
-    path: "/api/layouts/kestrel-bank/nodes",
-    allowed: ["engineer", "maintainer", "admin"],
+    method: "post", path: "/api/layouts/kestrel-bank/nodes", action: "nodes.manage",
     body: (role) => ({ id: `spare-${role}`, name: "Spare board", detectors: [], signals: [] }),
     okStatus: 201,
   },
-  { method: "get", path: "/api/layouts/kestrel-bank/rulebooks/1", allowed: EVERYONE },
+  { method: "get", path: "/api/layouts/kestrel-bank/rulebooks/1", action: "read" },
   {
-    method: "post",
-    path: "/api/layouts/kestrel-bank/rulebooks",
-    allowed: ["engineer", "admin"],
+    method: "post", path: "/api/layouts/kestrel-bank/rulebooks", action: "rulebooks.edit",
     body: () => ({ rulebook: kestrelBankLayout().rulebook, note: "matrix" }),
     okStatus: 201,
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", allowed: ["engineer", "admin"] },
+  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", action: "rulebooks.publish" },
   {
-    method: "post",
-    path: "/api/simulate",
-    allowed: EVERYONE,
+    method: "post", path: "/api/simulate", action: "read",
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
   },
-  { method: "get", path: "/api/layouts/kestrel-bank/audit", allowed: EVERYONE },
-  { method: "get", path: "/api/admin/outbox", allowed: ["admin"] },
-  { method: "get", path: "/api/admin/members", allowed: ["admin"] },
+  { method: "get", path: "/api/layouts/kestrel-bank/audit", action: "read" },
+  { method: "get", path: "/api/admin/outbox", action: "outbox.read" },
+  { method: "get", path: "/api/admin/members", action: "members.manage" },
   {
-    method: "post",
-    path: "/api/invitations",
-    allowed: ["admin"],
+    method: "post", path: "/api/invitations", action: "members.manage",
     body: (role) => ({ email: `invitee-${role}@fernmoor.example`, role: "viewer" }),
     okStatus: 201,
   },
   // Proving (a job of the published version never changes its status; unknown job ids are 404 past the role check)
-  { method: "post", path: "/api/prove", allowed: EVERYONE, body: () => kestrelBankLayout() },
-  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/proofs", allowed: ["engineer", "admin"], okStatus: 202 },
-  { method: "get", path: "/api/layouts/kestrel-bank/proofs", allowed: EVERYONE },
-  { method: "get", path: "/api/proofs/00000000-0000-4000-8000-000000000000", allowed: EVERYONE, okStatus: 404 },
-  { method: "delete", path: "/api/proofs/00000000-0000-4000-8000-000000000000", allowed: ["engineer", "admin"], okStatus: 404 },
+  { method: "post", path: "/api/prove", action: "read", body: () => kestrelBankLayout() },
+  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/proofs", action: "proofs.run", okStatus: 202 },
+  { method: "get", path: "/api/layouts/kestrel-bank/proofs", action: "read" },
+  { method: "get", path: "/api/proofs/00000000-0000-4000-8000-000000000000", action: "read", okStatus: 404 },
+  { method: "delete", path: "/api/proofs/00000000-0000-4000-8000-000000000000", action: "proofs.run", okStatus: 404 },
   // Live pipeline (the matrix's beforeAll starts a broker and runtime, one alarm, one display link, one session)
-  { method: "get", path: "/api/layouts/kestrel-bank/live", allowed: EVERYONE },
+  { method: "get", path: "/api/layouts/kestrel-bank/live", action: "read" },
   {
-    method: "post",
-    path: "/api/layouts/kestrel-bank/commands",
-    allowed: ["signaller", "admin"],
+    method: "post", path: "/api/layouts/kestrel-bank/commands", action: "live.control",
     body: () => ({ type: "hold", signal: "M1", reason: "matrix check" }),
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/sessions", allowed: ["signaller", "admin"], body: () => ({ action: "open" }) },
-  { method: "get", path: "/api/layouts/kestrel-bank/sessions", allowed: EVERYONE },
-  { method: "get", path: "/api/sessions/1/events?format=jsonl", allowed: EVERYONE },
-  { method: "get", path: "/api/sessions/1/events?format=csv", allowed: EVERYONE },
-  { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", allowed: EVERYONE },
-  { method: "get", path: "/api/sessions/1/inputs", allowed: EVERYONE },
+  { method: "post", path: "/api/layouts/kestrel-bank/sessions", action: "live.control", body: () => ({ action: "open" }) },
+  { method: "get", path: "/api/layouts/kestrel-bank/sessions", action: "read" },
+  { method: "get", path: "/api/sessions/1/events?format=jsonl", action: "read" },
+  { method: "get", path: "/api/sessions/1/events?format=csv", action: "read" },
+  { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", action: "read" },
+  { method: "get", path: "/api/sessions/1/inputs", action: "read" },
   // No file attached: 400 past the role check (uploads themselves: sessions-import.test.ts)
-  { method: "post", path: "/api/layouts/kestrel-bank/sessions/import", allowed: ["maintainer", "admin"], okStatus: 400 },
-  { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", allowed: EVERYONE },
+  { method: "post", path: "/api/layouts/kestrel-bank/sessions/import", action: "sessions.import", okStatus: 400 },
+  { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", action: "read" },
   {
-    method: "post",
-    path: "/api/alarms/1/acknowledge",
-    allowed: ["signaller", "maintainer", "admin"],
+    method: "post", path: "/api/alarms/1/acknowledge", action: "alarms.acknowledge",
     body: (role) => ({ comment: `seen by the ${role}` }),
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"], body: () => ({ label: "matrix" }), okStatus: 201 },
-  { method: "get", path: "/api/layouts/kestrel-bank/display-links", allowed: ["admin"] },
-  { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", allowed: ["admin"], okStatus: 204 },
+  { method: "post", path: "/api/layouts/kestrel-bank/display-links", action: "display-links.manage", body: () => ({ label: "matrix" }), okStatus: 201 },
+  { method: "get", path: "/api/layouts/kestrel-bank/display-links", action: "display-links.manage" },
+  { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", action: "display-links.manage", okStatus: 204 },
 ];
+
+type MethodName = Method | "put" | "patch";
+interface AppRoute {
+  method: MethodName;
+  path: string;
+  guard: RouteGuard | undefined;
+}
+
+/** Every route of every feature router, with the guard its handlers carry. */
+function apiRoutes(deps: TestApp["deps"]): AppRoute[] {
+  type Layer = { route?: { path: string; methods: Record<string, boolean>; stack: { handle: { guard?: RouteGuard } }[] } };
+  return API_ROUTERS.flatMap((factory) =>
+    (factory(deps).stack as Layer[]).flatMap((layer) => {
+      if (!layer.route) return [];
+      const guard = layer.route.stack.map((s) => s.handle.guard).find(Boolean);
+      return Object.keys(layer.route.methods).map((method) => ({ method: method as MethodName, path: layer.route!.path, guard }));
+    }),
+  );
+}
 
 describe("route × role matrix", () => {
   let t: TestApp;
@@ -130,13 +143,32 @@ describe("route × role matrix", () => {
       expect(res.body.error.code).toBe("unauthenticated");
       return;
     }
-    const res = await send(agents.get(role)!);
-    if (route.allowed.includes(role)) {
+    const res = await send(route.ownSession ? await t.signIn(role) : agents.get(role)!);
+    if (allows(role, route.action)) {
       expect(res.status, JSON.stringify(res.body)).toBe(route.okStatus ?? 200);
     } else {
       expect(res.status).toBe(403);
       expect(res.body.error.code).toBe("forbidden");
     }
+  });
+
+  it("every API route names its guard, and each guarded one has rows here agreeing with it", () => {
+    const problems: string[] = [];
+    for (const route of apiRoutes(t.deps)) {
+      const label = `${route.method.toUpperCase()} /api${route.path}`;
+      if (!route.guard) {
+        problems.push(`${label} has no guard (requirePermission, requireSignedIn or allowAnyone)`);
+        continue;
+      }
+      if ("public" in route.guard) continue;
+      const pattern = new RegExp(`^/api${route.path.replace(/:[A-Za-z]+/g, "[^/]+")}$`);
+      const rows = ROUTES.filter((row) => row.method === route.method && pattern.test(row.path.split("?")[0]));
+      if (rows.length === 0) problems.push(`${label} (${route.guard.action}) has no row in the matrix`);
+      for (const row of rows) {
+        if (row.action !== route.guard.action) problems.push(`${label}: the guard says ${route.guard.action}, the row ${row.path} says ${row.action}`);
+      }
+    }
+    expect(problems).toEqual([]);
   });
 
   it("health needs no sign-in and reports the database", async () => {

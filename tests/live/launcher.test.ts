@@ -31,6 +31,31 @@ function processesMentioning(text: string): { pid: number; cmd: string }[] {
   return found;
 }
 
+/** Processes whose environment names this DATA_DIR: the launcher's children. */
+function processesWithDataDir(dataDir: string): number[] {
+  const found: number[] = [];
+  for (const entry of fs.readdirSync("/proc")) {
+    if (!/^\d+$/.test(entry) || Number(entry) === process.pid) continue;
+    try {
+      const stat = fs.readFileSync(`/proc/${entry}/stat`, "utf8");
+      if (stat.slice(stat.lastIndexOf(")") + 2, stat.lastIndexOf(")") + 3) === "Z") continue;
+      if (fs.readFileSync(`/proc/${entry}/environ`, "utf8").split("\0").includes(`DATA_DIR=${dataDir}`)) found.push(Number(entry));
+    } catch {
+      /* gone, or not ours to read */
+    }
+  }
+  return found;
+}
+
+async function waitUntil(check: () => boolean, timeoutMs: number): Promise<boolean> {
+  const deadline = Date.now() + timeoutMs;
+  while (Date.now() < deadline) {
+    if (check()) return true;
+    await new Promise((resolve) => setTimeout(resolve, 200));
+  }
+  return check();
+}
+
 async function waitForDbUp(url: string, child: ChildProcess): Promise<unknown> {
   const deadline = Date.now() + UP_TIMEOUT_MS;
   while (Date.now() < deadline && child.exitCode === null) {
@@ -62,6 +87,7 @@ describe("npm start's launcher", () => {
       const env: NodeJS.ProcessEnv = { ...process.env, DATA_DIR: dataDir, PORT: String(port), MQTT_PORT: String(mqttPort), PG_PORT: String(pgPort), DEMO: "off" };
       delete env.DATABASE_URL;
       delete env.MQTT_URL;
+      delete env.DEV; // vitest sets it; the launcher would start the Vite dev server
       launcher = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "server/launcher.ts")], { cwd: ROOT, env, stdio: ["ignore", "pipe", "pipe"] });
       launcher.stdout!.on("data", (chunk: Buffer) => (output += chunk.toString()));
       launcher.stderr!.on("data", (chunk: Buffer) => (output += chunk.toString()));
@@ -80,5 +106,56 @@ describe("npm start's launcher", () => {
       expect(processesMentioning(dataDir)).toEqual([]);
     },
     UP_TIMEOUT_MS + STOP_TIMEOUT_MS + 10_000,
+  );
+
+  it(
+    "after kill -9 of the launcher its children and PostgreSQL stop by themselves, and a cluster left behind is stopped by the next start",
+    async () => {
+      const dir = fs.mkdtempSync(path.join(os.tmpdir(), "blocklight-launcher-kill-"));
+      const [port, mqttPort, pgPort] = [await freePort(), await freePort(), await freePort()];
+      const env: NodeJS.ProcessEnv = { ...process.env, DATA_DIR: dir, PORT: String(port), MQTT_PORT: String(mqttPort), PG_PORT: String(pgPort), DEMO: "off" };
+      delete env.DATABASE_URL;
+      delete env.MQTT_URL;
+      delete env.DEV; // vitest sets it; the launcher would start the Vite dev server
+      let log = "";
+      const launch = () => {
+        const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "server/launcher.ts")], { cwd: ROOT, env, stdio: ["ignore", "pipe", "pipe"] });
+        child.stdout!.on("data", (chunk: Buffer) => (log += chunk.toString()));
+        child.stderr!.on("data", (chunk: Buffer) => (log += chunk.toString()));
+        return child;
+      };
+      const health = `http://127.0.0.1:${port}/api/health`;
+      try {
+        // 1. kill -9: no signal handler runs, yet nothing is left running.
+        const first = launch();
+        await waitForDbUp(health, first);
+        expect(processesWithDataDir(dir).length).toBeGreaterThan(0);
+        first.kill("SIGKILL");
+        const allGone = await waitUntil(() => processesWithDataDir(dir).length === 0 && processesMentioning(path.join(dir, "pg")).length === 0, 20_000);
+        expect(allGone, `left running: ${processesWithDataDir(dir).map((pid) => fs.readFileSync(`/proc/${pid}/cmdline`, "utf8").replaceAll("\0", " ")).join("; ")}\n${log}`).toBe(true);
+
+        // 2. The guard is gone too (as if the whole group was killed but PostgreSQL, which pg_ctl
+        //    daemonised): the next start stops the orphaned cluster instead of refusing.
+        const second = launch();
+        await waitForDbUp(health, second);
+        for (const guard of processesMentioning("blocklight-pg-guard").filter((p) => p.cmd.includes(dir))) process.kill(guard.pid, "SIGKILL");
+        second.kill("SIGKILL");
+        await waitUntil(() => processesWithDataDir(dir).length === 0, 20_000);
+        expect(processesMentioning(path.join(dir, "pg")).length).toBeGreaterThan(0);
+        log = "";
+        const third = launch();
+        await waitForDbUp(health, third);
+        expect(log).toContain("an earlier start left running");
+        const exited = new Promise<number | null>((resolve) => third.once("exit", (code) => resolve(code)));
+        third.kill("SIGTERM");
+        expect(await exited, log).toBe(0);
+        expect(processesMentioning(dir)).toEqual([]);
+      } finally {
+        for (const pid of processesWithDataDir(dir)) process.kill(pid, "SIGKILL");
+        for (const p of processesMentioning(path.join(dir, "pg"))) process.kill(p.pid, "SIGKILL");
+        fs.rmSync(dir, { recursive: true, force: true });
+      }
+    },
+    3 * UP_TIMEOUT_MS + 60_000,
   );
 });

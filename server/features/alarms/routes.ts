@@ -2,7 +2,7 @@ import { Router } from "express";
 import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
 import { acknowledgeAlarm, listAlarms } from "./service";
 
@@ -18,7 +18,7 @@ export function alarmRoutes(deps: AppDeps): Router {
     res.json({ alarms: await listAlarms(deps, layout.id, state) });
   });
 
-  router.post("/alarms/:id/acknowledge", requireRole("signaller", "maintainer", "admin"), async (req, res) => {
+  router.post("/alarms/:id/acknowledge", requirePermission("alarms.acknowledge"), async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "alarm id");
     const { comment } = parseWith(acknowledgeBodySchema, req.body ?? {});
     res.json({ alarm: await acknowledgeAlarm(deps, id, req.user!.id, comment || null) });

@@ -1,9 +1,10 @@
 /**
- * Who is asking: reads the session cookie on every request, then `requireRole` guards each
- * route. The role is re-read from the database so a changed role takes effect at once.
+ * Who is asking: reads the session cookie on every request, then `requirePermission(action)`
+ * guards each route with the rule of shared/contract/permissions.ts. The role is re-read from the database so a changed role takes effect at once.
  */
 import type { RequestHandler } from "express";
-import type { Role, UserDto } from "../../../shared/contract/rest";
+import { allowedRoles, type Action } from "../../../shared/contract/permissions";
+import { ROLES, type Role, type UserDto } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { HttpError } from "../../http/errors";
 import { SESSION_COOKIE, readSession, toUserDto } from "./service";
@@ -29,18 +30,29 @@ export function loadUser(deps: AppDeps): RequestHandler {
   };
 }
 
-export const ANY_ROLE: readonly Role[] = ["admin", "engineer", "signaller", "maintainer", "viewer"];
+export const ANY_ROLE: readonly Role[] = ROLES;
 
-/** 401 when signed out, 403 when signed in with a role not in `roles`. */
-export function requireRole(...roles: Role[]): RequestHandler {
-  const allowed = roles.length ? roles : ANY_ROLE;
-  return (req, _res, next) => {
+/** What guards a route, kept on the guard itself so the route × role test can read it. */
+export type RouteGuard = { action: Action } | { public: string };
+export type GuardedHandler = RequestHandler & { guard: RouteGuard };
+
+/** 401 when signed out, 403 when signed in with a role the permissions table does not allow. */
+export function requirePermission(action: Action): GuardedHandler {
+  const allowed = allowedRoles(action);
+  const handler: RequestHandler = (req, _res, next) => {
     if (!req.user) return next(new HttpError(401, "unauthenticated", "sign in first"));
     if (!allowed.includes(req.user.role)) {
       return next(new HttpError(403, "forbidden", `this needs one of the roles: ${allowed.join(", ")}`));
     }
     next();
   };
+  return Object.assign(handler, { guard: { action } });
 }
 
-export const requireSignedIn = requireRole();
+/** A route anyone may call; `why` says what protects it instead (a token, nothing secret). */
+export function allowAnyone(why: string): GuardedHandler {
+  const handler: RequestHandler = (_req, _res, next) => next();
+  return Object.assign(handler, { guard: { public: why } });
+}
+
+export const requireSignedIn = requirePermission("read");

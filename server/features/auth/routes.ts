@@ -3,7 +3,7 @@ import { rateLimit } from "express-rate-limit";
 import { loginBodySchema, type MeResponse } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
-import { requireSignedIn } from "./middleware";
+import { allowAnyone, requireSignedIn } from "./middleware";
 import { SESSION_COOKIE, SESSION_TTL_S, TIMING_DUMMY_HASH, signSession, toUserDto, verifySecret } from "./service";
 
 export function authRoutes(deps: AppDeps): Router {
@@ -16,7 +16,7 @@ export function authRoutes(deps: AppDeps): Router {
     handler: (_req, _res, next) => next(new HttpError(429, "too_many_attempts", "too many sign-in attempts: wait a minute and try again")),
   });
 
-  router.post("/auth/login", loginLimiter, async (req, res) => {
+  router.post("/auth/login", allowAnyone("signing in"), loginLimiter, async (req, res) => {
     const { email, password } = parseWith(loginBodySchema, req.body);
     const user = await deps.db.models.User.findOne({ where: { email } });
     const ok = await verifySecret(password, user?.passwordHash ?? TIMING_DUMMY_HASH);

@@ -1,6 +1,7 @@
 import { Router } from "express";
 import type { DisplayResponse } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
+import { allowAnyone } from "../auth/middleware";
 import { HttpError } from "../../http/errors";
 import { layoutDetail, findLayout, liveRulebookVersion } from "../layouts/service";
 import { layoutOfDisplayToken } from "../live/displayLinks";
@@ -11,7 +12,7 @@ import { layoutOfDisplayToken } from "../live/displayLinks";
  */
 export function displayRoutes(deps: AppDeps): Router {
   const router = Router();
-  router.get("/display/:token", async (req, res) => {
+  router.get("/display/:token", allowAnyone("the display token"), async (req, res) => {
     const link = await layoutOfDisplayToken(deps, String(req.params.token));
     if (!link) throw new HttpError(404, "not_found", "this display link is not valid");
     const detail = await layoutDetail(deps, link.slug);

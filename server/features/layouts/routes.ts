@@ -2,7 +2,7 @@ import { Router } from "express";
 import { createNodeBodySchema, type LayoutResponse, type LayoutsResponse } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { exportLayout, importLayout, layoutDetail, listLayouts, registerNode } from "./service";
 
 export function layoutRoutes(deps: AppDeps): Router {
@@ -13,7 +13,7 @@ export function layoutRoutes(deps: AppDeps): Router {
     res.json(body);
   });
 
-  router.post("/layouts/import", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts/import", requirePermission("layouts.import"), async (req, res) => {
     const { slug } = await importLayout(deps, req.body, req.user!.id);
     res.status(201).json({ slug });
   });
@@ -29,7 +29,7 @@ export function layoutRoutes(deps: AppDeps): Router {
     res.json(file);
   });
 
-  router.post("/layouts/:slug/nodes", requireRole("engineer", "maintainer", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/nodes", requirePermission("nodes.manage"), async (req, res) => {
     const body = parseWith(createNodeBodySchema, req.body);
     res.status(201).json(await registerNode(deps, String(req.params.slug), body));
   });

@@ -8,7 +8,7 @@ import { commandBodySchema } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { LiveError } from "../../runtime/ports";
-import { requireRole } from "../auth/middleware";
+import { allowAnyone, requirePermission } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
 import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
@@ -39,7 +39,7 @@ export function liveRoutes(deps: AppDeps): Router {
   };
 
   /** Signed in, or holding a live display link for this very layout. */
-  const signedInOrDisplay: RequestHandler = async (req, _res, next) => {
+  const checkSignedInOrDisplay: RequestHandler = async (req, _res, next) => {
     try {
       if (req.user) return next();
       const token = typeof req.query.display === "string" ? req.query.display : "";
@@ -52,35 +52,35 @@ export function liveRoutes(deps: AppDeps): Router {
     }
   };
 
-  router.get("/layouts/:slug/live", signedInOrDisplay, async (req, res) => {
+  router.get("/layouts/:slug/live", allowAnyone("signed in, or holding a display token of this layout"), checkSignedInOrDisplay, async (req, res) => {
     const state = await live().liveState(String(req.params.slug));
     // A display link sees no people: no alarms (who acknowledged them), see display/redact.ts.
     res.json(req.user ? state : redactStateForDisplay(state));
   });
 
-  router.post("/layouts/:slug/commands", requireRole("signaller", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/commands", requirePermission("live.control"), async (req, res) => {
     const body = parseWith(commandBodySchema, req.body);
     res.json(await live().command(String(req.params.slug), body, { id: req.user!.id, name: req.user!.name }));
   });
 
-  router.post("/layouts/:slug/sessions", requireRole("signaller", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/sessions", requirePermission("live.control"), async (req, res) => {
     const { action } = parseWith(sessionBodySchema, req.body);
     res.json(await live().session(String(req.params.slug), action, { id: req.user!.id, name: req.user!.name }));
   });
 
-  router.post("/layouts/:slug/display-links", requireRole("admin"), async (req, res) => {
+  router.post("/layouts/:slug/display-links", requirePermission("display-links.manage"), async (req, res) => {
     const { label } = parseWith(displayLinkBodySchema, req.body ?? {});
     const layout = await findLayout(deps, String(req.params.slug));
     const { token, url } = await createDisplayLink(deps, layout.id, req.user!.id, label || null);
     res.status(201).json({ token, url });
   });
 
-  router.get("/layouts/:slug/display-links", requireRole("admin"), async (req, res) => {
+  router.get("/layouts/:slug/display-links", requirePermission("display-links.manage"), async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
     res.json({ links: await listDisplayLinks(deps, layout.id) });
   });
 
-  router.delete("/layouts/:slug/display-links/:token", requireRole("admin"), async (req, res) => {
+  router.delete("/layouts/:slug/display-links/:token", requirePermission("display-links.manage"), async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
     await revokeDisplayLink(deps, layout.id, String(req.params.token), req.user!.id);
     res.status(204).end();

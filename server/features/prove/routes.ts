@@ -9,7 +9,7 @@ import type { ProofJobResponse, ProofJobsResponse, ProofResultDto, StartProofRes
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { PoolFull, ProofCancelled } from "./pool";
 import { proofJobs, toResultDto } from "./service";
 
@@ -42,7 +42,7 @@ export function proveRoutes(deps: AppDeps): Router {
     }
   });
 
-  router.post("/layouts/:slug/rulebooks/:version/proofs", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/rulebooks/:version/proofs", requirePermission("proofs.run"), async (req, res) => {
     const version = parseWith(versionParam, req.params.version, "version number");
     const jobId = await proofJobs(deps).start(String(req.params.slug), version, req.user!);
     const body: StartProofResponse = { jobId };
@@ -60,7 +60,7 @@ export function proveRoutes(deps: AppDeps): Router {
     res.json(body);
   });
 
-  router.delete("/proofs/:jobId", requireRole("engineer", "admin"), (req, res) => {
+  router.delete("/proofs/:jobId", requirePermission("proofs.run"), (req, res) => {
     const jobId = parseWith(jobIdParam, req.params.jobId, "job id");
     const body: ProofJobResponse = { job: proofJobs(deps).cancel(jobId, req.user!) };
     res.json(body);

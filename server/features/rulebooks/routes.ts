@@ -3,7 +3,7 @@ import { z } from "zod";
 import { saveDraftBodySchema } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { publishVersion, readVersion, saveDraft } from "./service";
 
 const versionParam = z.coerce.number().int().positive();
@@ -16,13 +16,13 @@ export function rulebookRoutes(deps: AppDeps): Router {
     res.json({ version: await readVersion(deps, String(req.params.slug), version) });
   });
 
-  router.post("/layouts/:slug/rulebooks", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/rulebooks", requirePermission("rulebooks.edit"), async (req, res) => {
     const body = parseWith(saveDraftBodySchema, req.body);
     const version = await saveDraft(deps, String(req.params.slug), body.rulebook, body.note, req.user!.id);
     res.status(201).json({ version });
   });
 
-  router.post("/layouts/:slug/rulebooks/:version/publish", requireRole("engineer", "admin"), async (req, res) => {
+  router.post("/layouts/:slug/rulebooks/:version/publish", requirePermission("rulebooks.publish"), async (req, res) => {
     const version = parseWith(versionParam, req.params.version, "version number");
     await publishVersion(deps, String(req.params.slug), version, req.user!.id);
     res.json({ version });

@@ -5,7 +5,7 @@ import { z } from "zod";
 import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
-import { requireRole, requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
 import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
@@ -48,7 +48,7 @@ export function sessionRoutes(deps: AppDeps): Router {
     res.json({ sessions: await listSessions(deps, layout.id) });
   });
 
-  router.post("/layouts/:slug/sessions/import", requireRole("maintainer", "admin"), oneLogFile, async (req, res) => {
+  router.post("/layouts/:slug/sessions/import", requirePermission("sessions.import"), oneLogFile, async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
     if (!req.file) throw badRequest("attach the event log as the form field \"file\"");
     const { rulebookVersion } = parseWith(importFieldsSchema, req.body ?? {}, "form");
