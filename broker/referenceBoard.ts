@@ -47,6 +47,8 @@ export interface ReferenceBoardOptions {
   onShown?: (signal: string, aspect: Aspect, rev: number) => void;
   /** Every aspect command heard, newest rev per signal. */
   onAspect?: (signal: string, payload: AspectPayload) => void;
+  /** An `applied` for this boot arrived (benches time pulse → applied with it). */
+  onApplied?: (seq: number) => void;
   now?: () => number;
 }
 
@@ -252,6 +254,7 @@ export class ReferenceBoard {
       const p = appliedPayloadSchema.safeParse(json);
       if (!p.success || p.data.boot !== this.boot) return;
       this.coveredSeq = Math.max(this.coveredSeq, p.data.seq);
+      this.options.onApplied?.(p.data.seq);
       for (const [seq, out] of this.outbox) {
         if (seq > this.coveredSeq) break; // kept in seq order
         out.done();
