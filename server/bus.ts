@@ -8,10 +8,18 @@ import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];
   "layout.nodes-changed": [{ layoutId: number; slug: string }];
+  /** The records (lines, detectors, signals, points, nodes, schematic) were saved. */
+  "layout.records-changed": [{ layoutId: number; slug: string; revision: number }];
+  /** An admin archived a layout: it must stop running live (the live runtime listens). */
+  "layout.archived": [{ layoutId: number; slug: string }];
+  /** An archived layout was restored: it runs live again if it has a published rulebook. */
+  "layout.restored": [{ layoutId: number; slug: string }];
+  /** A published version's proof was refuted (the alarm is raised when it is the live one). */
+  "rulebook.refuted": [{ layoutId: number; slug: string; version: number; live: boolean }];
   /** A committed step of a layout's live pipeline, to push to its room. */
   "live.update": [LiveUpdate];
-  /** An alarm was raised, acknowledged or cleared. */
-  "alarm.changed": [AlarmDto & { slug: string; layoutId: number }];
+  /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
+  "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

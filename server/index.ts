@@ -92,8 +92,8 @@ async function main(): Promise<void> {
   logger.info({ mail: deps.mail.describe() }, "mail ready");
   const alarmMail = startAlarmMail(deps);
   const watchers = startAlarmWatchers(deps);
-  cleanups.push(() => {
-    watchers.stop();
+  cleanups.push(async () => {
+    await watchers.stop();
     alarmMail.stop();
   });
 

@@ -6,6 +6,7 @@
 import { DataTypes, Model, type InferAttributes, type InferCreationAttributes, type CreationOptional, type Sequelize } from "sequelize";
 import type { Role, RulebookStatus } from "../../shared/contract/rest";
 import type { Rulebook } from "../../shared/rulebook/schema";
+import { defineRecordModels, type RecordModels } from "./recordModels";
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {
   declare id: CreationOptional<number>;
@@ -27,6 +28,10 @@ export class Layout extends Model<InferAttributes<Layout>, InferCreationAttribut
   declare schematic: Record<string, unknown> | null;
   declare liveVersion: number | null;
   declare aspectRev: CreationOptional<string>;
+  /** Grows by one with every save of the records; `PUT` must name the current one. */
+  declare revision: CreationOptional<number>;
+  /** Set while the layout is archived: not live, read-only. */
+  declare archivedAt: CreationOptional<Date | null>;
   declare createdAt: CreationOptional<Date>;
   declare updatedAt: CreationOptional<Date>;
 }
@@ -56,7 +61,7 @@ export class AuditEntry extends Model<InferAttributes<AuditEntry>, InferCreation
   declare at: CreationOptional<Date>;
 }
 
-export interface Models {
+export interface Models extends RecordModels {
   User: typeof User;
   Layout: typeof Layout;
   RulebookVersion: typeof RulebookVersion;
@@ -84,9 +89,12 @@ export function defineModels(sequelize: Sequelize): Models {
       name: { type: DataTypes.TEXT, allowNull: false },
       scaleName: { type: DataTypes.TEXT, allowNull: false },
       scaleRatio: { type: DataTypes.DOUBLE, allowNull: false },
-      schematic: { type: DataTypes.JSONB },
+      // json, not jsonb: keeps the author's key order (migration 007)
+      schematic: { type: DataTypes.JSON },
       liveVersion: { type: DataTypes.INTEGER },
       aspectRev: { type: DataTypes.BIGINT, defaultValue: 0 },
+      revision: { type: DataTypes.INTEGER, allowNull: false, defaultValue: 1 },
+      archivedAt: { type: DataTypes.DATE },
       createdAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
       updatedAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
     },
@@ -98,7 +106,7 @@ export function defineModels(sequelize: Sequelize): Models {
       layoutId: { type: DataTypes.INTEGER, allowNull: false },
       version: { type: DataTypes.INTEGER, allowNull: false },
       status: { type: DataTypes.TEXT, allowNull: false },
-      rulebook: { type: DataTypes.JSONB, allowNull: false },
+      rulebook: { type: DataTypes.JSON, allowNull: false },
       proof: { type: DataTypes.JSONB },
       note: { type: DataTypes.TEXT },
       authorId: { type: DataTypes.INTEGER },
@@ -121,5 +129,6 @@ export function defineModels(sequelize: Sequelize): Models {
     },
     { sequelize, tableName: "audit_entries" },
   );
-  return { User, Layout, RulebookVersion, AuditEntry };
+  const records = defineRecordModels(sequelize, Layout);
+  return { User, Layout, RulebookVersion, AuditEntry, ...records };
 }

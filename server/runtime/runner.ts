@@ -185,6 +185,14 @@ export class LayoutRunner {
     await this.link?.stop();
   }
 
+  /** Taken out of service (the layout was archived): every signal to danger, then a clean stop. */
+  async retire(reason: string): Promise<void> {
+    await this.idle();
+    this.core.pipelineFault ??= { reason, at: this.options.now() };
+    this.failSafeNow();
+    await this.stop();
+  }
+
   /** Crash: drop the mailbox and timers at once, acknowledging nothing more. */
   abandon(): void {
     this.halt();

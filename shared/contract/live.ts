@@ -162,6 +162,10 @@ export interface AlarmDto {
   acknowledgedBy: string | null;
   comment: string | null;
   clearedAt: string | null;
+  /** How many times it happened while open (grouped by kind and subject). */
+  occurrences: number;
+  /** When it last happened. */
+  lastSeenAt: string;
 }
 
 export interface NodeLiveDto {

@@ -87,6 +87,8 @@ describe("mail and invitations", () => {
       acknowledgedBy: null,
       comment: null,
       clearedAt: null,
+      occurrences: 1,
+      lastSeenAt: "2026-05-02T10:15:03.120Z",
     });
     expect(sent).toBe(1); // the demo maintainer has alarm mail on; nobody else does
     const admin = await t.signIn("admin");

@@ -7,13 +7,15 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { allows, type Action } from "../../shared/contract/permissions";
 import { ROLES, type Role } from "../../shared/contract/rest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { findTemplate } from "../../shared/rulebook/templateCatalog";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
+import { createLayout } from "../../server/features/layouts/edit";
 import { API_ROUTERS } from "../../server/app";
 import type { RouteGuard } from "../../server/features/auth/middleware";
 
-type Method = "get" | "post" | "delete";
+type Method = "get" | "post" | "put" | "delete";
 interface RouteCase {
   method: Method;
   path: string;
@@ -27,6 +29,14 @@ interface RouteCase {
 }
 
 const layoutCopy = (role: Role) => ({ ...kestrelBankLayout(), slug: `matrix-${role}` });
+const editBody = (revision: number) => ({
+  format: "blocklight.layout/1",
+  slug: "matrix-edit",
+  name: "Matrix edit",
+  scale: { name: "G", ratio: 22.5 },
+  lines: [{ id: "main", name: "Main line" }],
+  revision,
+});
 
 const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/me", action: "read" },
@@ -46,7 +56,25 @@ const ROUTES: RouteCase[] = [
     body: () => ({ rulebook: kestrelBankLayout().rulebook, note: "matrix" }),
     okStatus: 201,
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", action: "rulebooks.publish" },
+  {
+    method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", action: "rulebooks.publish",
+    body: () => ({ withoutProof: true, reason: "matrix check" }),
+  },
+  // The workbench (beforeAll creates "matrix-edit" and "matrix-archive", both empty)
+  {
+    method: "post", path: "/api/layouts", action: "layouts.create",
+    body: (role) => ({ slug: `new-${role}`, name: `New layout of the ${role}`, scale: { name: "G", ratio: 22.5 } }),
+    okStatus: 201,
+  },
+  // Rows run in ROLES order (admin before engineer), each save moving the revision on by one.
+  { method: "put", path: "/api/layouts/matrix-edit", action: "layouts.edit", body: (role) => editBody(role === "admin" ? 1 : 2) },
+  { method: "post", path: "/api/layouts/matrix-archive/archive", action: "layouts.archive" },
+  { method: "post", path: "/api/layouts/matrix-archive/restore", action: "layouts.archive" },
+  { method: "get", path: "/api/templates", action: "templates.use" },
+  {
+    method: "post", path: "/api/templates/converging-junction", action: "templates.use",
+    body: () => ({ options: findTemplate("converging-junction")!.example }),
+  },
   {
     method: "post", path: "/api/simulate", action: "read",
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
@@ -89,7 +117,7 @@ const ROUTES: RouteCase[] = [
   { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", action: "display-links.manage", okStatus: 204 },
 ];
 
-type MethodName = Method | "put" | "patch";
+type MethodName = Method | "patch";
 interface AppRoute {
   method: MethodName;
   path: string;
@@ -120,6 +148,8 @@ describe("route × role matrix", () => {
     await raiseAlarm(t.deps, { layoutId: layout!.id, kind: "node-offline", subject: "junction", message: "matrix alarm" });
     await live.runtime.session("kestrel-bank", "open", { id: 1, name: "matrix" });
     await agents.get("admin")!.post("/api/layouts/kestrel-bank/display-links").send({ label: "matrix link 1" });
+    const admin = await t.deps.db.models.User.findOne({ where: { role: "admin" } });
+    for (const slug of ["matrix-edit", "matrix-archive"]) await createLayout(t.deps, { slug, name: slug, scale: { name: "G", ratio: 22.5 } }, admin!.id);
   });
   afterAll(async () => {
     await live?.close();

@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import type { LiveState, LiveUpdate } from "../../shared/contract/live";
 import { redactStateForDisplay, redactUpdateForDisplay } from "../../server/features/display/redact";
 
-const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: "t", acknowledgedBy: "Fernmoor Signaller", comment: "checked", clearedAt: null };
+const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: "t", acknowledgedBy: "Fernmoor Signaller", comment: "checked", clearedAt: null, occurrences: 1, lastSeenAt: "t" };
 
 describe("what a visitor display receives", () => {
   it("gets no alarms (they name who acknowledged them)", () => {

@@ -68,7 +68,7 @@ describe("live updates into the query cache", () => {
   });
 
   it("merges a changed alarm by id", () => {
-    const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: null, acknowledgedBy: null, comment: null, clearedAt: null };
+    const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: null, acknowledgedBy: null, comment: null, clearedAt: null, occurrences: 1, lastSeenAt: "t" };
     const list = mergeAlarm([], alarm);
     expect(mergeAlarm(list, { ...alarm, acknowledgedAt: "t2" })).toEqual([{ ...alarm, acknowledgedAt: "t2" }]);
   });

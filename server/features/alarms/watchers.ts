@@ -1,10 +1,20 @@
 /**
- * Alarm watchers as a pure function: committed pulses and state changes of one layout in,
- * alarms to raise or clear out. No I/O and no clock of their own (time comes with each
- * input), so they are tested as units and replayable; `watchRunner.ts` feeds them from the
- * live pipeline and calls the alarm service.
+ * Alarm watchers of one layout: committed pulses, node status and latch/counter changes in,
+ * alarms to raise, repeat or clear out. No I/O and no clock of their own (time comes with
+ * each input), so they are tested as units and replayable; `watchRunner.ts` feeds them from
+ * the live pipeline and hands their answers to the alarm writer.
  *
- * What they watch (times are configurable, see `WatcherConfig`):
+ * Cost: every input does a constant amount of work for a given layout (its neighbours on the
+ * route graph, the latches that watch its detector), never a pass over the whole state. The
+ * "nothing happened for N" cases keep their subjects in Maps in the order of their deadlines
+ * (a deadline is always "last seen + one fixed limit", and last-seen times only grow), so an
+ * input looks only at the front of each, and `nextDeadline()` tells the runner when to tick.
+ *
+ * Time: `at` is the server's clock (receipt time); the gap between two pulses on one
+ * detector comes from the board's own clock (`t` of the same boot) when both pulses carry
+ * one, so a server that received a burst late cannot make pulses look closer than they were.
+ *
+ * What they watch (thresholds in `WatcherSettings`):
  * - **stuck**: a latch set, or a counter above 0, for longer than `stuckAfterMs` with no pulse
  *   on the detectors of its route in that time. A name belongs to the routes whose id it
  *   starts with (`mainApproach` → route `main`; `W1Approach` → the route(s) of signal W1);
@@ -14,30 +24,21 @@
  *   there without crossing D), or while the one before it saw one more than that (one train
  *   may still be waiting or in the section). Only neighbours with no other way in or out
  *   count (a shared exit also sees the other route's trains). Cleared by D's next pulse.
- * - **chatter**: two pulses on one detector closer than `chatterMinGapMs` (no wheelset
- *   follows another that closely: 40 ms at G scale). Cleared after `chatterQuietMs` without.
- * - **axle-mismatch**: pulses at a detector are grouped into trains (a gap over
- *   `trainGapMs` ends a train); each train counted at a detector is matched, in order, with
- *   the oldest unmatched train counted at the detector before it on a route; different
- *   counts raise the alarm for that pair. Cleared when a later train there matches.
+ * - **chatter**: two pulses on one detector closer than `chatterMinGapMs`. Cleared after
+ *   `chatterQuietMs` without.
+ * - **axle-mismatch**: pulses at a detector are grouped into trains (a gap over `trainGapMs`
+ *   ends a train); each train counted at a detector is matched, in order, with the oldest
+ *   unmatched train counted at the detector before it on a route; counts further apart than
+ *   `axleMismatchTolerance` raise the alarm for that pair. Cleared when a later train matches.
+ * - **node-offline**: a node that said it went offline and stayed so `nodeOfflineAfterMs`.
+ *   Cleared when it is back.
+ *
+ * An alarm is open at most once per kind + subject. Another occurrence while it is open is a
+ * `repeat` (the writer adds it to the alarm's count and "last seen"): every chattering pulse
+ * and every mismatched train; a silent detector when the count of trains it missed grows.
  */
 import type { AlarmKind } from "../../../shared/contract/live";
-
-export interface WatcherConfig {
-  stuckAfterMs: number;
-  chatterMinGapMs: number;
-  chatterQuietMs: number;
-  trainGapMs: number;
-  silentAfterTrains: number;
-}
-
-export const DEFAULT_WATCHER_CONFIG: WatcherConfig = {
-  stuckAfterMs: 10 * 60_000,
-  chatterMinGapMs: 40,
-  chatterQuietMs: 60_000,
-  trainGapMs: 4_000,
-  silentAfterTrains: 2,
-};
+import { DEFAULT_WATCHER_SETTINGS, type WatcherSettings } from "./watcherSettings";
 
 export interface WatchRoute {
   id: string;
@@ -47,47 +48,43 @@ export interface WatchRoute {
   exit: string[];
 }
 
+/** A pulse's time on its board's clock: `clock` names the clock (node and boot), `t` ms since boot. */
+export interface BoardTime {
+  clock: string;
+  t: number;
+}
+
 export type WatchInput =
-  | { type: "pulse"; detector: string; at: number }
+  | { type: "pulse"; detector: string; at: number; board?: BoardTime }
   /** Latches and counters after a committed step (whole records or only the changed keys). */
   | { type: "state"; at: number; latches?: Record<string, boolean>; counters?: Record<string, number> }
+  | { type: "node"; at: number; node: string; online: boolean }
   | { type: "tick"; at: number };
 
+export type WatchedKind = Extract<AlarmKind, "stuck" | "detector-silent" | "chatter" | "axle-mismatch" | "node-offline">;
+
 export interface AlarmAction {
-  op: "raise" | "clear";
-  kind: Extract<AlarmKind, "stuck" | "detector-silent" | "chatter" | "axle-mismatch">;
+  /** `raise`: newly open; `repeat`: happened again while open (count + 1); `clear`: gone. */
+  op: "raise" | "repeat" | "clear";
+  kind: WatchedKind;
   subject: string;
   message: string;
+  /** Server time of the input that caused it. */
+  at: number;
 }
 
-interface OpenTrain {
-  axles: number;
-  first: number;
-  last: number;
-}
-interface CountedTrain {
-  axles: number;
-  done: number;
-}
+/** When an open alarm happens again: on every occurrence, only when its figures change, or never. */
+export type RepeatRule = "always" | "changed" | "never";
+export const REPEAT_RULES: Record<WatchedKind, RepeatRule> = {
+  chatter: "always",
+  "axle-mismatch": "always",
+  "detector-silent": "changed",
+  stuck: "never",
+  "node-offline": "never",
+};
 
-export interface WatchState {
-  clock: number;
-  /** `latch:NAME` / `counter:NAME` → when it became set (absent when reset). */
-  setSince: Record<string, number>;
-  lastPulse: Record<string, number>;
-  trains: Record<string, number>;
-  /** Per detector: the train counts of the detectors next to it at its own last pulse. */
-  marks: Record<string, Record<string, number>>;
-  open: Record<string, OpenTrain>;
-  counted: Record<string, CountedTrain[]>;
-  lastChatter: Record<string, number>;
-  /** Alarms this watcher has raised and not cleared: `kind|subject`. */
-  raised: Record<string, string>;
-}
-
-export function createWatchState(): WatchState {
-  return { clock: 0, setSince: {}, lastPulse: {}, trains: {}, marks: {}, open: {}, counted: {}, lastChatter: {}, raised: {} };
-}
+/** Trains counted at a detector and not yet matched downstream, at most this many. */
+export const COUNTED_TRAINS_KEPT = 16;
 
 /** The detectors before and after each detector on the routes' paths. */
 export interface RouteGraph {
@@ -124,127 +121,326 @@ export function detectorsFor(name: string, routes: WatchRoute[]): string[] {
   return [...new Set(chosen.flatMap((r) => [...r.approach, r.entry, ...r.exit]))];
 }
 
-const fmtMs = (ms: number) => (ms % 60_000 === 0 ? `${ms / 60_000} min` : ms % 1000 === 0 ? `${ms / 1000} s` : `${ms} ms`);
+export const fmtMs = (ms: number) => (ms % 60_000 === 0 && ms > 0 ? `${ms / 60_000} min` : ms % 1000 === 0 && ms > 0 ? `${ms / 1000} s` : `${ms} ms`);
 
-/**
- * One input through the watchers. Returns the new state (the old one is not changed) and
- * the alarms to raise or clear, each at most once until its condition changes.
- */
-export function watch(config: WatcherConfig, routes: WatchRoute[], graph: RouteGraph, previous: WatchState, input: WatchInput): { state: WatchState; actions: AlarmAction[] } {
-  const s: WatchState = structuredClone(previous);
-  const actions: AlarmAction[] = [];
-  const raise = (kind: AlarmAction["kind"], subject: string, message: string) => {
-    const key = `${kind}|${subject}`;
-    if (s.raised[key] === message) return;
-    s.raised[key] = message;
-    actions.push({ op: "raise", kind, subject, message });
-  };
-  const clear = (kind: AlarmAction["kind"], subject: string) => {
-    const key = `${kind}|${subject}`;
-    if (!(key in s.raised)) return;
-    const message = s.raised[key];
-    delete s.raised[key];
-    actions.push({ op: "clear", kind, subject, message });
-  };
-  s.clock = Math.max(s.clock, input.at);
-  const now = s.clock;
+/** The gap between two pulses on one detector: on the board's clock when both have the same one. */
+export function pulseGapMs(prev: { at: number; board?: BoardTime }, at: number, board?: BoardTime): number {
+  if (board && prev.board && prev.board.clock === board.clock && board.t >= prev.board.t) return board.t - prev.board.t;
+  return at - prev.at;
+}
 
-  // Trains whose last axle is long enough ago are complete: count and match them, oldest first.
-  const finishTrains = () => {
-    const finished = Object.entries(s.open)
-      .filter(([, t]) => now - t.last > config.trainGapMs)
-      .sort((a, b) => a[1].last - b[1].last);
-    for (const [detector, train] of finished) {
-      delete s.open[detector];
-      const done = train.last;
-      const upstream = (graph.before[detector] ?? []).filter((d) => (s.counted[d]?.length ?? 0) > 0);
-      if (upstream.length > 0) {
-        const from = upstream.sort((a, b) => s.counted[a][0].done - s.counted[b][0].done)[0];
-        const earlier = s.counted[from].shift()!;
-        const subject = `${from}→${detector}`;
-        if (earlier.axles !== train.axles) {
-          raise("axle-mismatch", subject, `A train counted ${earlier.axles} axles at ${from} but ${train.axles} at ${detector}`);
-        } else {
-          clear("axle-mismatch", subject);
-        }
-      }
-      if ((graph.after[detector] ?? []).length > 0) {
-        const queue = (s.counted[detector] ??= []);
-        queue.push({ axles: train.axles, done });
-        // Trains that went elsewhere (or were never seen again) must not pile up.
-        if (queue.length > 16) queue.shift();
-      }
+/** The wording of each alarm, shared with the reference implementation in the tests. */
+export const alarmText = {
+  stuck: (name: string, isLatch: boolean, limitMs: number, detectors: string[]) =>
+    `${isLatch ? "Latch" : "Counter"} ${name} has been ${isLatch ? "set" : "above 0"} for over ${fmtMs(limitMs)} with no pulse on ${detectors.join(", ") || "its route"}: is a train really there?`,
+  chatter: (d: string, gapMs: number, minGapMs: number) =>
+    `Detector ${d} gave pulses closer than ${minGapMs} ms apart (last seen ${gapMs} ms apart): check it for a loose wire or a flickering beam`,
+  axleMismatch: (from: string, fromAxles: number, to: string, toAxles: number) => `A train counted ${fromAxles} axles at ${from} but ${toAxles} at ${to}`,
+  silent: (d: string, witness: string, seen: number) => `Detector ${d} has seen no train while ${witness} next to it saw ${seen}: check ${d}`,
+  nodeOffline: (node: string, afterMs: number) => (afterMs > 0 ? `Node ${node} has been offline for over ${fmtMs(afterMs)}` : `Node ${node} went offline`),
+};
+
+interface OpenTrain {
+  axles: number;
+  last: number;
+}
+interface CountedTrain {
+  axles: number;
+  done: number;
+}
+
+const keyOf = (kind: WatchedKind, subject: string) => `${kind}|${subject}`;
+const isLatchKey = (key: string) => key.startsWith("latch:");
+const nameOfKey = (key: string) => key.slice(key.indexOf(":") + 1);
+
+/** Moves `key` to the back of an insertion-ordered Map (its deadline is now the latest). */
+function touch<K, V>(map: Map<K, V>, key: K, value: V): void {
+  map.delete(key);
+  map.set(key, value);
+}
+function front<K, V>(map: Map<K, V>): [K, V] | undefined {
+  for (const entry of map) return entry;
+  return undefined;
+}
+
+export class AlarmWatcher {
+  private settings: WatcherSettings;
+  private readonly graph: RouteGraph;
+  private readonly detectorsOfName = new Map<string, string[]>();
+  private clock = 0;
+  private readonly lastPulse = new Map<string, { at: number; board?: BoardTime }>();
+  private readonly trains = new Map<string, number>();
+  /** Per detector: the train counts of its neighbours at its own last pulse. */
+  private readonly marks = new Map<string, Map<string, number>>();
+  /** Open trains in the order of their last axle (oldest first). */
+  private readonly open = new Map<string, OpenTrain>();
+  private readonly counted = new Map<string, CountedTrain[]>();
+  /** Detectors with open chatter, in the order of their last chattering pulse. */
+  private readonly chatterSeen = new Map<string, number>();
+  /** `latch:NAME` / `counter:NAME` → when it became set. */
+  private readonly setSince = new Map<string, number>();
+  /** Set keys not yet raised as stuck, in the order of their last movement. */
+  private readonly stuckDue = new Map<string, number>();
+  /** Detector → the set keys its pulses count as movement for. */
+  private readonly keysOfDetector = new Map<string, Set<string>>();
+  /** Nodes offline and not yet raised, in the order they went offline. */
+  private readonly offlineDue = new Map<string, number>();
+  /** Open alarms: `kind|subject` → their latest message. */
+  private readonly raised = new Map<string, string>();
+  private actions: AlarmAction[] = [];
+
+  constructor(
+    private readonly routes: WatchRoute[],
+    settings: WatcherSettings = DEFAULT_WATCHER_SETTINGS,
+  ) {
+    this.settings = { ...settings };
+    this.graph = routeGraph(routes);
+  }
+
+  /** New thresholds from now on; what is already waiting keeps its place (the order holds). */
+  setSettings(settings: WatcherSettings): void {
+    this.settings = { ...settings };
+  }
+
+  getSettings(): WatcherSettings {
+    return { ...this.settings };
+  }
+
+  /** Open alarms as this watcher sees them (`kind|subject`). */
+  openAlarms(): string[] {
+    return [...this.raised.keys()];
+  }
+
+  /** The earliest server time at which a tick would raise or clear something, if any. */
+  nextDeadline(): number | null {
+    const s = this.settings;
+    let next = Infinity;
+    const train = front(this.open);
+    if (train) next = Math.min(next, train[1].last + s.trainGapMs + 1);
+    const stuck = front(this.stuckDue);
+    if (stuck) next = Math.min(next, stuck[1] + s.stuckAfterMs);
+    const chatter = front(this.chatterSeen);
+    if (chatter) next = Math.min(next, chatter[1] + s.chatterQuietMs);
+    const offline = front(this.offlineDue);
+    if (offline) next = Math.min(next, offline[1] + s.nodeOfflineAfterMs);
+    return next === Infinity ? null : Math.max(next, this.clock);
+  }
+
+  /** One input; returns the alarms to raise, repeat or clear because of it. */
+  watch(input: WatchInput): AlarmAction[] {
+    this.actions = [];
+    this.clock = Math.max(this.clock, input.at);
+    switch (input.type) {
+      case "pulse":
+        this.onPulse(input.detector, input.board);
+        break;
+      case "state":
+        for (const name in input.latches ?? {}) this.mark(`latch:${name}`, input.latches![name]);
+        for (const name in input.counters ?? {}) this.mark(`counter:${name}`, input.counters![name] > 0);
+        this.finishDueTrains();
+        break;
+      case "node":
+        this.onNode(input.node, input.online);
+        this.finishDueTrains();
+        break;
+      case "tick":
+        this.finishDueTrains();
+        break;
     }
-  };
+    this.checkStuck();
+    this.checkChatterQuiet();
+    this.checkOffline();
+    return this.actions;
+  }
 
-  if (input.type === "pulse") {
-    const d = input.detector;
-    finishTrains();
-    const last = s.lastPulse[d];
-    if (last !== undefined && input.at - last < config.chatterMinGapMs) {
-      s.lastChatter[d] = input.at;
-      raise("chatter", d, `Detector ${d} gave pulses ${input.at - last} ms apart (closer than ${config.chatterMinGapMs} ms): check it for a loose wire or a flickering beam`);
+  private raise(kind: WatchedKind, subject: string, message: string): void {
+    const key = keyOf(kind, subject);
+    const open = this.raised.get(key);
+    if (open === undefined) {
+      this.raised.set(key, message);
+      this.actions.push({ op: "raise", kind, subject, message, at: this.clock });
+      return;
     }
-    const open = s.open[d];
-    if (open) {
+    const rule = REPEAT_RULES[kind];
+    if (rule === "always" || (rule === "changed" && open !== message)) {
+      this.raised.set(key, message);
+      this.actions.push({ op: "repeat", kind, subject, message, at: this.clock });
+    }
+  }
+
+  private clear(kind: WatchedKind, subject: string): void {
+    const key = keyOf(kind, subject);
+    const message = this.raised.get(key);
+    if (message === undefined) return;
+    this.raised.delete(key);
+    this.actions.push({ op: "clear", kind, subject, message, at: this.clock });
+  }
+
+  private onPulse(d: string, board: BoardTime | undefined): void {
+    const now = this.clock;
+    const s = this.settings;
+    // This detector's own train is judged by the board's gap below, not by the server's clock.
+    let mine = this.open.get(d);
+    if (mine) this.open.delete(d);
+    this.finishDueTrains();
+    const prev = this.lastPulse.get(d);
+    const gap = prev === undefined ? null : pulseGapMs(prev, now, board);
+    const chatter = gap !== null && gap < s.chatterMinGapMs;
+    if (chatter) {
+      touch(this.chatterSeen, d, now);
+      this.raise("chatter", d, alarmText.chatter(d, gap, s.chatterMinGapMs));
+    }
+    if (mine && gap !== null && gap > s.trainGapMs) {
+      this.finishTrain(d, mine);
+      mine = undefined;
+    }
+    if (mine) {
       // A chattering pulse is not an axle: it would spoil the axle count.
-      if (!(last !== undefined && input.at - last < config.chatterMinGapMs)) open.axles++;
-      open.last = input.at;
+      if (!chatter) mine.axles++;
+      mine.last = now;
+      this.open.set(d, mine);
     } else {
-      s.open[d] = { axles: 1, first: input.at, last: input.at };
-      s.trains[d] = (s.trains[d] ?? 0) + 1;
+      this.open.set(d, { axles: 1, last: now });
+      this.trains.set(d, (this.trains.get(d) ?? 0) + 1);
     }
-    s.lastPulse[d] = input.at;
-    const neighbours = [...(graph.before[d] ?? []), ...(graph.after[d] ?? [])];
-    s.marks[d] = Object.fromEntries(neighbours.map((n) => [n, s.trains[n] ?? 0]));
-    clear("detector-silent", d);
+    this.lastPulse.set(d, { at: now, board });
 
+    const before = this.graph.before[d] ?? [];
+    const after = this.graph.after[d] ?? [];
+    let marks = this.marks.get(d);
+    if (!marks) this.marks.set(d, (marks = new Map()));
+    for (const n of before) marks.set(n, this.trains.get(n) ?? 0);
+    for (const n of after) marks.set(n, this.trains.get(n) ?? 0);
+    this.clear("detector-silent", d);
     // Did the trains at d pass a silent detector on the way?
-    for (const other of graph.before[d] ?? []) checkSilent(other);
-    for (const next of graph.after[d] ?? []) checkSilent(next);
-  } else if (input.type === "state") {
-    for (const [name, on] of Object.entries(input.latches ?? {})) mark(`latch:${name}`, on);
-    for (const [name, n] of Object.entries(input.counters ?? {})) mark(`counter:${name}`, n > 0);
-    finishTrains();
-  } else {
-    finishTrains();
+    for (const other of before) this.checkSilent(other);
+    for (const next of after) this.checkSilent(next);
+
+    for (const key of this.keysOfDetector.get(d) ?? []) if (this.stuckDue.has(key)) touch(this.stuckDue, key, now);
   }
 
-  // Stuck latches and counters.
-  for (const [key, since] of Object.entries(s.setSince)) {
-    const name = key.slice(key.indexOf(":") + 1);
-    const what = key.startsWith("latch:") ? "Latch" : "Counter";
-    const detectors = detectorsFor(name, routes);
-    const moved = Math.max(since, ...detectors.map((d) => s.lastPulse[d] ?? -Infinity));
-    if (now - moved >= config.stuckAfterMs) {
-      raise("stuck", name, `${what} ${name} has been ${what === "Latch" ? "set" : "above 0"} for over ${fmtMs(config.stuckAfterMs)} with no pulse on ${detectors.join(", ") || "its route"}: is a train really there?`);
-    }
-  }
-  for (const [d, at] of Object.entries(s.lastChatter)) {
-    if (now - at >= config.chatterQuietMs) {
-      delete s.lastChatter[d];
-      clear("chatter", d);
-    }
-  }
-  return { state: s, actions };
-
-  function mark(key: string, on: boolean) {
-    if (on && s.setSince[key] === undefined) s.setSince[key] = now;
-    if (!on && s.setSince[key] !== undefined) {
-      delete s.setSince[key];
-      clear("stuck", key.slice(key.indexOf(":") + 1));
+  private onNode(node: string, online: boolean): void {
+    if (online) {
+      this.offlineDue.delete(node);
+      this.clear("node-offline", node);
+    } else if (!this.offlineDue.has(node) && !this.raised.has(keyOf("node-offline", node))) {
+      this.offlineDue.set(node, this.clock);
     }
   }
 
-  function checkSilent(d: string) {
-    const marks = s.marks[d] ?? {};
-    const seen = (n: string) => (s.trains[n] ?? 0) - (marks[n] ?? 0);
+  /** Trains whose last axle is long enough ago are complete: count and match them, oldest first. */
+  private finishDueTrains(): void {
+    for (;;) {
+      const next = front(this.open);
+      if (!next || this.clock - next[1].last <= this.settings.trainGapMs) return;
+      this.open.delete(next[0]);
+      this.finishTrain(next[0], next[1]);
+    }
+  }
+
+  private finishTrain(detector: string, train: OpenTrain): void {
+    let from: string | undefined;
+    let oldest = Infinity;
+    for (const d of this.graph.before[detector] ?? []) {
+      const queue = this.counted.get(d);
+      if (queue && queue.length > 0 && queue[0].done < oldest) {
+        oldest = queue[0].done;
+        from = d;
+      }
+    }
+    if (from !== undefined) {
+      const earlier = this.counted.get(from)!.shift()!;
+      const subject = `${from}→${detector}`;
+      if (Math.abs(earlier.axles - train.axles) > this.settings.axleMismatchTolerance) {
+        this.raise("axle-mismatch", subject, alarmText.axleMismatch(from, earlier.axles, detector, train.axles));
+      } else {
+        this.clear("axle-mismatch", subject);
+      }
+    }
+    if ((this.graph.after[detector] ?? []).length > 0) {
+      let queue = this.counted.get(detector);
+      if (!queue) this.counted.set(detector, (queue = []));
+      queue.push({ axles: train.axles, done: train.last });
+      // Trains that went elsewhere (or were never seen again) must not pile up.
+      if (queue.length > COUNTED_TRAINS_KEPT) queue.shift();
+    }
+  }
+
+  private checkSilent(d: string): void {
+    const marks = this.marks.get(d);
+    const seen = (n: string) => (this.trains.get(n) ?? 0) - (marks?.get(n) ?? 0);
+    const g = this.graph;
+    let witness: string | undefined;
     // Only a neighbour that trains can reach by no other way than d is a witness: a shared
     // exit (two routes merging) also sees the other route's trains.
-    const downstream = (graph.after[d] ?? []).filter((n) => (graph.before[n] ?? []).length === 1 && seen(n) >= config.silentAfterTrains);
+    for (const n of g.after[d] ?? []) {
+      if ((g.before[n] ?? []).length === 1 && seen(n) >= this.settings.silentAfterTrains) {
+        witness = n;
+        break;
+      }
+    }
     // Trains seen before d must cross d, but one may still be waiting or in the section.
-    const upstreamOfEnd = (graph.before[d] ?? []).filter((n) => (graph.after[n] ?? []).length === 1 && seen(n) >= config.silentAfterTrains + 1);
-    const witness = downstream[0] ?? upstreamOfEnd[0];
-    if (witness) raise("detector-silent", d, `Detector ${d} has seen no train while ${witness} next to it saw ${seen(witness)}: check ${d}`);
+    if (witness === undefined) {
+      for (const n of g.before[d] ?? []) {
+        if ((g.after[n] ?? []).length === 1 && seen(n) >= this.settings.silentAfterTrains + 1) {
+          witness = n;
+          break;
+        }
+      }
+    }
+    if (witness !== undefined) this.raise("detector-silent", d, alarmText.silent(d, witness, seen(witness)));
+  }
+
+  private detectorsOf(name: string): string[] {
+    let list = this.detectorsOfName.get(name);
+    if (!list) this.detectorsOfName.set(name, (list = detectorsFor(name, this.routes)));
+    return list;
+  }
+
+  private mark(key: string, on: boolean): void {
+    const wasSet = this.setSince.has(key);
+    if (on && !wasSet) {
+      this.setSince.set(key, this.clock);
+      this.stuckDue.set(key, this.clock);
+      for (const d of this.detectorsOf(nameOfKey(key))) {
+        let keys = this.keysOfDetector.get(d);
+        if (!keys) this.keysOfDetector.set(d, (keys = new Set()));
+        keys.add(key);
+      }
+    } else if (!on && wasSet) {
+      this.setSince.delete(key);
+      this.stuckDue.delete(key);
+      for (const d of this.detectorsOf(nameOfKey(key))) this.keysOfDetector.get(d)?.delete(key);
+      this.clear("stuck", nameOfKey(key));
+    }
+  }
+
+  private checkStuck(): void {
+    for (;;) {
+      const next = front(this.stuckDue);
+      if (!next || this.clock - next[1] < this.settings.stuckAfterMs) return;
+      const [key] = next;
+      this.stuckDue.delete(key);
+      const name = nameOfKey(key);
+      this.raise("stuck", name, alarmText.stuck(name, isLatchKey(key), this.settings.stuckAfterMs, this.detectorsOf(name)));
+    }
+  }
+
+  private checkChatterQuiet(): void {
+    for (;;) {
+      const next = front(this.chatterSeen);
+      if (!next || this.clock - next[1] < this.settings.chatterQuietMs) return;
+      this.chatterSeen.delete(next[0]);
+      this.clear("chatter", next[0]);
+    }
+  }
+
+  private checkOffline(): void {
+    for (;;) {
+      const next = front(this.offlineDue);
+      if (!next || this.clock - next[1] < this.settings.nodeOfflineAfterMs) return;
+      this.offlineDue.delete(next[0]);
+      this.raise("node-offline", next[0], alarmText.nodeOffline(next[0], this.settings.nodeOfflineAfterMs));
+    }
   }
 }

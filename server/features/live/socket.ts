@@ -93,8 +93,8 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
     io.to(room(update.slug)).emit("live:update", update);
     io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
   };
-  const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number }) => {
-    const { layoutId: _layoutId, ...dto } = alarm;
+  const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number; created?: boolean }) => {
+    const { layoutId: _layoutId, created: _created, ...dto } = alarm;
     io.to(room(alarm.slug)).emit("alarm:changed", dto);
   };
   const onRevoked = ({ tokenHash }: { layoutId: number; tokenHash: string }) => {

@@ -7,9 +7,11 @@ import type { AppDeps } from "../../deps";
 import { appBaseUrl, mailerOf } from "./service";
 
 export function startAlarmMail(deps: AppDeps): { stop(): void } {
-  const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number }) => {
+  const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number; created?: boolean }) => {
     // Raised = neither acknowledged nor cleared; the same event also announces those later.
     if (alarm.acknowledgedAt !== null || alarm.clearedAt !== null) return;
+    // Grouped alarms: a repeat of an open alarm (its count going up) is not news for the inbox.
+    if (!alarm.created) return;
     void sendAlarmMail(deps, alarm).catch((err) => deps.logger.warn({ err }, "alarm mail failed"));
   };
   deps.bus.on("alarm.changed", onAlarm);

@@ -79,9 +79,8 @@ export function applyMessage(core: Core, m: HeldMessage, retain: boolean, at: nu
     const live: NodeLiveDto = { online: p.online, since: iso(m.receivedAt), boot: p.boot ?? null, fw: p.fw ?? null };
     core.nodeLive.set(r.node, live);
     const event = newEvent(core, { kind: "status", status: "accepted", node: r.node, boot: p.boot ?? null, receivedAt: m.receivedAt, topic: m.topic, input: p });
-    const index = record(out, event, { nodes: Object.fromEntries(core.nodeLive) });
-    if (!p.online) out.effects.push({ type: "alarm", kind: "node-offline", subject: r.node, message: `node "${r.node}" went offline`, event: index });
-    else out.effects.push({ type: "clear", kind: "node-offline", subject: r.node });
+    // node-offline alarms are the watchers' (features/alarms/watchers.ts), after their delay.
+    record(out, event, { nodes: Object.fromEntries(core.nodeLive) });
     return;
   }
   if (r.kind === "shown") {
