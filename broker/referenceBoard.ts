@@ -197,6 +197,7 @@ export class ReferenceBoard {
 
   /** Keeps an already numbered message (a player that counts seqs itself must count them in order). */
   keep(kind: "pulse" | "points", payload: Record<string, unknown> & { seq: number; boot: string }): Promise<void> {
+    if (payload.boot !== this.boot) this.reboot(payload.boot); // the player powered up anew
     this.seq = Math.max(this.seq, payload.seq);
     const topic = kind === "pulse" ? topics.pulse(this.options.layout, this.options.node) : topics.points(this.options.layout, this.options.node);
     return new Promise((resolve) => {

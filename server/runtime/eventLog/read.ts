@@ -147,9 +147,13 @@ export async function lastEventId(query: Query, layoutId: number): Promise<strin
 }
 
 /** Live event ids after `afterId`, in order: tells whether a commit whose reply was lost went through. */
-export async function eventIdsAfter(query: Query, layoutId: number, afterId: string): Promise<{ id: string; session_id: number | null }[]> {
-  return query<{ id: string; session_id: number | null }>(
-    `SELECT id::text, session_id FROM events WHERE layout_id = $1 AND id > $2::bigint AND NOT imported ORDER BY id`,
+export async function eventIdsAfter(
+  query: Query,
+  layoutId: number,
+  afterId: string,
+): Promise<{ id: string; session_id: number | null; kind: string; node_id: string | null; seq: string | null }[]> {
+  return query<{ id: string; session_id: number | null; kind: string; node_id: string | null; seq: string | null }>(
+    `SELECT id::text, session_id, kind, node_id, seq::text FROM events WHERE layout_id = $1 AND id > $2::bigint AND NOT imported ORDER BY id`,
     [layoutId, afterId],
   );
 }
