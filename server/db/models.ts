@@ -3,7 +3,7 @@
  * tables of the live pipeline (events, changes) are written with plain SQL in
  * server/runtime, because group commits need multi-row inserts.
  */
-import { DataTypes, Model, type InferAttributes, type InferCreationAttributes, type CreationOptional, type Sequelize } from "sequelize";
+import { DataTypes, Model, type InferAttributes, type InferCreationAttributes, type CreationOptional, type NonAttribute, type Sequelize } from "sequelize";
 import type { Role, RulebookStatus } from "../../shared/contract/rest";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { defineRecordModels, type RecordModels } from "./recordModels";
@@ -61,11 +61,52 @@ export class AuditEntry extends Model<InferAttributes<AuditEntry>, InferCreation
   declare at: CreationOptional<Date>;
 }
 
+/** The one society this install serves (row id 1). */
+export class Society extends Model<InferAttributes<Society>, InferCreationAttributes<Society>> {
+  declare id: CreationOptional<number>;
+  declare name: string;
+  declare createdAt: CreationOptional<Date>;
+}
+
+/** A signed-in browser: the session cookie's JWT names it by `id`. */
+export class AuthSession extends Model<InferAttributes<AuthSession>, InferCreationAttributes<AuthSession>> {
+  declare id: string;
+  declare userId: number;
+  declare createdAt: CreationOptional<Date>;
+  declare expiresAt: Date;
+  declare user?: NonAttribute<User>;
+}
+
+export class PasswordReset extends Model<InferAttributes<PasswordReset>, InferCreationAttributes<PasswordReset>> {
+  declare id: CreationOptional<number>;
+  declare userId: number;
+  declare tokenHash: string;
+  declare createdAt: Date;
+  declare expiresAt: Date;
+  declare usedAt: Date | null;
+}
+
+export class Invitation extends Model<InferAttributes<Invitation>, InferCreationAttributes<Invitation>> {
+  declare id: CreationOptional<number>;
+  declare email: string;
+  declare role: Role;
+  declare tokenHash: string;
+  declare invitedBy: number | null;
+  declare createdAt: CreationOptional<Date>;
+  declare expiresAt: Date;
+  declare acceptedAt: CreationOptional<Date | null>;
+  declare revokedAt: CreationOptional<Date | null>;
+}
+
 export interface Models extends RecordModels {
   User: typeof User;
   Layout: typeof Layout;
   RulebookVersion: typeof RulebookVersion;
   AuditEntry: typeof AuditEntry;
+  Society: typeof Society;
+  AuthSession: typeof AuthSession;
+  PasswordReset: typeof PasswordReset;
+  Invitation: typeof Invitation;
 }
 
 export function defineModels(sequelize: Sequelize): Models {
@@ -130,5 +171,48 @@ export function defineModels(sequelize: Sequelize): Models {
     { sequelize, tableName: "audit_entries" },
   );
   const records = defineRecordModels(sequelize, Layout);
-  return { User, Layout, RulebookVersion, AuditEntry, ...records };
+  Society.init(
+    {
+      id: { type: DataTypes.SMALLINT, primaryKey: true, defaultValue: 1 },
+      name: { type: DataTypes.TEXT, allowNull: false },
+      createdAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
+    },
+    { sequelize, tableName: "society" },
+  );
+  AuthSession.init(
+    {
+      id: { type: DataTypes.TEXT, primaryKey: true },
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      createdAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+    },
+    { sequelize, tableName: "auth_sessions" },
+  );
+  PasswordReset.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      userId: { type: DataTypes.INTEGER, allowNull: false },
+      tokenHash: { type: DataTypes.TEXT, allowNull: false, unique: true },
+      createdAt: { type: DataTypes.DATE, allowNull: false },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      usedAt: { type: DataTypes.DATE },
+    },
+    { sequelize, tableName: "password_resets" },
+  );
+  Invitation.init(
+    {
+      id: { type: DataTypes.INTEGER, autoIncrement: true, primaryKey: true },
+      email: { type: DataTypes.TEXT, allowNull: false },
+      role: { type: DataTypes.TEXT, allowNull: false },
+      tokenHash: { type: DataTypes.TEXT, allowNull: false, unique: true },
+      invitedBy: { type: DataTypes.INTEGER },
+      createdAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
+      expiresAt: { type: DataTypes.DATE, allowNull: false },
+      acceptedAt: { type: DataTypes.DATE },
+      revokedAt: { type: DataTypes.DATE },
+    },
+    { sequelize, tableName: "invitations" },
+  );
+  AuthSession.belongsTo(User, { foreignKey: "userId", as: "user" });
+  return { User, Layout, RulebookVersion, AuditEntry, Society, AuthSession, PasswordReset, Invitation, ...records };
 }

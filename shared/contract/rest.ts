@@ -28,6 +28,8 @@ export interface UserDto {
   email: string;
   name: string;
   role: Role;
+  /** Whether alarms are mailed to this member. */
+  alarmMail: boolean;
 }
 export interface MeResponse {
   user: UserDto;
