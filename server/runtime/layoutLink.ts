@@ -10,7 +10,7 @@
  * same subscription and are dropped here.
  */
 import mqtt, { type IPublishPacket, type MqttClient } from "mqtt";
-import { topics, type AppliedPayload, type AspectPayload, type ServerStatusPayload } from "../../shared/contract/live";
+import { topics, type AppliedPayload, type AspectPayload, type PointsSetPayload, type ServerStatusPayload } from "../../shared/contract/live";
 import type { Aspect } from "../../shared/rulebook/schema";
 import type { Logger } from "../logger";
 import { deferAcks } from "./mqttAck";
@@ -39,6 +39,8 @@ export interface LayoutLink {
   pendingAcks(): number;
   publishAspect(signal: string, aspect: Aspect, rev: number, at: number): void;
   publishApplied(node: string, payload: AppliedPayload): void;
+  /** The rulebook's command to power-worked points (retained: a board that restarts moves them again). */
+  publishPointsSet(points: string, to: PointsSetPayload["to"], rev: number, at: number): void;
   start(): void;
   /** Clean stop: offline status, then DISCONNECT (the will is not sent on a clean disconnect). */
   stop(): Promise<void>;
@@ -102,6 +104,10 @@ export function connectLayoutLink(options: LayoutLinkOptions): LayoutLink {
     publishAspect(signal, aspect, rev, at) {
       const payload: AspectPayload = { aspect, rev, at: new Date(at).toISOString() };
       client.publish(topics.aspect(slug, signal), JSON.stringify(payload), { qos: 1, retain: true }, warn("aspect publish failed"));
+    },
+    publishPointsSet(points, to, rev, at) {
+      const payload: PointsSetPayload = { to, rev, at: new Date(at).toISOString() };
+      client.publish(topics.pointsSet(slug, points), JSON.stringify(payload), { qos: 1, retain: true }, warn("points set publish failed"));
     },
     publishApplied(node, payload) {
       if (client.connected) client.publish(topics.applied(slug, node), JSON.stringify(payload), { qos: 1, retain: true }, warn("applied publish failed"));

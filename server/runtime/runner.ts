@@ -19,6 +19,7 @@ import { AlarmOutbox, type AlarmEffect } from "./alarmOutbox";
 import { Committer } from "./committer";
 import { appendStep, apply, declareOutage, endOutage, finishBatch, nextDue, type CommandUser, type CoreInput } from "./core/apply";
 import { currentBoots, waitingCount } from "./core/sequencer";
+import { pointsCommands } from "./core/points";
 import { aspectCommands, faultedDto, fullPatch, revReservation, sessionDto, shownNow, type Core, type CoreOptions, type Effect } from "./core/state";
 import { toChangeDto, toEventDto } from "./dto";
 import type { IngestResult, NodeEntry } from "./ingest";
@@ -329,6 +330,8 @@ export class LayoutRunner {
   private publishAspects(all = false): void {
     const at = this.options.now();
     for (const { signal, aspect, rev } of aspectCommands(this.core, all)) this.link?.publishAspect(signal, aspect, rev, at);
+    // Points commands go out only after the commit that threw them, like aspects.
+    for (const { points, to, rev } of pointsCommands(this.core, all)) this.link?.publishPointsSet(points, to, rev, at);
   }
 
   private pushUpdate(entry: { event: PendingEvent; id: string } | null, patch: LiveUpdate["patch"]): void {

@@ -88,12 +88,20 @@ export const aspectPayloadSchema = z.strictObject({
   at: z.string(),
 });
 
+/** Server → boards: where the rulebook last threw power-worked points (CONTRACT.md §2). */
+export const pointsSetPayloadSchema = z.strictObject({
+  to: z.enum(["normal", "reverse"]),
+  rev: z.number().int().min(0),
+  at: z.string(),
+});
+
 export interface MqttTopicPayloads {
   pulse: z.infer<typeof pulsePayloadSchema>;
   status: z.infer<typeof statusPayloadSchema>;
   shown: z.infer<typeof shownPayloadSchema>;
   aspect: z.infer<typeof aspectPayloadSchema>;
   points: z.infer<typeof pointsPayloadSchema>;
+  pointsSet: z.infer<typeof pointsSetPayloadSchema>;
   applied: z.infer<typeof appliedPayloadSchema>;
   serverStatus: z.infer<typeof serverStatusPayloadSchema>;
 }
@@ -102,6 +110,7 @@ export type StatusPayload = MqttTopicPayloads["status"];
 export type ShownPayload = MqttTopicPayloads["shown"];
 export type AspectPayload = MqttTopicPayloads["aspect"];
 export type PointsPayload = MqttTopicPayloads["points"];
+export type PointsSetPayload = MqttTopicPayloads["pointsSet"];
 export type AppliedPayload = MqttTopicPayloads["applied"];
 export type ServerStatusPayload = MqttTopicPayloads["serverStatus"];
 
@@ -148,6 +157,7 @@ export type AlarmKind =
   | "axle-mismatch"
   | "missed-pulses"
   | "lamp-proving"
+  | "points-detection"
   | "rule-loop"
   | "count-underflow"
   | "rulebook";
@@ -204,6 +214,10 @@ export interface LiveState {
    * command rev it answers, when. A board in fail-safe reports danger here before the server knows why.
    */
   lamps?: Record<string, { aspect: string; rev: number; at: string }>;
+  /** Where each points lie as last reported (absent: not reported yet), for the mimic. */
+  points?: Record<string, "normal" | "reverse" | "moving">;
+  /** Where the rulebook last threw each power-worked points (absent: never thrown). */
+  thrown?: Record<string, "normal" | "reverse">;
   /** Set when this state was read from memory while the database was unreachable: it may lag behind. */
   stale?: boolean;
   /** When each latch/counter/selector/signal last changed: key `latch:NAME`, `counter:NAME`, `selector:NAME`, `signal:ID`. */

@@ -8,6 +8,7 @@ import { initialState, signalIds, type EngineInput } from "../../../shared/ruleb
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { Batch } from "../eventLog";
 import { applyDecisions, applyMessage } from "./messages";
+import { expirePointsChecks, nextPointsDue } from "./points";
 import { closeIfIdle, ensureSession, newEvent, runEngine } from "./record";
 import { expire, nextExpiry } from "./sequencer";
 import { emptyRows, fullPatch, revReservation, summary, type Core, type HeldMessage, type Step } from "./state";
@@ -50,6 +51,7 @@ export function apply(core: Core, input: CoreInput, at: number): Step {
 function applyTick(core: Core, at: number, out: Step): void {
   closeIfIdle(core, at, out);
   applyDecisions(core, expire(core.seqs, at, core.options.reorderWaitMs), out);
+  expirePointsChecks(core, at, out);
   if (core.pipelineFault || core.state.faulted) return;
   const due = Object.values(core.state.quiet).some((deadline) => deadline <= at);
   if (!due) return;
@@ -148,6 +150,8 @@ export function nextDue(core: Core): number | null {
   const expiry = nextExpiry(core.seqs, core.options.reorderWaitMs);
   if (expiry !== null) dues.push(expiry);
   if (core.session) dues.push(core.session.lastActivity + core.options.sessionIdleMs);
+  const points = nextPointsDue(core);
+  if (points !== null) dues.push(points);
   return dues.length ? Math.min(...dues) : null;
 }
 

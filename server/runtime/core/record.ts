@@ -5,6 +5,7 @@
 import type { AlarmKind, LiveUpdate } from "../../../shared/contract/live";
 import { step as engineStep, type Change, type EngineInput } from "../../../shared/rulebook/engine";
 import type { PendingEvent } from "../eventLog";
+import { notePointsChanges } from "./points";
 import { iso, patchFor, sessionDto, type Core, type Step } from "./state";
 
 export function newEvent(core: Core, partial: Partial<PendingEvent> & Pick<PendingEvent, "kind" | "status" | "receivedAt">): PendingEvent {
@@ -89,6 +90,7 @@ export function runEngine(core: Core, input: EngineInput, event: PendingEvent, o
   event.changes = changes;
   core.inputsSinceSnapshot++;
   const index = record(out, event, patchFor(core, changes, iso(input.at)));
+  notePointsChanges(core, changes, input.at, out);
   for (const change of changes) {
     const alarm = alarmOfChange(change);
     if (alarm) out.effects.push({ type: "alarm", ...alarm, event: index });

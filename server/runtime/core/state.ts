@@ -5,7 +5,7 @@
  */
 import type { AlarmKind, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "../../../shared/contract/live";
 import { shownAspects, type Change, type EngineState } from "../../../shared/rulebook/engine";
-import type { Aspect, Rulebook } from "../../../shared/rulebook/schema";
+import type { Aspect, PointsPosition, Rulebook } from "../../../shared/rulebook/schema";
 import type { PendingAudit, PendingEvent, PendingSnapshot, SessionRef } from "../eventLog";
 import type { IngestResult, NodeEntry } from "../ingest";
 import { emptyTracker, type SeqTracker } from "./sequencer";
@@ -17,6 +17,8 @@ export interface CoreOptions {
   snapshotEvery: number;
   /** How long a message ahead of a missing seq waits for it (CONTRACT.md §2: REORDER_WAIT_MS). */
   reorderWaitMs: number;
+  /** Power points must be reported where thrown within this long (default POINTS_DETECTION_MS, core/points.ts). */
+  pointsDetectionMs?: number;
 }
 
 export interface OpenSession {
@@ -64,6 +66,10 @@ export interface Core {
   tempKeys: number;
   /** What the boards were last told, per signal. */
   published: Map<string, { aspect: Aspect; rev: number }>;
+  /** What the points boards were last told, per power-worked points. */
+  pointsSent: Map<string, { to: PointsPosition; rev: number }>;
+  /** Throws not yet reported done (core/points.ts). */
+  pointsChecks: Map<string, { to: PointsPosition; since: number; alarmed: boolean }>;
   aspectRev: number;
   lamps: Record<string, LampDto>;
   /** The engine threw: everything at danger until a restart command or a new rulebook. */
@@ -128,6 +134,8 @@ export function createCore(init: {
     inputsSinceSnapshot: 0,
     tempKeys: 0,
     published: new Map(),
+    pointsSent: new Map(),
+    pointsChecks: new Map(),
     aspectRev: init.aspectRev,
     lamps: {},
     pipelineFault: null,
@@ -173,7 +181,8 @@ export function aspectCommands(core: Core, all = false): { signal: string; aspec
  * never reuses a rev a board has already seen.
  */
 export function revReservation(core: Core): number {
-  return core.aspectRev + 4 * (Object.keys(shownNow(core)).length + core.published.size) + 4;
+  const points = Object.keys(core.state.thrown ?? {}).length + core.pointsSent.size;
+  return core.aspectRev + 4 * (Object.keys(shownNow(core)).length + core.published.size + points) + 4;
 }
 
 export function faultedDto(core: Core): LiveState["faulted"] {
@@ -230,6 +239,12 @@ export function patchFor(core: Core, changes: Change[], at: string): LiveUpdate[
       case "quiet":
         patch.quiet = quietDto(core);
         break;
+      case "points":
+        patch.points = pointsDto(core);
+        break;
+      case "throw":
+        patch.thrown = { ...core.state.thrown };
+        break;
       case "shown":
       case "held":
       case "fault":
@@ -261,5 +276,12 @@ export function fullPatch(core: Core): Required<Omit<LiveUpdate["patch"], "alarm
     nodes: nodesDto(core),
     since: { ...core.since },
     lamps: { ...core.lamps },
+    points: pointsDto(core),
+    thrown: { ...(core.state.thrown ?? {}) },
   };
+}
+
+/** Where each points lie as last reported (a board reports only normal, reverse or moving). */
+export function pointsDto(core: Core): NonNullable<LiveState["points"]> {
+  return { ...(core.state.points ?? {}) } as NonNullable<LiveState["points"]>;
 }
