@@ -19,12 +19,14 @@
  */
 import { randomBytes } from "node:crypto";
 import mqtt, { type MqttClient } from "mqtt";
-import { aspectPayloadSchema, appliedPayloadSchema, serverStatusPayloadSchema, topics, type AspectPayload } from "../shared/contract/live";
+import { aspectPayloadSchema, appliedPayloadSchema, pointsSetPayloadSchema, serverStatusPayloadSchema, topics, type AspectPayload, type PointsSetPayload } from "../shared/contract/live";
 import type { Aspect } from "../shared/rulebook/schema";
 
 export const LINK_DOWN_DANGER_MS = 2_000;
 export const HEARTBEAT_LOST_MS = 3_000;
 export const BOARD_KEEPALIVE_S = 5;
+/** How long a reference board's points motor takes, by default. */
+export const POINTS_MOVE_MS = 600;
 const RECONNECT_MS = 500;
 const CHECK_MS = 100;
 const DEFAULT_OUTBOX_LIMIT = 50_000;
@@ -43,6 +45,18 @@ export interface ReferenceBoardOptions {
   announce?: boolean;
   /** Most messages kept waiting for `applied`. */
   outboxLimit?: number;
+  /**
+   * Power-worked points this board drives: on a `…/points/{id}/set` newer than any before, for a
+   * position the points do not lie in, the board reports `moving`, then after `pointsMoveMs` the
+   * new position (points reports, numbered with the pulses). Lying `normal` at power-up.
+   */
+  drives?: string[];
+  /** How long the motor takes to move points (default POINTS_MOVE_MS). */
+  pointsMoveMs?: number;
+  /** Set, for a board whose points motor is broken: commands are heard but the points never move. */
+  pointsStuck?: boolean;
+  /** Every points command heard, newest rev per points. */
+  onPointsSet?: (points: string, payload: PointsSetPayload) => void;
   /** A signal's shown aspect changed (lamps), with the rev of the command it follows (0 for none). */
   onShown?: (signal: string, aspect: Aspect, rev: number) => void;
   /** Every aspect command heard, newest rev per signal. */
@@ -68,6 +82,11 @@ export class ReferenceBoard {
   readonly aspects = new Map<string, AspectPayload>();
   /** What each driven signal shows now. */
   readonly shown = new Map<string, Aspect>();
+  /** Newest points command per points. */
+  readonly pointsSet = new Map<string, PointsSetPayload>();
+  /** Where each driven points lie now. */
+  readonly lies = new Map<string, "normal" | "reverse" | "moving">();
+  private readonly motors = new Map<string, NodeJS.Timeout>();
   private readonly outbox = new Map<number, Outgoing>();
   private current: MqttClient | null = null;
   private connectedNow = false;
@@ -90,6 +109,7 @@ export class ReferenceBoard {
     this.downSince = this.now();
     this.lastHeartbeat = this.now();
     for (const signal of options.signals ?? []) this.shown.set(signal, "danger");
+    for (const points of options.drives ?? []) this.lies.set(points, "normal");
   }
 
   get clientId(): string {
@@ -274,6 +294,18 @@ export class ReferenceBoard {
       this.check();
       return;
     }
+    const pointsPrefix = topics.pointsFilter(layout).slice(0, -1);
+    if (topic.startsWith(pointsPrefix) && topic.endsWith("/set")) {
+      const p = pointsSetPayloadSchema.safeParse(json);
+      if (!p.success) return;
+      const points = topic.slice(pointsPrefix.length, -"/set".length);
+      const known = this.pointsSet.get(points);
+      if (known && known.rev >= p.data.rev) return; // a redelivered or older command
+      this.pointsSet.set(points, p.data);
+      this.options.onPointsSet?.(points, p.data);
+      this.drive(points, p.data.to);
+      return;
+    }
     const prefix = topics.signalFilter(layout).slice(0, -1);
     if (topic.startsWith(prefix) && topic.endsWith("/aspect")) {
       const p = aspectPayloadSchema.safeParse(json);
@@ -287,6 +319,27 @@ export class ReferenceBoard {
       this.options.onAspect?.(signal, p.data);
       this.refresh();
     }
+  }
+
+  /** Moves driven points to `to`: `moving` now, `to` once the motor has run (a newer command restarts it). */
+  private drive(points: string, to: "normal" | "reverse"): void {
+    if (!this.lies.has(points) || this.options.pointsStuck) return;
+    const running = this.motors.get(points);
+    if (running) clearTimeout(running);
+    this.motors.delete(points);
+    if (this.lies.get(points) === to) return;
+    if (this.lies.get(points) !== "moving") {
+      this.lies.set(points, "moving");
+      void this.pointsReport(points, "moving");
+    }
+    const timer = setTimeout(() => {
+      this.motors.delete(points);
+      if (this.stopped) return;
+      this.lies.set(points, to);
+      void this.pointsReport(points, to);
+    }, this.options.pointsMoveMs ?? POINTS_MOVE_MS);
+    timer.unref?.();
+    this.motors.set(points, timer);
   }
 
   /** Duty 4, looked at every CHECK_MS and on every server status. */
@@ -319,6 +372,8 @@ export class ReferenceBoard {
   async end(): Promise<void> {
     this.stopped = true;
     if (this.checker) clearInterval(this.checker);
+    for (const timer of this.motors.values()) clearTimeout(timer);
+    this.motors.clear();
     const client = this.current;
     if (!client) return;
     if (this.connectedNow && this.options.announce) {

@@ -10,7 +10,7 @@ import type { MqttClient } from "mqtt";
 import type pg from "pg";
 import { io as ioClient, type Socket } from "socket.io-client";
 import { databaseAuthenticator } from "../../broker/auth";
-import { ReferenceBoard } from "../../broker/referenceBoard";
+import { ReferenceBoard, type ReferenceBoardOptions } from "../../broker/referenceBoard";
 import { startBroker, type BrokerRefusal, type RunningBroker } from "../../broker/server";
 import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "../../shared/contract/live";
 import { attachLiveSocket } from "../../server/features/live/socket";
@@ -115,9 +115,9 @@ export async function connectBoard(
   layout: string,
   node: string,
   secret: string,
-  options: { boot?: string; signals?: string[]; announce?: boolean } = {},
+  options: { boot?: string; signals?: string[]; announce?: boolean } & Pick<ReferenceBoardOptions, "drives" | "pointsMoveMs" | "pointsStuck"> = {},
 ): Promise<Board> {
-  const board = new ReferenceBoard({ url: mqttUrl, layout, node, secret, boot: options.boot, signals: options.signals, announce: options.announce ?? false });
+  const board = new ReferenceBoard({ ...options, url: mqttUrl, layout, node, secret, announce: options.announce ?? false });
   await board.start();
   return {
     board,
