@@ -5,7 +5,7 @@
  * Last Will, every pulse kept until an `applied` covers it and resent after a reconnect, and
  * the fail-safe. Trains obey what the boards SHOW (danger while a board is in fail-safe).
  */
-import { topics, type AspectPayload } from "../../shared/contract/live";
+import { topics, type AspectPayload, type PointsSetPayload } from "../../shared/contract/live";
 import { ReferenceBoard } from "../referenceBoard";
 import type { BoardState, OutMessage } from "./player";
 
@@ -17,6 +17,8 @@ export interface MqttBoardsOptions {
   secrets: Record<string, string>;
   firmware: string;
   onAspect: (node: string, signal: string, payload: AspectPayload) => void;
+  /** A points command heard by a board that reports those points. */
+  onPointsSet: (node: string, points: string, payload: PointsSetPayload) => void;
   log: (line: string) => void;
 }
 
@@ -42,6 +44,9 @@ export class MqttBoards {
           announce: true,
           onShown: (signal, aspect, rev) => this.options.onAspect(state.node, signal, { aspect, rev, at: new Date().toISOString() }),
           // A signal no board drives: trains go by the command itself.
+          onPointsSet: (points, payload) => {
+            if (state.points.includes(points)) this.options.onPointsSet(state.node, points, payload);
+          },
           onAspect: (signal, payload) => {
             if (!driven.has(signal)) this.options.onAspect(state.node, signal, payload);
           },
@@ -62,6 +67,7 @@ export class MqttBoards {
     const board = this.clients.get(message.node);
     if (!board) return;
     if (message.kind === "pulse") void board.keep("pulse", message.payload);
+    else if (message.kind === "points") void board.keep("points", message.payload);
     else void board.publishRaw(topics.shown(this.options.layout, message.node), JSON.stringify(message.payload));
   }
 
