@@ -115,9 +115,11 @@ export async function connectBoard(
   layout: string,
   node: string,
   secret: string,
-  options: { boot?: string; signals?: string[]; announce?: boolean } & Pick<ReferenceBoardOptions, "drives" | "pointsMoveMs" | "pointsStuck"> = {},
+  // `subscribe` is accepted for older tests: a reference board always subscribes (duty 2).
+  options: { boot?: string; signals?: string[]; announce?: boolean; subscribe?: boolean } & Pick<ReferenceBoardOptions, "drives" | "pointsMoveMs" | "pointsStuck"> = {},
 ): Promise<Board> {
-  const board = new ReferenceBoard({ ...options, url: mqttUrl, layout, node, secret, announce: options.announce ?? false });
+  const { boot, signals, drives, pointsMoveMs, pointsStuck } = options;
+  const board = new ReferenceBoard({ url: mqttUrl, layout, node, secret, boot, signals, drives, pointsMoveMs, pointsStuck, announce: options.announce ?? false });
   await board.start();
   return {
     board,

@@ -6,9 +6,13 @@ import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
+import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
+import { ensureImportReplayed } from "./importReplay";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
-import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
+import { REPORT_TABLES, reportCsv } from "./reportCsv";
+import { sessionReport } from "./reportService";
+import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
 
@@ -23,7 +27,11 @@ const pageQuerySchema = z.object({
   detector: idText.optional(),
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),
+  /** The last N matching events instead of a page from `after` (the live ticker's history on load). */
+  tail: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).optional(),
 });
+
+const reportQuerySchema = z.object({ format: z.enum(["json", "csv"]).default("json"), table: z.enum(REPORT_TABLES).default("routes") });
 
 const importFieldsSchema = z.object({ rulebookVersion: z.union([z.literal(""), z.coerce.number().int().positive()]).optional() });
 
@@ -70,20 +78,22 @@ export function sessionRoutes(deps: AppDeps): Router {
     if (req.query.format === "json") {
       const { format: _json, ...options } = parseWith(pageQuerySchema, req.query, "query");
       await findSession(deps, id);
+      await ensureImportReplayed(deps, id);
       res.json(await sessionEventPage(deps, id, options));
       return;
     }
     const { format } = parseWith(exportQuerySchema, req.query, "query");
     await findSession(deps, id);
+    await ensureImportReplayed(deps, id);
     res.status(200);
     res.setHeader("Content-Type", format === "csv" ? "text/csv; charset=utf-8" : "application/x-ndjson; charset=utf-8");
     res.setHeader("Content-Disposition", `attachment; filename="session-${id}.${format}"`);
-    if (format === "csv") res.write(CSV_COLUMNS.join(",") + "\r\n");
+    if (format === "csv") res.write(EVENT_CSV_HEADER);
     let aborted = false;
     res.on("close", () => (aborted = !res.writableFinished));
     for await (const page of sessionEvents(deps, id)) {
       if (aborted) return;
-      const chunk = page.map((event) => (format === "csv" ? csvRow(event) : JSON.stringify(event) + "\n")).join("");
+      const chunk = page.map((event) => (format === "csv" ? eventCsvRow(event) : JSON.stringify(event) + "\n")).join("");
       // Respect backpressure: a slow reader holds the next page back, memory stays flat.
       if (!res.write(chunk)) await Promise.race([once(res, "drain"), once(res, "close")]);
     }
@@ -92,7 +102,21 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.get("/sessions/:id/inputs", requireSignedIn, async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
-    res.json(await sessionInputs(deps, id));
+    const { rulebook: _rulebook, ...inputs } = await sessionInputs(deps, id);
+    res.json(inputs);
+  });
+
+  router.get("/sessions/:id/report", requireSignedIn, async (req, res) => {
+    const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
+    const { format, table } = parseWith(reportQuerySchema, req.query, "query");
+    const report = await sessionReport(deps, id);
+    if (format === "json") {
+      res.json(report);
+      return;
+    }
+    res.setHeader("Content-Type", "text/csv; charset=utf-8");
+    res.setHeader("Content-Disposition", `attachment; filename="session-${id}-${table}.csv"`);
+    res.send(reportCsv(report, table));
   });
 
   return router;
