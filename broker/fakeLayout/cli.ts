@@ -166,6 +166,7 @@ async function main(): Promise<void> {
     secrets,
     firmware: FAKE_FIRMWARE,
     onAspect: (node, signal, payload) => player.onAspect(node, signal, payload),
+    onPointsSet: (node, points, payload) => player.onPointsSet(node, points, payload),
     log,
   });
   log(`playing "${scenario.name}" on ${layout.name} at ${speed}× via ${brokerUrl}${args.loop ? ", looping" : ""}`);

@@ -17,7 +17,7 @@
  * - A train given a list of routes takes the first road with none of our trains on it, at
  *   the moment its signal clears for it (as a "first free road" rulebook would choose).
  */
-import type { AspectPayload, PulsePayload, ShownPayload } from "../../shared/contract/live";
+import type { AspectPayload, PointsPayload, PointsSetPayload, PulsePayload, ShownPayload } from "../../shared/contract/live";
 import type { LayoutFile } from "../../shared/layout/schema";
 import type { Cancel, Scheduler } from "./clock";
 import type { Scenario, ScenarioTrain } from "./scenario";
@@ -38,6 +38,7 @@ const TIMER_SLACK_MS = 1;
 
 export type OutMessage =
   | { kind: "pulse"; node: string; payload: PulsePayload }
+  | { kind: "points"; node: string; payload: PointsPayload }
   | { kind: "shown"; node: string; payload: ShownPayload };
 
 export interface BoardState {
@@ -48,7 +49,12 @@ export interface BoardState {
   seq: number;
   detectors: string[];
   signals: string[];
+  /** Points whose position this board reports; it drives those that are power-worked. */
+  points: string[];
 }
+
+/** How long a fake points motor takes from a `set` to lying in the new position. */
+export const POINTS_MOVE_MS = 2_000;
 
 export type TrainEvent =
   | { type: "appears"; train: number; name: string; route: string }
@@ -85,6 +91,8 @@ interface RoutePath {
   /** Index of the entry detector in `detectors`. */
   entryIndex: number;
   detectors: PathDetector[];
+  /** Where the route needs points to lie (the rulebook's proving routes). */
+  points: Record<string, string>;
 }
 
 interface Train {
@@ -138,7 +146,7 @@ export function routePaths(layout: LayoutFile): Map<string, RoutePath> {
       }
       out.push({ id: detectorId, pos, node: nodeOf.get(detectorId) ?? "" });
     });
-    paths.set(route.id, { id: route.id, signal: route.signal, entryIndex: route.approach.length, detectors: out });
+    paths.set(route.id, { id: route.id, signal: route.signal, entryIndex: route.approach.length, detectors: out, points: { ...(route.points ?? {}) } });
   }
   return paths;
 }
@@ -158,6 +166,10 @@ export class FakeLayoutPlayer {
   private running = false;
   private advancing = false;
   private readonly speed: number;
+  /** Where each points of the layout lie (they all lie normal at power-up). */
+  private readonly lies = new Map<string, PointsPayload["lies"]>();
+  private readonly pointsRev = new Map<string, number>();
+  private readonly motors = new Map<string, Cancel>();
 
   constructor(private readonly options: PlayerOptions) {
     this.speed = options.speed ?? 1;
@@ -171,13 +183,16 @@ export class FakeLayoutPlayer {
       seq: 0,
       detectors: [...n.detectors],
       signals: [...n.signals],
+      points: [...(n.points ?? [])],
     }));
+    for (const p of options.layout.points) this.lies.set(p.id, "normal");
   }
 
-  /** Powers up the boards and starts the day. */
+  /** Powers up the boards and starts the day. Each points board first reports where its points lie. */
   start(): void {
     this.running = true;
     this.lastTime = this.options.scheduler.now();
+    for (const board of this.boards) for (const points of board.points) this.reportPoints(board, points);
     this.startCycle(this.lastTime);
     this.run();
   }
@@ -431,9 +446,47 @@ export class FakeLayoutPlayer {
     if (front && !front.roadChosen) this.chooseRoad(front);
   }
 
+  /**
+   * A points command reached the board that drives them (power-worked points only): `moving`
+   * at once, the new position after POINTS_MOVE_MS, each as a points report numbered with the
+   * board's pulses. A newer command while moving goes straight to its position.
+   */
+  onPointsSet(node: string, points: string, payload: PointsSetPayload): void {
+    const board = this.boards.find((b) => b.node === node && b.points.includes(points));
+    const worked = this.options.layout.points.find((p) => p.id === points)?.worked ?? "hand";
+    if (!board || worked !== "power" || payload.rev <= (this.pointsRev.get(points) ?? -1)) return;
+    this.pointsRev.set(points, payload.rev);
+    this.motors.get(points)?.();
+    this.motors.delete(points);
+    if (this.lies.get(points) === payload.to) return;
+    if (this.lies.get(points) !== "moving") {
+      this.lies.set(points, "moving");
+      this.reportPoints(board, points);
+    }
+    const cancel = this.options.scheduler.after(POINTS_MOVE_MS, () => {
+      this.motors.delete(points);
+      this.advanceTo(this.options.scheduler.now());
+      this.lies.set(points, payload.to);
+      this.reportPoints(board, points);
+    });
+    this.motors.set(points, cancel);
+  }
+
+  /** Where points lie now, as the fake layout's trains find them. */
+  pointsLie(points: string): PointsPayload["lies"] | undefined {
+    return this.lies.get(points);
+  }
+
+  private reportPoints(board: BoardState, points: string): void {
+    board.seq += 1;
+    this.options.send({ kind: "points", node: board.node, payload: { points, lies: this.lies.get(points)!, seq: board.seq, boot: board.boot } });
+  }
+
   private chooseRoad(train: Train): void {
     const busy = new Set(this.trains.filter((t) => t !== train && t.roadChosen && t.next[0] > t.path.entryIndex).map((t) => t.path.id));
-    train.path = train.candidates.find((p) => !busy.has(p.id)) ?? train.candidates[0];
+    // A train follows the points: the road they lie for, when the routes say which points they need.
+    const followed = train.candidates.find((p) => Object.keys(p.points).length > 0 && Object.entries(p.points).every(([id, lies]) => this.lies.get(id) === lies));
+    train.path = followed ?? train.candidates.find((p) => !busy.has(p.id)) ?? train.candidates[0];
     train.roadChosen = true;
     this.options.onEvent?.({ type: "takes-road", train: train.no, name: train.name, route: train.path.id });
   }

@@ -7,6 +7,7 @@ import { Umzug, SequelizeStorage } from "umzug";
 import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
 import * as importedSessions from "./migrations/003-imported-sessions";
+import * as sequencing from "./migrations/004-sequencing";
 import * as nodeSecretDigests from "./migrations/005-node-secret-digests";
 import * as accounts from "./migrations/006-accounts";
 import * as workbench from "./migrations/007-workbench";
@@ -25,6 +26,7 @@ const MIGRATIONS = [
   { name: "001-initial", ...initial },
   { name: "002-live", ...live },
   { name: "003-imported-sessions", ...importedSessions },
+  { name: "004-sequencing", ...sequencing },
   { name: "005-node-secret-digests", ...nodeSecretDigests },
   { name: "006-accounts", ...accounts },
   { name: "007-workbench", ...workbench },

@@ -2,7 +2,10 @@
  * Translates a rulebook and the proving environment of CONTRACT.md §5 into Promela, so that
  * an independent model checker (SPIN 6.5.2, Debian package `spin`) can check the safety
  * properties the prover checks: `no-conflicting-proceeds`, `one-train-per-section`,
- * `no-underflow` and `settles`.
+ * `no-underflow`, `settles`, and for routes that name points `points-set-for-train` and
+ * `points-locked` — with the points environment of §5 (facing groups, the route fixed at entry
+ * by where the points lie, power points moving after a throw, hand points moving while no train
+ * is on them, each modelled points reported `normal` once at the start).
  *
  * The translation is written from the rulebook semantics of §4 directly — it does not call the
  * engine — so an agreement between SPIN and `prove` is evidence about both. It uses the same
@@ -21,13 +24,16 @@
  */
 import { matchAction, matchCondition } from "./kinds";
 import { pointsMentioned, signalsMentioned } from "./mentions";
-import type { Action, Condition, Rulebook } from "./schema";
+import { emitMoves, emitTrainAsserts, emitTrainDeclarations, type EnvironmentContext, type ModelledPoints } from "./promelaEnvironment";
+import { RULEBOOK_FORMAT_2, type Action, type Condition, type Rulebook } from "./schema";
 
 export const SPIN_PROPERTIES = [
   "no-conflicting-proceeds",
   "one-train-per-section",
   "no-underflow",
   "settles",
+  "points-set-for-train",
+  "points-locked",
 ] as const;
 export type SpinProperty = (typeof SPIN_PROPERTIES)[number];
 
@@ -45,13 +51,16 @@ const label = (p: SpinProperty): string => p.replace(/-/g, "_");
  *
  * Layout of the model: globals for latches (`l_i`), counters (`c_i`), selectors (`s_i`, the
  * index of the value), wanted aspects (`w_i`: 0 danger, 1 caution, 2 clear), armed quiet
- * triggers (`q_i`), the fault marker, and per route `n_r` trains in slots `ax_r[]` (axles) and
- * `pos_r[]` (detectors crossed by each axle, slot-major). `init` starts the rulebook and then
+ * triggers (`q_i`), the fault marker, where each points lie as last reported (`pl_i`) and where
+ * last thrown (`pt_i`), and per facing group (routes with one signal, approach and entry; a
+ * plain route is a group of one) `n_g` trains in slots `ax_g[]` (axles), `rt_g[]` (route: 0
+ * until fixed at entry, else 1 + its place in the group) and `pos_g[]` (detectors crossed by
+ * each axle, slot-major). `init` starts the rulebook and then
  * loops over every environment move, each one `atomic` and followed by the property asserts.
  */
-export function toPromela(rulebook: Rulebook): string {
+export function toPromela(rulebook: Rulebook, options: PromelaOptions = {}): string {
   const out: string[] = [];
-  emitModel(rulebook, "", out);
+  emitModel(rulebook, "", out, options);
   out.push(`init { main() }`);
   return out.join("\n") + "\n";
 }
@@ -61,17 +70,25 @@ export function toPromela(rulebook: Rulebook): string {
  * name of rulebook i is prefixed `r<i>_`, and `init` chooses one rulebook nondeterministically.
  * Read the verdicts per rulebook with `parsePanOutput(text).byModel`.
  */
-export function toPromelaBatch(rulebooks: Rulebook[]): string {
+export function toPromelaBatch(rulebooks: Rulebook[], options: PromelaOptions[] = []): string {
   const out: string[] = [];
-  rulebooks.forEach((rulebook, i) => emitModel(rulebook, `r${i}_`, out));
+  rulebooks.forEach((rulebook, i) => emitModel(rulebook, `r${i}_`, out, options[i] ?? {}));
   out.push(`init {`, `  if`, ...rulebooks.map((_, i) => `  :: r${i}_main()`), `  fi`, `}`);
   return out.join("\n") + "\n";
+}
+
+export interface PromelaOptions {
+  /**
+   * How each points is worked (the layout's records). Absent, as the prover does: points some
+   * `throw` commands are power-worked, the rest are worked by hand.
+   */
+  points?: Record<string, "power" | "hand">;
 }
 
 /** Keeps user text (rule ids, names) from ending a Promela comment early. */
 const commentSafe = (text: string): string => text.replace(/\*\//g, "* /").replace(/[\r\n]/g, " ");
 
-function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
+function emitModel(rulebook: Rulebook, P: string, out: string[], options: PromelaOptions): void {
   const proving = rulebook.proving;
   if (!proving) throw new Error("the rulebook has no proving section");
   const maxAxles = proving.maxAxles ?? 2;
@@ -87,8 +104,10 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   Object.keys(rulebook.initial).forEach(addSignal);
   proving.routes.forEach((r) => addSignal(r.signal));
   signalsMentioned(rulebook, { includeProving: false }).forEach(addSignal);
-  const pointsNames = pointsMentioned(rulebook).all;
+  const mentions = pointsMentioned(rulebook);
+  const pointsNames = mentions.all;
   const quietRules = rulebook.rules.filter((r) => typeof r.on === "object" && "quiet" in r.on);
+  const movedRules = rulebook.rules.filter((r) => typeof r.on === "object" && "moved" in r.on);
 
   const latch = (n: string): string => `${P}l_${latchNames.indexOf(n)}`;
   const counter = (n: string): string => `${P}c_${counterNames.indexOf(n)}`;
@@ -100,6 +119,52 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   /** Where points lie as last reported (`pl_i`) and where last thrown (`pt_i`, 0 = never). */
   const pointsLie = (n: string): string => `${P}pl_${pointsNames.indexOf(n)}`;
   const pointsThrown = (n: string): string => `${P}pt_${pointsNames.indexOf(n)}`;
+  // The points model applies when the rulebook is /2 or a route names points (§5); then every
+  // points the rulebook or its routes mention is modelled.
+  const routePoints = proving.routes.some((r) => Object.keys(r.points ?? {}).length > 0);
+  const modelled: ModelledPoints[] =
+    rulebook.format === RULEBOOK_FORMAT_2 || routePoints
+      ? pointsNames.map((name) => ({
+          name,
+          worked: options.points?.[name] ?? (mentions.thrown.has(name) ? "power" : "hand"),
+          lie: pointsLie(name),
+          thrown: pointsThrown(name),
+        }))
+      : [];
+
+  // Inputs: each detector's pulse, then each quiet rule's firing, then each points reported
+  // normal (1), reverse (2) or moving (3); NO_INPUT for an arrival.
+  const detectors: string[] = [];
+  proving.routes.forEach((r) => [...r.approach, r.entry, ...r.exit].forEach((d) => detectors.includes(d) || detectors.push(d)));
+  const quietBase = detectors.length;
+  const pointsInput = (p: number, code: number): number => quietBase + quietRules.length + 3 * p + code - 1;
+  const NO_INPUT = 255;
+
+  const emit = (line = ""): void => {
+    out.push(line);
+  };
+  const shownProceed = (signal: string): string => `(!${P}faulted && ${wanted(signal)} != 0)`;
+  const assertOnce = (p: SpinProperty, ok: string): void => {
+    const seen = `${P}seen_${label(p)}`;
+    emit(`  if :: (!(${ok}) && !${seen}) -> ${seen} = 1; assert(${P}${label(p)} && (${ok})) :: else -> skip fi;`);
+  };
+  const ctx: EnvironmentContext = {
+    P,
+    emit,
+    proving,
+    maxAxles,
+    maxTrains,
+    shownProceed,
+    detectorInput: (d) => detectors.indexOf(d),
+    quietRuleIds: quietRules.map((r) => r.id),
+    quietBase,
+    quietArmed: quiet,
+    points: modelled,
+    pointsInput,
+    noInput: NO_INPUT,
+    assertOnce,
+    commentSafe,
+  };
 
   const cond = (c: Condition | undefined): string => {
     if (!c) return "1";
@@ -156,9 +221,6 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
     ...pointsNames.map(pointsThrown),
   ];
 
-  const emit = (line = ""): void => {
-    out.push(line);
-  };
   emit(`/* Blocklight rulebook model, generated by shared/rulebook/promela.ts (see docs/prover.md). */`);
   emit(`/* Property labels: a constant 1 named after the property, first in each assert. */`);
   for (const p of SPIN_PROPERTIES) emit(`hidden byte ${P}${label(p)} = 1; hidden byte ${P}seen_${label(p)};`);
@@ -174,16 +236,17 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   );
   quietRules.forEach((r) => emit(`bool ${quiet(r.id)}; /* quiet trigger of rule ${commentSafe(r.id)} armed */`));
   emit(`bool ${P}faulted;`);
-  proving.routes.forEach((r, ri) => {
-    emit(`byte ${P}n_${ri}; /* trains on route ${commentSafe(r.id)} */`);
-    emit(`byte ${P}ax_${ri}[${maxTrains}]; /* axles of each train, front train first */`);
-    emit(`byte ${P}pos_${ri}[${maxTrains * maxAxles}]; /* detectors crossed by each axle */`);
+  modelled.forEach((pt) => {
+    emit(`byte ${pt.lie}; /* points ${commentSafe(pt.name)} (${pt.worked}-worked): where last reported, 0 unknown, 1 normal, 2 reverse, 3 moving */`);
+    emit(`byte ${pt.thrown}; /* points ${commentSafe(pt.name)}: where last thrown, 0 never */`);
   });
+  emitTrainDeclarations(ctx);
   emit();
   emit(`/* Scratch space, not part of the state. */`);
   emit(`hidden byte ${P}uf; hidden byte ${P}uf_before; hidden byte ${P}found; hidden byte ${P}runs; hidden byte ${P}inp;`);
   const passRules = rulebook.rules.filter((r) => typeof r.on === "object" && "pass" in r.on);
   passRules.forEach((_, i) => emit(`hidden byte ${P}sel_${i};`));
+  movedRules.forEach((_, i) => emit(`hidden byte ${P}msel_${i};`));
   stateVars.forEach((v) => emit(`hidden int ${P}old_${v};`));
   emit();
 
@@ -230,8 +293,6 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
 
   // Pulses: rules selected on the state before the pulse, then run in rule order; quiet
   // triggers of the detector (re)armed. A faulted rulebook runs no rules.
-  const detectors: string[] = [];
-  proving.routes.forEach((r) => [...r.approach, r.entry, ...r.exit].forEach((d) => detectors.includes(d) || detectors.push(d)));
   detectors.forEach((d, di) => {
     emit(`inline ${P}pulse_${di}() { /* detector ${d} */`);
     emit(`  if`);
@@ -247,111 +308,71 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   });
   emit();
 
-  // The property asserts, after every move.
-  const shownProceed = (signal: string): string => `(!${P}faulted && ${wanted(signal)} != 0)`;
-  const routeIndex = new Map(proving.routes.map((r, i) => [r.id, i]));
-  const occupied = (ri: number): string => {
-    const entry = proving.routes[ri].approach.length;
-    const terms: string[] = [];
-    for (let t = 0; t < maxTrains; t++) terms.push(`((${P}n_${ri} > ${t} && ${P}pos_${ri}[${t * maxAxles}] > ${entry}) -> 1 : 0)`);
-    return `(${terms.join(" + ")})`;
-  };
-  // Each property is asserted once: after its first violation a hidden marker stops further
-  // reports (pan -c0 would otherwise list every violating state).
-  const assertOnce = (p: SpinProperty, ok: string): void => {
-    const seen = `${P}seen_${label(p)}`;
-    emit(`  if :: (!(${ok}) && !${seen}) -> ${seen} = 1; assert(${P}${label(p)} && (${ok})) :: else -> skip fi;`);
-  };
+  // Points reports (§4 step 2, as for a pulse): `moved` rules are selected on the state before
+  // the report, only when the points now lie otherwise; the position is recorded, then the
+  // selected rules run. A faulted rulebook runs no rules but still records where points lie.
+  modelled.forEach((pt, pi) => {
+    for (const code of [1, 2, 3]) {
+      emit(`inline ${P}report_${pi}_${code}() { /* points ${commentSafe(pt.name)} reported lying ${code} */`);
+      emit(`  if`);
+      emit(`  :: (!${P}faulted && ${pt.lie} != ${code}) ->`);
+      const mine = movedRules.map((r, i) => ({ r, i })).filter(({ r }) => (r.on as { moved: string }).moved === pt.name);
+      for (const { r, i } of mine) emit(`    ${P}msel_${i} = ${cond(r.if)}; /* rule ${commentSafe(r.id)} */`);
+      emit(`    ${pt.lie} = ${code};`);
+      for (const { r, i } of mine) emit(`    if :: ${P}msel_${i} -> ${actions(r.do)} :: else -> skip fi;`);
+      emit(`    skip`);
+      emit(`  :: else -> ${pt.lie} = ${code}`);
+      emit(`  fi`);
+      emit(`}`);
+    }
+  });
+  emit();
+
+  // The property asserts, after every move. Each is asserted once: after its first violation a
+  // hidden marker stops further reports (pan -c0 would otherwise list every violating state).
   emit(`inline ${P}check() {`);
   assertOnce("settles", `!${P}faulted`);
   assertOnce("no-underflow", `!${P}uf`);
-  for (const [a, b] of proving.conflicts ?? []) {
-    const ra = proving.routes[routeIndex.get(a) ?? -1];
-    const rb = proving.routes[routeIndex.get(b) ?? -1];
-    if (!ra || !rb || ra === rb || ra.signal === rb.signal) continue;
-    assertOnce("no-conflicting-proceeds", `!(${shownProceed(ra.signal)} && ${shownProceed(rb.signal)})`);
-  }
-  proving.routes.forEach((_, ri) => assertOnce("one-train-per-section", `${occupied(ri)} <= 1`));
-  for (const [a, b] of proving.conflicts ?? []) {
-    const ia = routeIndex.get(a) ?? -1;
-    const ib = routeIndex.get(b) ?? -1;
-    if (ia < 0 || ib < 0 || ia === ib) continue;
-    assertOnce("one-train-per-section", `!(${occupied(ia)} > 0 && ${occupied(ib)} > 0)`);
-  }
+  emitTrainAsserts(ctx);
   emit(`  skip`);
   emit(`}`);
   emit();
 
-  // Each move picks its input (`inp`: a detector's pulse, a quiet rule's firing, or none for an
-  // arrival), updates the trains, then runs the one shared copy of the engine step: this keeps
-  // pan.c small, so it compiles fast.
-  const NO_INPUT = 255;
-  emit(`inline ${P}engine_step() {`);
-  emit(`  ${P}uf = 0;`);
+  // Each move picks its input (`inp`: a detector's pulse, a quiet rule's firing, a points
+  // report, or none for an arrival), updates the trains, then runs the one shared copy of the
+  // engine step: this keeps pan.c small, so it compiles fast.
+  emit(`inline ${P}engine_input() {`);
   emit(`  if`);
   emit(`  :: (${P}inp == ${NO_INPUT}) -> skip`);
   detectors.forEach((d, di) => emit(`  :: (${P}inp == ${di}) -> ${P}pulse_${di}() /* ${d} */`));
   quietRules.forEach((rule, qi) => {
-    emit(`  :: (${P}inp == ${detectors.length + qi}) -> /* quiet trigger of rule ${commentSafe(rule.id)} fires */`);
+    emit(`  :: (${P}inp == ${quietBase + qi}) -> /* quiet trigger of rule ${commentSafe(rule.id)} fires */`);
     emit(`     ${quiet(rule.id)} = 0;`);
     emit(`     if :: ${cond(rule.if)} -> ${actions(rule.do)} :: else -> skip fi`);
+  });
+  modelled.forEach((pt, pi) => {
+    for (const code of [1, 2, 3]) emit(`  :: (${P}inp == ${pointsInput(pi, code)}) -> ${P}report_${pi}_${code}()`);
   });
   emit(`  fi;`);
   emit(`  ${P}settle()`);
   emit(`}`);
   emit();
+  const endLabel = `${P}branch_ends`;
   emit(`inline ${P}main() {`);
-  emit(`  atomic { ${P}inp = ${NO_INPUT}; ${P}engine_step(); ${P}check() };`);
+  // The start (§5): initial values, settle, then each modelled points reported normal once, in id order.
+  const startReports = modelled.map((_, pi) => `${P}inp = ${pointsInput(pi, 1)}; ${P}engine_input(); `).join("");
+  emit(`  atomic { ${P}uf = 0; ${P}inp = ${NO_INPUT}; ${P}engine_input(); ${startReports}${P}check() };`);
   emit(`  do`);
   emit(`  :: atomic {`);
   emit(`    if`);
-  proving.routes.forEach((route, ri) => {
-    const path = [...route.approach, route.entry, ...route.exit];
-    const length = path.length;
-    const entry = route.approach.length;
-    emit(`    /* route ${commentSafe(route.id)}: a train arrives */`);
-    emit(`    :: (${P}n_${ri} < ${maxTrains}) -> if ${Array.from({ length: maxAxles }, (_, a) => `:: ${P}ax_${ri}[${P}n_${ri}] = ${a + 1}`).join(" ")} fi; ${P}n_${ri}++; ${P}inp = ${NO_INPUT}`);
-    for (let t = 0; t < maxTrains; t++) {
-      for (let k = 0; k < maxAxles; k++) {
-        const p = (axle: number): string => `${P}pos_${ri}[${t * maxAxles + axle}]`;
-        const guards = [`${P}n_${ri} > ${t}`, `${P}ax_${ri}[${t}] > ${k}`, `${p(k)} < ${length}`];
-        // the axle ahead has already crossed the detector
-        if (k > 0) guards.push(`${p(k - 1)} > ${p(k)}`);
-        // the axle behind has crossed the previous detector (it is level with this axle)
-        if (k < maxAxles - 1) guards.push(`(${P}ax_${ri}[${t}] <= ${k + 1} || ${p(k + 1)} >= ${p(k)})`);
-        // the train ahead has cleared the detector
-        if (t > 0) guards.push(`${P}pos_${ri}[${(t - 1) * maxAxles} + ${P}ax_${ri}[${t - 1}] - 1] > ${p(k)}`);
-        // the leading axle crosses entry only while the signal shows non-danger
-        if (k === 0) guards.push(`(${p(k)} != ${entry} || ${shownProceed(route.signal)})`);
-        emit(`    /* route ${commentSafe(route.id)}: axle ${k + 1} of train slot ${t + 1} crosses its next detector */`);
-        emit(`    :: (${guards.join(" && ")}) ->`);
-        emit(`       if`);
-        path.forEach((d, i) => emit(`       :: (${p(k)} == ${i}) -> ${P}inp = ${detectors.indexOf(d)} /* ${d} */`));
-        emit(`       fi;`);
-        emit(`       ${p(k)}++;`);
-        // The last axle crossing the last exit detector: the train leaves; later trains move up.
-        const shift: string[] = [];
-        for (let u = t; u < maxTrains - 1; u++) {
-          shift.push(`${P}ax_${ri}[${u}] = ${P}ax_${ri}[${u + 1}]`);
-          for (let a = 0; a < maxAxles; a++) shift.push(`${P}pos_${ri}[${u * maxAxles + a}] = ${P}pos_${ri}[${(u + 1) * maxAxles + a}]`);
-        }
-        shift.push(`${P}ax_${ri}[${maxTrains - 1}] = 0`);
-        for (let a = 0; a < maxAxles; a++) shift.push(`${P}pos_${ri}[${(maxTrains - 1) * maxAxles + a}] = 0`);
-        shift.push(`${P}n_${ri}--`);
-        emit(`       if :: (${P}ax_${ri}[${t}] == ${k + 1} && ${p(k)} == ${length}) -> ${shift.join("; ")} :: else -> skip fi`);
-      }
-    }
-  });
-  quietRules.forEach((rule, qi) => {
-    // A faulted rulebook fires no quiet triggers (they stay armed, as in the engine).
-    emit(`    /* the quiet trigger of rule ${commentSafe(rule.id)} fires */`);
-    emit(`    :: (${quiet(rule.id)} && !${P}faulted) -> ${P}inp = ${detectors.length + qi}`);
-  });
+  emitMoves(ctx, endLabel);
   emit(`    fi;`);
-  emit(`    ${P}engine_step();`);
+  emit(`    ${P}uf = 0;`);
+  emit(`    ${P}engine_input();`);
   emit(`    ${P}check()`);
   emit(`  }`);
-  emit(`  od`);
+  emit(`  od;`);
+  emit(`${endLabel}: skip`);
   emit(`}`);
 }
 

@@ -27,6 +27,7 @@ import { createLogger } from "../../server/logger";
 import { startLiveRuntime } from "../../server/runtime/liveRuntime";
 import type { LayoutFile } from "../../shared/layout/schema";
 import type { Report } from "./run";
+import { runtimeDeps } from "../../server/runtimeDeps";
 
 const LAYOUT_FILE = new URL("../fixtures/kestrel-bank.layout.json", import.meta.url);
 const SLUG = "kestrel-bank";
@@ -74,7 +75,7 @@ export async function run(report: Report): Promise<void> {
       }
     };
     await (await connect({ username: "blocklight-server", password: serverPassword, clientId: "blocklight-server.bench-probe" })).endAsync();
-    const runtime = await startLiveRuntime({ deps, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
+    const runtime = await startLiveRuntime({ deps: runtimeDeps(deps), db: deps.db, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
     cleanups.unshift(() => runtime.stop());
     deps.live = runtime;
     const server = http.createServer(createApp(deps));

@@ -7,7 +7,7 @@
 import fc from "fast-check";
 import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
 
-const COUNTERS = ["a", "b"] as const;
+export const COUNTERS = ["a", "b"] as const;
 /** Counters stay small: every increment is guarded by `counter < COUNT_CAP`. */
 export const COUNT_CAP = 2;
 

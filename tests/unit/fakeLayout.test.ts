@@ -219,10 +219,22 @@ function playWithEngine(layout: LayoutFile, scenarioFile: string, durationMs: nu
   const send = sent.push.bind(sent);
   sent.push = (...messages: OutMessage[]) => {
     for (const m of messages) {
-      if (m.kind !== "pulse") continue;
-      const result = step(rulebook, state, { type: "pulse", detector: m.payload.detector, at: scheduler.now() });
+      if (m.kind === "shown") continue;
+      const input =
+        m.kind === "pulse"
+          ? ({ type: "pulse", detector: m.payload.detector, at: scheduler.now() } as const)
+          : ({ type: "points", points: m.payload.points, lies: m.payload.lies, at: scheduler.now() } as const);
+      const result = step(rulebook, state, input);
       state = result.state;
       changes.push(...result.changes);
+      // A throw goes out as a points command to the board that drives the points, a little later.
+      for (const c of result.changes) {
+        if (c.kind !== "throw") continue;
+        const to = c.to as "normal" | "reverse";
+        const node = layout.nodes.find((n) => n.points?.includes(c.name));
+        const setRev = ++rev;
+        if (node) scheduler.after(5, () => player.onPointsSet(node.id, c.name, { to, rev: setRev, at: "2026-05-02T10:00:00.000Z" }));
+      }
       const shown = shownAspects(rulebook, state);
       const changed = Object.fromEntries(Object.entries(shown).filter(([s, a]) => lastShown[s] !== a));
       lastShown = shown;

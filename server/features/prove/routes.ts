@@ -6,6 +6,7 @@
 import { Router } from "express";
 import { z } from "zod";
 import type { ProofJobResponse, ProofJobsResponse, ProofResultDto, StartProofResponse } from "../../../shared/contract/rest";
+import { pointsWorking } from "../../../shared/layout/schema";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
@@ -24,7 +25,9 @@ export function proveRoutes(deps: AppDeps): Router {
     if (!checked.ok) throw new HttpError(400, "invalid_layout", `the layout file has ${checked.errors.length} error(s)`, checked.errors);
     let run;
     try {
-      run = proofJobs(deps).pool.run(checked.layout.rulebook);
+      // The file says how its points are worked (`hand` when a /1 file does not say).
+      const points = Object.fromEntries(checked.layout.points.map((p) => [p.id, pointsWorking(p)]));
+      run = proofJobs(deps).pool.run(checked.layout.rulebook, { points });
     } catch (err) {
       if (err instanceof PoolFull) throw new HttpError(503, "busy", err.message);
       throw err;

@@ -19,6 +19,7 @@ import type {
 } from "../../../shared/contract/rest";
 import { PROPERTY_IDS, type ProofResult } from "../../../shared/rulebook/prove";
 import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { PointsWorking } from "../../../shared/layout/schema";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
@@ -120,8 +121,10 @@ export class ProofJobs extends EventEmitter<ProofJobEvents> {
       rulebook: row.rulebook,
       cancelledBy: null,
     };
+    const points = await pointsWorking(this.deps, layout.id);
     try {
       job.run = this.pool.run(row.rulebook, {
+        points,
         onStart: () => {
           job.dto.state = "running";
           job.startedMs = Date.now();
@@ -225,6 +228,17 @@ export class ProofJobs extends EventEmitter<ProofJobEvents> {
     timer.unref();
     this.timers.add(timer);
   }
+}
+
+/**
+ * How each points of the layout is worked, from its records: the prover moves power points
+ * only after a throw and hand points whenever no train is on them (CONTRACT.md §5), so a
+ * proof of a stored version must model the points the layout really has, not a guess from
+ * the rulebook's throws.
+ */
+export async function pointsWorking(deps: AppDeps, layoutId: number): Promise<Record<string, PointsWorking>> {
+  const rows = await deps.db.models.PointsRecord.findAll({ where: { layoutId }, attributes: ["pointsId", "worked"] });
+  return Object.fromEntries(rows.map((r) => [r.pointsId, r.worked]));
 }
 
 function ended(job: ProofJobDto): boolean {

@@ -8,6 +8,7 @@
  */
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
+import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";
@@ -45,8 +46,8 @@ const engineInputSchema = z.union([
 const importedEventSchema = z
   .object({
     id: z.string().regex(/^\d{1,19}$/, "an event id").nullish(),
-    kind: z.enum(["pulse", "tick", "status", "shown", "command", "message"]),
-    status: z.enum(["accepted", "duplicate", "rejected"]),
+    kind: z.enum(EVENT_KINDS),
+    status: z.enum(EVENT_STATUSES),
     reason: z.string().max(2000).nullish(),
     node: z.string().max(64).nullish(),
     boot: z.string().max(64).nullish(),

@@ -12,6 +12,7 @@ export const ALARM_KIND_WORDS: Record<AlarmKind, string> = {
   "axle-mismatch": "Axle-count mismatch",
   "missed-pulses": "Missed pulses",
   "lamp-proving": "Lamp proving",
+  "points-detection": "Points not detected where thrown",
   "rule-loop": "Rule loop",
   "count-underflow": "Count underflow",
   rulebook: "Rulebook alarm",
