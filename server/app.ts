@@ -24,6 +24,7 @@ import { mailRoutes } from "./features/mail/routes";
 import { memberRoutes } from "./features/members/routes";
 import { templateRoutes } from "./features/templates/routes";
 import { setupRoutes } from "./features/setup/routes";
+import { guardJsonBody } from "./http/bodyGuard";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics and simulator input lists stay well under this. */
@@ -70,6 +71,7 @@ export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []):
   );
   app.use(cookieParser());
   app.use(express.json({ limit: JSON_BODY_LIMIT }));
+  app.use(guardJsonBody);
 
   const api = express.Router();
   api.use(loadUser(deps));

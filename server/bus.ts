@@ -3,6 +3,7 @@
  * (e.g. publishing a rulebook tells the live runtime to load it).
  */
 import { EventEmitter } from "node:events";
+import type { AlarmSettings } from "../shared/contract/alarmSettings";
 import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
 
 export interface BusEvents {
@@ -20,6 +21,13 @@ export interface BusEvents {
   "live.update": [LiveUpdate];
   /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
   "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
+  /** A layout's alarm settings changed (the watchers and the board roll call take them at once). */
+  "alarm-settings.changed": [{ layoutId: number; slug: string; settings: AlarmSettings }];
+  /**
+   * Sign-in sessions ended (sign-out, a new password, a reset, a removed member), after the
+   * change is committed: live sockets opened with them are disconnected.
+   */
+  "auth.sessions-ended": [{ sessionId: string } | { userId: number; except?: string }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

@@ -23,10 +23,14 @@ const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 const SessionsPage = lazy(() => import("./pages/SessionsPage"));
 const ReplayPage = lazy(() => import("./pages/ReplayPage"));
+const LayoutEditPage = lazy(() => import("./pages/LayoutEditPage"));
+const JunctionPage = lazy(() => import("./pages/JunctionPage"));
 const SetupPage = lazy(() => import("./pages/SetupPage"));
 const AccountPage = lazy(() => import("./pages/AccountPage"));
 const ForgotPasswordPage = lazy(() => import("./pages/ForgotPasswordPage"));
 const ResetPasswordPage = lazy(() => import("./pages/ResetPasswordPage"));
+// Carries the charting library: loaded only when a report is opened.
+const ReportPage = lazy(() => import("./pages/ReportPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -49,6 +53,8 @@ export function App() {
         >
           <Route index element={<LayoutsPage />} />
           <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
+          <Route path="layouts/:slug/edit" element={<LayoutEditPage />} />
+          <Route path="layouts/:slug/junction" element={<JunctionPage />} />
           <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
           <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
           <Route path="layouts/:slug/placement" element={<PlacementPage />} />
@@ -56,6 +62,7 @@ export function App() {
           <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
           <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
           <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
+          <Route path="layouts/:slug/sessions/:id/report" element={<ReportPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />
           <Route path="account" element={<AccountPage />} />
           {/* Admin pages show non-admins only "this page is for admins", and run none of their queries. */}

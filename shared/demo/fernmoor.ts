@@ -10,12 +10,23 @@
  * Distances are metres of model track. Approach detectors sit about 10 m before their
  * signal, entry detectors level with it, exit detectors beyond the fouling point. The same
  * files are kept as fixtures in `tests/fixtures/*.layout.json` (a test checks they match).
+ *
+ * Proving sections cover the trains the demo's fake layout runs (broker/fakeLayout/scenarios,
+ * 2–10 axles) as far as the prover reaches: 8 axles (the most a rulebook may name), with 3 trains
+ * a route at Wrenfold Loop and 2 at Kestrel Bank, where 3 does not finish in the prover's time
+ * and memory (docs/prover.md, "Reductions").
  */
 import type { LayoutFile } from "../layout/schema";
 import { LAYOUT_FORMAT } from "../layout/schema";
 import { convergingJunction, facingJunction } from "../rulebook/templates";
 
 const G_SCALE = { name: "G", ratio: 22.5 };
+
+/** The trains each demo rulebook is proved for (see the module notes). */
+export const KESTREL_MAX_AXLES = 8;
+export const KESTREL_MAX_TRAINS = 2;
+export const WRENFOLD_MAX_AXLES = 8;
+export const WRENFOLD_MAX_TRAINS = 3;
 
 /** Kestrel Bank Junction: main line and quarry branch converging on the bank. */
 export function kestrelBankLayout(): LayoutFile {
@@ -68,8 +79,8 @@ export function kestrelBankLayout(): LayoutFile {
       ],
       order: "priority",
       priority: "main",
-      maxAxles: 2,
-      maxTrainsPerRoute: 2,
+      maxAxles: KESTREL_MAX_AXLES,
+      maxTrainsPerRoute: KESTREL_MAX_TRAINS,
     }),
   };
 }
@@ -122,8 +133,8 @@ export function wrenfoldLoopLayout(): LayoutFile {
         { id: "loop", exit: ["LX", "LZ"] },
       ],
       worked: "power",
-      maxAxles: 2,
-      maxTrainsPerRoute: 2,
+      maxAxles: WRENFOLD_MAX_AXLES,
+      maxTrainsPerRoute: WRENFOLD_MAX_TRAINS,
     }),
   };
 }

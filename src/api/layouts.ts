@@ -1,5 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreateNodeBody, CreateNodeResponse, ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
+import type { EditableLayout } from "../lib/layoutDraft";
 import { http } from "./http";
 
 export const layoutKeys = {
@@ -43,6 +44,56 @@ export function useRegisterNodeMutation(slug: string) {
   return useMutation({
     mutationFn: (node: CreateNodeBody) => http.post<CreateNodeResponse>(`/api/layouts/${encodeURIComponent(slug)}/nodes`, node),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.detail(slug) }),
+  });
+}
+
+export interface CreateLayoutInput {
+  slug: string;
+  name: string;
+  scale: { name: string; ratio: number };
+}
+
+/** `POST /api/layouts`: a new, empty layout (no rulebook until one is published). */
+export function useCreateLayoutMutation() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    // 201 with the new layout (CONTRACT.md §6; shared/contract/layoutEdit.ts).
+    mutationFn: (input: CreateLayoutInput) => http.post<LayoutResponse>("/api/layouts", input).then((body) => body.layout),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
+  });
+}
+
+/** The layout with its `revision`, for editing (the same reply as `useLayout`, unselected). */
+export function useEditableLayout(slug: string) {
+  return useQuery({
+    queryKey: layoutKeys.detail(slug),
+    queryFn: ({ signal }) => http.get<LayoutResponse>(`/api/layouts/${encodeURIComponent(slug)}`, signal),
+    select: (body) => body.layout as EditableLayout,
+    enabled: Boolean(slug),
+    // An open editor must not swap the layout under the engineer: reloads are asked for.
+    refetchOnWindowFocus: false,
+  });
+}
+
+/**
+ * `PUT /api/layouts/:slug` with the revision the edit started from. A 409 means someone
+ * saved first; a 400 lists every problem with its path (including the live rulebook's).
+ */
+export function useSaveLayoutMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (input: { file: Record<string, unknown>; revision: number | undefined }) =>
+      http.put<{ revision?: number; layout?: EditableLayout }>(`/api/layouts/${encodeURIComponent(slug)}`, { ...input.file, revision: input.revision }),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
+  });
+}
+
+/** Archive (stops running live, read-only) or restore; admin only. */
+export function useArchiveMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (action: "archive" | "restore") => http.post<unknown>(`/api/layouts/${encodeURIComponent(slug)}/${action}`),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }
 

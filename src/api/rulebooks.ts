@@ -1,5 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { PublishResponse, RulebookVersionResponse, SaveDraftResponse } from "../../shared/contract/rest";
+import type { PublishBody } from "../../shared/contract/layoutEdit";
 import { http } from "./http";
 import { layoutKeys } from "./layouts";
 
@@ -42,7 +43,8 @@ export function useSaveDraftMutation(slug: string) {
 export function usePublishMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (version: number) => http.post<PublishResponse>(`${base(slug)}/${version}/publish`),
+    /** `withoutProof` and a `reason` for a version its last proof did not prove (audited). */
+    mutationFn: ({ version, body = {} }: { version: number; body?: PublishBody }) => http.post<PublishResponse>(`${base(slug)}/${version}/publish`, body),
     onSuccess: async () => {
       await Promise.all([
         queryClient.invalidateQueries({ queryKey: layoutKeys.all }),

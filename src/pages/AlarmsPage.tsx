@@ -1,26 +1,11 @@
 import { useMemo } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { AlarmKind } from "../../shared/contract/live";
 import { useAlarms } from "../api/alarms";
 import { useLiveLayout } from "../hooks/useLiveLayout";
-import { AcknowledgeForm } from "../components/alarms/AcknowledgeForm";
-import { Panel } from "../components/ui/Panel";
+import { ALARM_KIND_WORDS, AlarmCard } from "../components/alarms/AlarmCard";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
-import { formatDateTime } from "../lib/format";
-
-const KIND_WORDS: Record<AlarmKind, string> = {
-  stuck: "Stuck latch or counter",
-  "node-offline": "Node offline",
-  "detector-silent": "Detector silent",
-  chatter: "Detector chatter",
-  "axle-mismatch": "Axle-count mismatch",
-  "missed-pulses": "Missed pulses",
-  "lamp-proving": "Lamp proving",
-  "rule-loop": "Rule loop",
-  "count-underflow": "Count underflow",
-  rulebook: "Rulebook alarm",
-};
+import { AlarmSettingsPanel } from "../components/alarms/AlarmSettingsPanel";
 
 const canAcknowledge = (role: string) => role === "signaller" || role === "maintainer" || role === "admin";
 
@@ -63,7 +48,7 @@ export default function AlarmsPage() {
           <span className="mr-2 text-ink-soft">Kind</span>
           <select value={kind} onChange={(e) => setFilter("kind", e.target.value)} className="rounded-md border border-panel-600 bg-panel-900 px-2 py-1">
             <option value="">Every kind</option>
-            {Object.entries(KIND_WORDS).map(([k, words]) => (
+            {Object.entries(ALARM_KIND_WORDS).map(([k, words]) => (
               <option key={k} value={k}>
                 {words}
               </option>
@@ -75,36 +60,13 @@ export default function AlarmsPage() {
       {alarms.isError ? <LoadError error={alarms.error} what="alarms" /> : null}
       {alarms.data && shown.length === 0 ? <p className="text-ink-soft">No alarms match.</p> : null}
       <ul className="space-y-3" aria-label="Alarms">
-        {shown.map((a) => {
-          const attention = !a.acknowledgedAt && !a.clearedAt;
-          return (
-            <li key={a.id} data-alarm={a.id} data-alarm-kind={a.kind}>
-              <Panel
-                title={`${KIND_WORDS[a.kind] ?? a.kind}${a.subject ? ` — ${a.subject}` : ""}`}
-                className={attention ? "border-2 border-aspect-danger" : ""}
-                actions={
-                  <span className={`rounded px-2 py-0.5 text-xs font-semibold ${a.clearedAt ? "bg-panel-700 text-ink-soft" : attention ? "bg-aspect-danger text-white" : "bg-aspect-caution text-panel-950"}`}>
-                    {a.clearedAt ? "cleared" : a.acknowledgedAt ? "acknowledged" : "needs attention"}
-                  </span>
-                }
-              >
-                <p className="text-ink">{a.message}</p>
-                <p className="mt-1 text-sm text-ink-faint">
-                  Raised {formatDateTime(a.raisedAt)}
-                  {a.clearedAt ? ` · cleared ${formatDateTime(a.clearedAt)}` : ""}
-                  {a.acknowledgedAt ? ` · acknowledged ${formatDateTime(a.acknowledgedAt)} by ${a.acknowledgedBy ?? "someone"}` : ""}
-                </p>
-                {a.comment ? <p className="mt-1 text-sm text-ink-soft">“{a.comment}”</p> : null}
-                {!a.acknowledgedAt && canAcknowledge(user.role) ? (
-                  <div className="mt-3">
-                    <AcknowledgeForm alarm={a} />
-                  </div>
-                ) : null}
-              </Panel>
-            </li>
-          );
-        })}
+        {shown.map((a) => (
+          <li key={a.id} data-alarm={a.id} data-alarm-kind={a.kind}>
+            <AlarmCard slug={slug} alarm={a} canAcknowledge={canAcknowledge(user.role)} />
+          </li>
+        ))}
       </ul>
+      <AlarmSettingsPanel slug={slug} />
     </div>
   );
 }

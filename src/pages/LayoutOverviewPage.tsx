@@ -65,6 +65,9 @@ export default function LayoutOverviewPage() {
           </p>
         </div>
         <div className="flex flex-wrap gap-2 text-sm">
+          <Link className="rounded-md border border-brass/70 px-3 py-1.5 font-semibold text-brass hover:bg-panel-800" to={`/layouts/${l.slug}/edit`}>
+            {me.data && can.importLayout(me.data.role) ? "Edit records and schematic" : "Records and schematic"}
+          </Link>
           <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/rulebook`}>
             Rulebook
           </Link>

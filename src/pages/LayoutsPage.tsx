@@ -2,6 +2,7 @@ import { Link } from "react-router-dom";
 import type { LayoutSummary } from "../../shared/contract/rest";
 import { useLayouts } from "../api/layouts";
 import { ImportLayoutForm } from "../components/layouts/ImportLayoutForm";
+import { NewLayoutForm } from "../components/layouts/NewLayoutForm";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
@@ -21,7 +22,14 @@ const columns = col.columns([
   col.accessor("scale", { header: "Scale", cell: (info) => `${info.getValue().name} (1:${info.getValue().ratio})` }),
   col.accessor("liveVersion", {
     header: "Live rulebook",
-    cell: (info) => (info.getValue() === null ? <span className="text-ink-faint">none</span> : `version ${info.getValue()}`),
+    cell: (info) =>
+      info.row.original.archived ? (
+        <span className="rounded border border-aspect-caution/70 px-1.5 text-xs font-bold uppercase text-aspect-caution">archived</span>
+      ) : info.getValue() === null ? (
+        <span className="text-ink-faint">none</span>
+      ) : (
+        `version ${info.getValue()}`
+      ),
   }),
   col.accessor("detectorCount", { header: "Detectors" }),
   col.accessor("signalCount", { header: "Signals" }),
@@ -44,6 +52,11 @@ export default function LayoutsPage() {
           <DataTable caption="Layouts" columns={columns} data={layouts.data} getRowId={(l) => l.slug} empty="No layouts yet." />
         )}
       </Panel>
+      {can.importLayout(user.role) ? (
+        <Panel title="New layout">
+          <NewLayoutForm />
+        </Panel>
+      ) : null}
       {can.importLayout(user.role) ? (
         <Panel title="Import a layout">
           <ImportLayoutForm />

@@ -1,10 +1,10 @@
-import { useEffect, useMemo } from "react";
+import { useEffect, useMemo, useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
 import { shownAspects } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
-import { useSessionInputs } from "../api/sessions";
+import { useSessionInputs, useSessions } from "../api/sessions";
 import { Mimic } from "../components/mimic/Mimic";
 import { ReplayControls } from "../components/replay/ReplayControls";
 import { WhatIfPanel, type WhatIfOption } from "../components/replay/WhatIfPanel";
@@ -29,6 +29,7 @@ export default function ReplayPage() {
   const [search, setSearch] = useSearchParams();
   const layout = useLayout(slug);
   const session = useSessionInputs(Number.isInteger(sessionId) && sessionId > 0 ? sessionId : undefined);
+  const importedFrom = useSessions(slug).data?.find((s) => s.id === sessionId)?.importedFrom;
   const recordedVersion = session.data?.rulebookVersion ?? undefined;
   const recordedRulebook = useRulebookVersion(slug, recordedVersion);
 
@@ -41,10 +42,12 @@ export default function ReplayPage() {
   const sim = useSimulation();
   const { reset, goto } = sim;
   const rulebook = recordedRulebook.data?.rulebook;
-  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs) : null), [rulebook, session.data]);
+  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs, session.data.eventIds) : null), [rulebook, session.data]);
+  // `?step=N` (e.g. from a priority check in the report) opens the replay at that moment.
+  const [openingStep] = useState(() => Math.max(0, Math.floor(Number(search.get("step")) || 0)));
   useEffect(() => {
-    if (rulebook && recorded) reset(rulebook, recorded, 0);
-  }, [rulebook, recorded, reset]);
+    if (rulebook && recorded) reset(rulebook, recorded, openingStep);
+  }, [rulebook, recorded, reset, openingStep]);
 
   const whatIfRun = useMemo<SimEntry[] | null>(
     () => (whatIfRulebook && session.data ? runSession(whatIfRulebook, carryStartState(whatIfRulebook, session.data.start), session.data.inputs) : null),
@@ -98,6 +101,12 @@ export default function ReplayPage() {
         The session&apos;s {session.data.inputs.length.toLocaleString("en-GB")} accepted pulses, clock ticks and signaller commands run again through rulebook v
         {recordedVersion ?? "?"} in your browser, on the same engine as the live control room. Nothing is sent to the layout.
       </p>
+      {importedFrom ? (
+        <p role="note" className="rounded-md border border-panel-600 p-3 text-sm text-ink-soft">
+          Imported from {importedFrom}: the file brought its inputs only, so every change below is this replay&apos;s, from the rulebook&apos;s initial values — the same
+          changes the event log lists.
+        </p>
+      ) : null}
       {switches.length > 0 ? (
         <p role="note" className="rounded-md border border-aspect-caution/60 p-3 text-sm text-aspect-caution">
           A new rulebook (v{switches.join(", v")}) went live during this session; the live layout restarted from its initial values then. This replay runs the whole

@@ -1,17 +1,17 @@
-import { useCallback, useMemo, useState } from "react";
+import { useCallback, useMemo } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
 import type { RulebookContext } from "../../shared/rulebook/validate";
 import { useLayout } from "../api/layouts";
-import { usePublishMutation, useRulebookVersion } from "../api/rulebooks";
+import { useRulebookVersion } from "../api/rulebooks";
 import { ProofPanel } from "../components/rulebook/ProofPanel";
+import { PublishControl } from "../components/rulebook/PublishControl";
 import { RulebookEditor } from "../components/rulebook/RulebookEditor";
 import { RulebookDiffView } from "../components/rulebook/RulebookDiffView";
 import { RuleList } from "../components/rulebook/RuleList";
 import { StatusBadge, VersionTable } from "../components/rulebook/VersionTable";
 import { Button } from "../components/ui/Button";
-import { ConfirmDialog } from "../components/ui/ConfirmDialog";
 import { Panel } from "../components/ui/Panel";
-import { SAFETY_TEXT, SafetyNote } from "../components/ui/SafetyNote";
+import { SAFETY_TEXT } from "../components/ui/SafetyNote";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
 import { formatDateTime } from "../lib/format";
@@ -22,8 +22,6 @@ export default function RulebookPage() {
   const user = useCurrentUser();
   const layout = useLayout(slug);
   const [search, setSearch] = useSearchParams();
-  const [confirmingPublish, setConfirmingPublish] = useState(false);
-  const publish = usePublishMutation(slug);
 
   const versions = layout.data?.versions;
   const requested = Number(search.get("v"));
@@ -52,11 +50,6 @@ export default function RulebookPage() {
 
   const version = selected.data;
   const mayEdit = can.editRulebook(user.role);
-
-  const confirmPublish = () => {
-    if (!version) return;
-    publish.mutate(version.version, { onSettled: () => setConfirmingPublish(false) });
-  };
 
   return (
     <div className="space-y-6">
@@ -90,11 +83,7 @@ export default function RulebookPage() {
             actions={
               <span className="no-print flex items-center gap-2">
                 <StatusBadge status={version.status} live={version.live} />
-                {can.publishRulebook(user.role) && !version.live ? (
-                  <Button tone="primary" onClick={() => setConfirmingPublish(true)}>
-                    Publish v{version.version}
-                  </Button>
-                ) : null}
+                {can.publishRulebook(user.role) ? <PublishControl slug={slug} layoutName={layout.data.name} version={version} /> : null}
               </span>
             }
           >
@@ -112,7 +101,6 @@ export default function RulebookPage() {
             <RuleList rulebook={version.rulebook} />
             <p className="print-only mt-4 text-xs">{SAFETY_TEXT}</p>
           </Panel>
-          {publish.isError ? <LoadError error={publish.error} what="publishing (nothing changed)" /> : null}
           <RulebookDiffView slug={slug} versions={layout.data.versions} current={version} />
           <ProofPanel slug={slug} version={version.version} />
           {mayEdit ? (
@@ -121,22 +109,6 @@ export default function RulebookPage() {
             </Panel>
           ) : null}
         </>
-      ) : null}
-
-      {confirmingPublish && version ? (
-        <ConfirmDialog
-          title={`Publish version ${version.version}?`}
-          confirmLabel={`Publish v${version.version}`}
-          busy={publish.isPending}
-          onConfirm={confirmPublish}
-          onCancel={() => setConfirmingPublish(false)}
-        >
-          <p>
-            Version {version.version} ({version.status}) will run live on {layout.data.name} at once and drive its signals.
-            {version.status === "draft" ? " It has not been proved." : ""}
-          </p>
-          <SafetyNote />
-        </ConfirmDialog>
       ) : null}
     </div>
   );

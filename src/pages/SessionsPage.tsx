@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { SessionEventFilter } from "../../shared/contract/sessions";
+import type { SessionEventFilter, SessionSummaryDto } from "../../shared/contract/sessions";
 import { useLayout } from "../api/layouts";
 import { sessionExportUrl, useSessionEvents, useSessions } from "../api/sessions";
 import { EventLogFilters } from "../components/sessions/EventLogFilters";
@@ -42,22 +42,25 @@ export default function SessionsPage() {
       <p className="text-sm text-ink-soft">
         Each running day is a session. Its event log keeps every message from the boards, every signaller command and every change the rulebook made.
       </p>
+      {/* At the top: on a long log page it would be thousands of pixels down. */}
+      {user.role === "maintainer" || user.role === "admin" ? (
+        <Panel title="Import an event log">
+          <ImportEventLogForm slug={slug} />
+        </Panel>
+      ) : null}
       <Panel title="Sessions">
         <SessionTable slug={slug} sessions={sessions.data} chosen={chosen} onChoose={choose} />
       </Panel>
       {chosen ? (
         <EventLog
-          key={chosen}
+          key={`${chosen}-${search.get("event") ?? ""}`}
+          fromEvent={search.get("event") ?? undefined}
           slug={slug}
           session={chosen}
+          summary={sessions.data.find((s) => s.id === chosen)}
           detectors={layout.data.detectors.map((d) => d.id)}
           nodes={layout.data.nodes.map((n) => n.id)}
         />
-      ) : null}
-      {user.role === "maintainer" || user.role === "admin" ? (
-        <Panel title="Import an event log">
-          <ImportEventLogForm slug={slug} />
-        </Panel>
       ) : null}
     </div>
   );
@@ -65,18 +68,21 @@ export default function SessionsPage() {
 
 interface EventLogProps {
   slug: string;
+  /** Open the log at this event (an alarm's link). */
+  fromEvent?: string;
   session: number;
+  /** The session's row in the list (absent when the link names one beyond its first 200). */
+  summary?: SessionSummaryDto;
   detectors: string[];
   nodes: string[];
 }
 
 /** One session's log, a keyset page at a time; the cursors of earlier pages are kept for "Previous". */
-function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
+function EventLog({ slug, session, summary, detectors, nodes, fromEvent }: EventLogProps) {
   const [filter, setFilter] = useState<SessionEventFilter>({});
-  const [cursors, setCursors] = useState<string[]>(["0"]);
+  const [cursors, setCursors] = useState<string[]>(() => (fromEvent && /^\d{1,18}$/.test(fromEvent) && Number(fromEvent) > 1 ? ["0", String(Number(fromEvent) - 1)] : ["0"]));
   const after = cursors[cursors.length - 1];
   const page = useSessionEvents(session, filter, after, PAGE_EVENTS);
-  const first = (cursors.length - 1) * PAGE_EVENTS;
 
   const changeFilter = (next: SessionEventFilter) => {
     setFilter(next);
@@ -97,10 +103,19 @@ function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
           <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/replay`}>
             Replay this session
           </Link>
+          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/report`}>
+            Report of the day
+          </Link>
         </>
       }
     >
       <div className="space-y-4">
+        {summary?.importedFrom ? (
+          <p role="note" className="rounded-md border border-panel-600 p-3 text-sm text-ink-soft">
+            Imported from {summary.importedFrom}. The file brings the inputs only; the changes listed here are its pulses, ticks and commands replayed through
+            rulebook v{summary.rulebookVersion ?? "?"} from its initial values, on the same engine as the live control room.
+          </p>
+        ) : null}
         <EventLogFilters filter={filter} detectors={detectors} nodes={nodes} onChange={changeFilter} />
         {page.isError ? <LoadError error={page.error} what="the event log" /> : null}
         {page.data ? (
@@ -109,7 +124,7 @@ function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
               <p role="status" className="text-ink-soft">
                 {page.data.total === 0
                   ? "No events match."
-                  : `Events ${(first + 1).toLocaleString("en-GB")}–${(first + page.data.events.length).toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")}`}
+                  : `Events #${page.data.events[0]?.id ?? "?"}–#${page.data.events.at(-1)?.id ?? "?"} (${page.data.events.length.toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")} matching)`}
                 {page.isFetching ? " (loading…)" : ""}
               </p>
               <div className="flex gap-2">

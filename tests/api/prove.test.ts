@@ -2,7 +2,8 @@
  * Proving over REST and socket.io: `POST /api/prove` on a layout file, and proof jobs of
  * stored versions that run in worker threads, report progress, can be cancelled, and store
  * their result on the version (draft → proved only when every property holds).
- * State spaces are kept small (the demo junction proves in about 2,000 states).
+ * State spaces are kept small where the test allows (the demo junction, 8 axles × 2 trains a
+ * route, proves in about 170,000 states).
  */
 import http from "node:http";
 import type { AddressInfo } from "node:net";
@@ -33,6 +34,8 @@ function brokenKestrelBank(): LayoutFile {
   const file = structuredClone(kestrelBankLayout());
   const rule = file.rulebook.rules.find((r) => r.id === "main-approach")!;
   rule.do.push({ show: "B1", aspect: "clear" });
+  // Short trains: the mistake shows with two axles, and the broken rulebook's space is larger.
+  file.rulebook.proving = { ...file.rulebook.proving!, maxAxles: 2, maxTrainsPerRoute: 2 };
   return file;
 }
 
@@ -42,6 +45,9 @@ function slowRulebook(): Rulebook {
   rulebook.proving = { ...rulebook.proving!, maxAxles: 4, maxTrainsPerRoute: 4 };
   return rulebook;
 }
+
+/** Longest wait for a job that proves the full demo: the pool's own limit, and some. */
+const PROOF_WAIT_MS = 90_000;
 
 async function waitForJob(agent: Agent, jobId: string, until: (job: ProofJobDto) => boolean, timeoutMs = 20_000): Promise<ProofJobDto> {
   const deadline = Date.now() + timeoutMs;
@@ -89,7 +95,7 @@ describe("POST /api/prove", () => {
     expect(body.properties.every((p) => p.holds === true && p.counterexample === undefined)).toBe(true);
     expect(body.stats.states).toBeGreaterThan(0);
     expect(typeof body.stats.ms).toBe("number");
-  });
+  }, PROOF_WAIT_MS);
 
   it("refutes a copy whose approach rule clears both home signals, with a replayable counterexample", async () => {
     const file = brokenKestrelBank();
@@ -157,7 +163,10 @@ describe("proof jobs of stored versions", () => {
   });
 
   it("proves a draft to completion: the version becomes proved and keeps the proof", async () => {
-    const version = await saveDraft(engineer, kestrelBankLayout().rulebook);
+    const rulebook = structuredClone(kestrelBankLayout().rulebook);
+    // Short trains keep the job quick on a loaded machine; the full demo is proved above.
+    rulebook.proving = { ...rulebook.proving!, maxAxles: 2, maxTrainsPerRoute: 2 };
+    const version = await saveDraft(engineer, rulebook);
     const start = await engineer.post(`/api/layouts/kestrel-bank/rulebooks/${version}/proofs`);
     expect(start.status).toBe(202);
     const job = await waitForJob(viewer, start.body.jobId, hasEnded);
@@ -186,10 +195,11 @@ describe("proof jobs of stored versions", () => {
 
   it("never changes a published version's status", async () => {
     const start = await engineer.post("/api/layouts/kestrel-bank/rulebooks/1/proofs");
-    const job = await waitForJob(viewer, start.body.jobId, hasEnded);
+    // The published demo (8 axles × 2 trains a route): allow for the proof's own time limit.
+    const job = await waitForJob(viewer, start.body.jobId, hasEnded, PROOF_WAIT_MS);
     expect(job).toMatchObject({ state: "done", status: "published" });
     expect((await viewer.get("/api/layouts/kestrel-bank/rulebooks/1")).body.version.status).toBe("published");
-  });
+  }, PROOF_WAIT_MS + 10_000);
 
   it("cancels a running job: the worker stops, the verdict is unfinished and nothing is stored", async () => {
     const version = await saveDraft(engineer, slowRulebook());

@@ -265,7 +265,7 @@ describe("live pipeline", () => {
     expect(lines.find((l) => l.changes.some((c: { rule?: string }) => c.rule === "give-main"))).toBeTruthy();
     const csv = await agent.get(`/api/sessions/${session.id}/events?format=csv`);
     expect(csv.headers["content-type"]).toMatch(/text\/csv/);
-    expect(csv.text.split("\r\n")[0]).toBe("id,receivedAt,kind,status,reason,node,boot,seq,detector,boardT,topic,user,input,changes");
+    expect(csv.text.split("\r\n")[0]).toBe("id,receivedAt,kind,status,reason,node,boot,seq,detector,boardT,signal,aspect,rev,online,fw,command,latch,counter,by,commandReason,topic,user,changes");
   });
 
   it("display links open the live state read-only, and revoking one disconnects its socket", async () => {

@@ -8,7 +8,7 @@ import { describe, expect, it } from "vitest";
 import { shownAspects } from "../../shared/rulebook/engine";
 import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "../../shared/rulebook/prove";
 import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "../../shared/rulebook/schema";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
@@ -544,11 +544,18 @@ describe("the prover proves sound rulebooks", () => {
     expect(result.verdict).toBe("proved");
   });
 
-  it("the Wrenfold Loop demo is proved (power-worked points, as its layout says)", () => {
+  it("the Wrenfold Loop demo is proved (power-worked points, as its layout says) for 8-axle trains, 3 at once", () => {
     const layout = wrenfoldLoopLayout();
     const points = Object.fromEntries(layout.points.map((p) => [p.id, p.worked ?? "hand"]));
+    expect(layout.rulebook.proving).toMatchObject({ maxAxles: 8, maxTrainsPerRoute: 3 });
     expect(prove(layout.rulebook, { points }).verdict).toBe("proved");
   });
+
+  it("the Kestrel Bank demo is proved for 8-axle trains, 2 at once on each route", () => {
+    const layout = kestrelBankLayout();
+    expect(layout.rulebook.proving).toMatchObject({ maxAxles: 8, maxTrainsPerRoute: 2 });
+    expect(prove(layout.rulebook).verdict).toBe("proved");
+  }, 60_000);
 
   it("never says proved when it stops at a limit", () => {
     const rulebook = templates[0][1];
@@ -558,7 +565,7 @@ describe("the prover proves sound rulebooks", () => {
     expect(result.properties.every((p) => p.holds === null)).toBe(true);
   });
 
-  /** Big enough (over 100,000 states) that progress is reported several times. */
+  /** Big enough (over 100,000 states, reduced) that progress is reported several times. */
   const threeRoutesTwoTrains = (): Rulebook =>
     convergingJunction({
       routes: [
@@ -567,7 +574,7 @@ describe("the prover proves sound rulebooks", () => {
         { id: "goods", signal: "G1", approach: ["GA"], entry: "GE", exit: ["JX"] },
       ],
       order: "priority",
-      maxAxles: 2,
+      maxAxles: 4,
       maxTrainsPerRoute: 2,
     });
 

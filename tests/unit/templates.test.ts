@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, WRENFOLD_MAX_AXLES, WRENFOLD_MAX_TRAINS, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import { initialState, shownAspects, step, type EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
@@ -50,7 +50,9 @@ describe("templates validate", () => {
   });
 
   it("the Kestrel Bank rulebook is the priority template", () => {
-    expect(kestrelBankLayout().rulebook).toEqual(converging("priority"));
+    const demo = converging("priority", KESTREL_MAX_AXLES);
+    demo.proving!.maxTrainsPerRoute = KESTREL_MAX_TRAINS;
+    expect(kestrelBankLayout().rulebook).toEqual(demo);
   });
 
   it.each([
@@ -258,6 +260,8 @@ describe("converging junction against the proving environment (small model check
 
 describe("demo layouts", () => {
   it("Wrenfold Loop uses the facing template with power-worked points", () => {
-    expect(wrenfoldLoopLayout().rulebook).toEqual(facing("power"));
+    const demo = facing("power");
+    demo.proving = { ...demo.proving!, maxAxles: WRENFOLD_MAX_AXLES, maxTrainsPerRoute: WRENFOLD_MAX_TRAINS };
+    expect(wrenfoldLoopLayout().rulebook).toEqual(demo);
   });
 });

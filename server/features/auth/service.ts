@@ -67,14 +67,29 @@ export async function resolveSession(deps: AppDeps, token: string | undefined): 
 
 export async function endSession(deps: AppDeps, sessionId: string): Promise<void> {
   await deps.db.models.AuthSession.destroy({ where: { id: sessionId } });
+  deps.bus.emit("auth.sessions-ended", { sessionId });
 }
 
 /** Ends every session of a member, or every one but `except` (the browser that asked). */
 export async function endSessionsOf(deps: AppDeps, userId: number, options: { except?: string; transaction?: Transaction } = {}): Promise<number> {
-  return deps.db.models.AuthSession.destroy({
+  const ended = await deps.db.models.AuthSession.destroy({
     where: { userId, ...(options.except ? { id: { [Op.ne]: options.except } } : {}) },
     transaction: options.transaction,
   });
+  announceSessionsEnded(deps, { userId, except: options.except }, options.transaction);
+  return ended;
+}
+
+/**
+ * Tells the live sockets that sessions ended, once `transaction` (if any) commits: a socket
+ * dropped earlier could reconnect while the old row is still there.
+ */
+export function announceSessionsEnded(deps: AppDeps, ended: { userId: number; except?: string }, transaction?: Transaction): void {
+  const emit = () => {
+    deps.bus.emit("auth.sessions-ended", ended);
+  };
+  if (transaction) transaction.afterCommit(emit);
+  else emit();
 }
 
 export function setSessionCookie(res: Response, deps: AppDeps, token: string): void {

@@ -2,6 +2,7 @@
  * The live control room over REST (CONTRACT.md §6): live state, signaller commands,
  * running sessions open/closed by hand, and display links.
  */
+import { recordSessionControl } from "../sessions/service";
 import { Router, type RequestHandler } from "express";
 import { z } from "zod";
 import { commandBodySchema } from "../../../shared/contract/live";
@@ -9,12 +10,12 @@ import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { LiveError } from "../../runtime/ports";
 import { allowAnyone, requirePermission } from "../auth/middleware";
-import { findLayout } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
 import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
 
 const displayLinkBodySchema = z.strictObject({ label: z.string().trim().max(100).optional() });
-const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]) });
+const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]), note: z.string().trim().max(500).optional() });
 
 export function liveRoutes(deps: AppDeps): Router {
   const router = Router();
@@ -64,13 +65,19 @@ export function liveRoutes(deps: AppDeps): Router {
   });
 
   router.post("/layouts/:slug/sessions", requirePermission("live.control"), async (req, res) => {
-    const { action } = parseWith(sessionBodySchema, req.body);
-    res.json(await live().session(String(req.params.slug), action, { id: req.user!.id, name: req.user!.name }));
+    const { action, note } = parseWith(sessionBodySchema, req.body);
+    const slug = String(req.params.slug);
+    const before = action === "close" ? (await live().liveState(slug)).session : null;
+    const state = await live().session(slug, action, { id: req.user!.id, name: req.user!.name });
+    // Who ended it and the note are the sessions feature's; the runtime only opens and closes.
+    await recordSessionControl(deps, action === "open" ? state.session?.id : before?.id, action, req.user!.id, note || null);
+    res.json(state);
   });
 
   router.post("/layouts/:slug/display-links", requirePermission("display-links.manage"), async (req, res) => {
     const { label } = parseWith(displayLinkBodySchema, req.body ?? {});
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     const { token, url } = await createDisplayLink(deps, layout.id, req.user!.id, label || null);
     res.status(201).json({ token, url });
   });

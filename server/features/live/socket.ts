@@ -7,13 +7,17 @@
 import type http from "node:http";
 import { Server, type Socket } from "socket.io";
 import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "../../../shared/contract/live";
-import type { AppDeps } from "../../deps";
+import { Op } from "sequelize";
+import { nowMs, type AppDeps } from "../../deps";
+import type { BusEvents } from "../../bus";
 import { SESSION_COOKIE, resolveSession } from "../auth/service";
 import { redactStateForDisplay, redactUpdateForDisplay } from "../display/redact";
 import { layoutOfDisplayToken } from "./displayLinks";
 
 interface SocketData {
   userId: number | null;
+  /** The `auth_sessions` row the handshake's cookie named; the socket ends with it. */
+  sessionId: string | null;
   /** sha256 of the display token this socket joined with, per layout slug. */
   displayHashes: Map<string, string>;
 }
@@ -40,6 +44,11 @@ function cookieValue(header: string | undefined, name: string): string | undefin
   return undefined;
 }
 
+async function sessionStillOpen(deps: AppDeps, sessionId: string): Promise<boolean> {
+  const row = await deps.db.models.AuthSession.findOne({ where: { id: sessionId, expiresAt: { [Op.gt]: new Date(nowMs(deps)) } }, attributes: ["id"] });
+  return row !== null;
+}
+
 export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: LiveIo; close(): Promise<void> } {
   const io: LiveIo = new Server(server, { serveClient: false, cors: { origin: false } });
 
@@ -47,6 +56,7 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
     try {
       const session = await resolveSession(deps, cookieValue(socket.handshake.headers.cookie, SESSION_COOKIE));
       socket.data.userId = session?.user.id ?? null;
+      socket.data.sessionId = session?.sessionId ?? null;
       socket.data.displayHashes = new Map();
       next();
     } catch (err) {
@@ -59,6 +69,12 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
       const reply = typeof ack === "function" ? ack : () => {};
       try {
         const slug = String(request?.slug ?? "");
+        if (socket.data.sessionId !== null && !(await sessionStillOpen(deps, socket.data.sessionId))) {
+          // Ended in a way nobody announced (expired): the handshake's word no longer counts.
+          reply({ ok: false, error: { code: "unauthenticated", message: "your sign-in has ended: sign in again" } });
+          socket.disconnect(true);
+          return;
+        }
         if (socket.data.userId === null) {
           const link = request?.displayToken ? await layoutOfDisplayToken(deps, request.displayToken) : null;
           if (!link || link.slug !== slug) {
@@ -101,7 +117,16 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
       if ([...socket.data.displayHashes.values()].includes(tokenHash)) socket.disconnect(true);
     }
   };
+  const onSessionsEnded = (ended: BusEvents["auth.sessions-ended"][0]) => {
+    for (const socket of io.sockets.sockets.values()) {
+      const { userId, sessionId } = socket.data;
+      if (sessionId === null) continue;
+      const gone = "sessionId" in ended ? ended.sessionId === sessionId : ended.userId === userId && ended.except !== sessionId;
+      if (gone) socket.disconnect(true);
+    }
+  };
   deps.bus.on("live.update", onUpdate);
+  deps.bus.on("auth.sessions-ended", onSessionsEnded);
   deps.bus.on("alarm.changed", onAlarm);
   deps.bus.on("display-link.revoked", onRevoked);
 
@@ -111,6 +136,7 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
       deps.bus.off("live.update", onUpdate);
       deps.bus.off("alarm.changed", onAlarm);
       deps.bus.off("display-link.revoked", onRevoked);
+      deps.bus.off("auth.sessions-ended", onSessionsEnded);
       await new Promise<void>((resolve) => io.close(() => resolve()));
     },
   };

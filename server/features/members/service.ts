@@ -12,7 +12,7 @@ import type { Invitation, User } from "../../db/models";
 import { nowMs, type AppDeps } from "../../deps";
 import { conflict, HttpError, notFound } from "../../http/errors";
 import { auditAccount } from "../audit/accounts";
-import { hashSecret, hashToken } from "../auth/service";
+import { announceSessionsEnded, hashSecret, hashToken } from "../auth/service";
 import { appBaseUrl, mailerOf } from "../mail/service";
 import { mailSignature, societyName } from "../setup/society";
 import { ROLE_WORDS } from "./words";
@@ -181,6 +181,7 @@ export async function removeMember(deps: AppDeps, id: number, actor: Actor): Pro
     // The audit keeps who it was: the member's own earlier entries lose the name with the row.
     await auditAccount(deps, { userId: actor.id === id ? null : actor.id, action: "member.remove", target: member.email, before: { name: member.name, role: member.role } }, transaction);
     await member.destroy({ transaction });
+    announceSessionsEnded(deps, { userId: id }, transaction);
   });
 }
 

@@ -2,15 +2,18 @@
  * Importing an event log (PRODUCT.md feature 8): a file in the export's own format (JSONL or
  * CSV, `GET /api/sessions/:id/events`) becomes a new, closed session marked as imported.
  * Every line is checked before anything is stored, and every problem is reported with its
- * line. The changes of the original are not imported: the replay recomputes them with the
- * engine. Imported events never pass through the live runner (see docs/live-pipeline.md).
+ * line. The changes of the original are not imported: they are recomputed by replaying the
+ * inputs through the engine (./importReplay.ts) and stored in the same transaction. Imported
+ * events never pass through the live runner (see docs/live-pipeline.md).
  */
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
+import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";
-import { CSV_COLUMNS } from "./service";
+import { storeImportedChanges } from "./importReplay";
+import { csvLayout, csvRecords, flatRecord, jsonCellRecord } from "./eventCsv";
 
 /** Largest upload accepted; a busy day's log is a few MB. */
 export const MAX_IMPORT_BYTES = 20 * 1024 * 1024;
@@ -79,10 +82,16 @@ export type ParsedLog = { ok: true; events: ImportedEvent[] } | { ok: false; err
 
 const lineError = (line: number, path: string, message: string): LineError => ({ path: path ? `line ${line}: ${path}` : `line ${line}`, message });
 
-function checkEvent(value: unknown, line: number, events: ImportedEvent[], errors: LineError[]): void {
+function checkEvent(value: unknown, line: number, events: ImportedEvent[], errors: LineError[], rename: Record<string, string> = {}): void {
+  // A NUL or absurd nesting would pass the schema and then fail in PostgreSQL (a 500).
+  const hostile = jsonBodyProblems(value);
+  if (hostile.length > 0) {
+    for (const problem of hostile) errors.push(lineError(line, problem.path.replace(/^\$\.?/, ""), problem.message));
+    return;
+  }
   const result = importedEventSchema.safeParse(value);
   if (result.success) events.push(result.data);
-  else for (const issue of result.error.issues) errors.push(lineError(line, issue.path.map(String).join("."), issue.message));
+  else for (const issue of result.error.issues) errors.push(lineError(line, issue.path.map((p) => rename[String(p)] ?? String(p)).join("."), issue.message));
 }
 
 async function parseJsonl(text: string, events: ImportedEvent[], errors: LineError[]): Promise<void> {
@@ -102,68 +111,17 @@ async function parseJsonl(text: string, events: ImportedEvent[], errors: LineErr
   }
 }
 
-/** RFC 4180 records with the physical line each starts on (a quoted cell may span lines). */
-function* csvRecords(text: string): Generator<{ line: number; cells: string[] }> {
-  let line = 1;
-  let start = 1;
-  let cells: string[] = [];
-  let cell = "";
-  let quoted = false;
-  let i = 0;
-  const end = () => {
-    cells.push(cell);
-    const record = { line: start, cells };
-    cells = [];
-    cell = "";
-    return record;
-  };
-  while (i < text.length) {
-    const c = text[i];
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') {
-        cell += '"';
-        i += 2;
-        continue;
-      }
-      if (c === '"') quoted = false;
-      else {
-        if (c === "\n") line++;
-        cell += c;
-      }
-      i++;
-      continue;
-    }
-    if (c === '"') quoted = true;
-    else if (c === ",") {
-      cells.push(cell);
-      cell = "";
-    } else if (c === "\n" || c === "\r") {
-      if (c === "\r" && text[i + 1] === "\n") i++;
-      const record = end();
-      line++;
-      start = line;
-      if (!(record.cells.length === 1 && record.cells[0] === "")) yield record;
-    } else cell += c;
-    i++;
-  }
-  if (cell !== "" || cells.length > 0) yield end();
-}
-
-const CSV_NUMBERS = new Set<string>(["seq", "boardT"]);
-const CSV_JSON = new Set<string>(["input", "changes"]);
-
 async function parseCsv(text: string, events: ImportedEvent[], errors: LineError[]): Promise<void> {
   const records = csvRecords(text);
   const header = records.next();
   if (header.done) return;
   const columns = header.value.cells;
-  const unknown = columns.filter((c) => !(CSV_COLUMNS as readonly string[]).includes(c));
-  const missing = CSV_COLUMNS.filter((c) => !columns.includes(c) && !["id", "user", "changes", "topic", "boardT", "reason"].includes(c));
-  if (unknown.length || missing.length) {
-    const parts = [missing.length ? `missing ${missing.join(", ")}` : "", unknown.length ? `unknown ${unknown.join(", ")}` : ""].filter(Boolean);
-    errors.push(lineError(1, "header", `expected the export's columns ${CSV_COLUMNS.join(",")}: ${parts.join("; ")}`));
+  const layout = csvLayout(columns);
+  if (!layout.ok) {
+    errors.push(lineError(1, "header", layout.message));
     return;
   }
+  const read = layout.layout === "flat" ? flatRecord : jsonCellRecord;
   let count = 0;
   for (const { line, cells } of records) {
     if (++count % LINES_PER_TURN === 0) await nextTurn();
@@ -171,22 +129,11 @@ async function parseCsv(text: string, events: ImportedEvent[], errors: LineError
       errors.push(lineError(line, "", `${cells.length} cells where the header has ${columns.length}`));
       continue;
     }
-    const value: Record<string, unknown> = {};
-    let readable = true;
-    columns.forEach((column, index) => {
-      const cell = cells[index];
-      if (cell === "") value[column] = null;
-      else if (CSV_NUMBERS.has(column)) value[column] = /^-?\d+$/.test(cell) ? Number(cell) : cell;
-      else if (CSV_JSON.has(column)) {
-        try {
-          value[column] = JSON.parse(cell);
-        } catch {
-          errors.push(lineError(line, column, "not JSON"));
-          readable = false;
-        }
-      } else value[column] = cell;
-    });
-    if (readable) checkEvent(value, line, events, errors);
+    const record = read(columns, cells);
+    for (const e of record.errors) errors.push(lineError(line, e.column, e.message));
+    if (layout.layout === "json-cells" && record.errors.length) continue;
+    // The flat file has no `input` column: a missing command input is the `command` column's fault.
+    checkEvent(record.value, line, events, errors, layout.layout === "flat" ? { input: "command" } : undefined);
   }
 }
 
@@ -283,6 +230,7 @@ export async function importSession(deps: AppDeps, events: ImportedEvent[], opti
         },
       );
     }
+    await storeImportedChanges(deps, session.id, transaction);
     await sequelize.query(
       `INSERT INTO audit_entries (layout_id, user_id, action, target, reason, after)
        VALUES (:layoutId, :userId, 'session-imported', :target, :reason, :after)`,

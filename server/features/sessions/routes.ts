@@ -6,24 +6,36 @@ import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
+import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
+import { ensureImportReplayed } from "./importReplay";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
-import { findLayout } from "../layouts/service";
-import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
+import { findLayout, refuseIfArchived } from "../layouts/service";
+import { REPORT_TABLES, reportCsv } from "./reportCsv";
+import { sessionReport } from "./reportService";
+import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
+
+/** Event ids are bigint: a 19-digit id past its top would fail in PostgreSQL, not here. */
+const MAX_EVENT_ID = 9_223_372_036_854_775_807n;
+const eventIdText = z.string().regex(/^\d{1,19}$/, "an event id").refine((id) => BigInt(id) <= MAX_EVENT_ID, "an event id (at most 9223372036854775807)");
 
 const idText = z.string().regex(/^[A-Za-z0-9_-]{1,32}$/, "an id of letters, digits, _ or -");
 /** `format=json`: one page of the log table; the filters match the table's. */
 const pageQuerySchema = z.object({
   format: z.literal("json"),
-  after: z.string().regex(/^\d{1,19}$/, "an event id").default("0"),
+  after: eventIdText.default("0"),
   limit: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).default(100),
   kind: z.enum(EVENT_KINDS).optional(),
   status: z.enum(EVENT_STATUSES).optional(),
   detector: idText.optional(),
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),
+  /** The last N matching events instead of a page from `after` (the live ticker's history on load). */
+  tail: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).optional(),
 });
+
+const reportQuerySchema = z.object({ format: z.enum(["json", "csv"]).default("json"), table: z.enum(REPORT_TABLES).default("routes") });
 
 const importFieldsSchema = z.object({ rulebookVersion: z.union([z.literal(""), z.coerce.number().int().positive()]).optional() });
 
@@ -50,6 +62,7 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.post("/layouts/:slug/sessions/import", requirePermission("sessions.import"), oneLogFile, async (req, res) => {
     const layout = await findLayout(deps, String(req.params.slug));
+    refuseIfArchived(layout);
     if (!req.file) throw badRequest("attach the event log as the form field \"file\"");
     const { rulebookVersion } = parseWith(importFieldsSchema, req.body ?? {}, "form");
     const text = req.file.buffer.toString("utf8");
@@ -70,20 +83,22 @@ export function sessionRoutes(deps: AppDeps): Router {
     if (req.query.format === "json") {
       const { format: _json, ...options } = parseWith(pageQuerySchema, req.query, "query");
       await findSession(deps, id);
+      await ensureImportReplayed(deps, id);
       res.json(await sessionEventPage(deps, id, options));
       return;
     }
     const { format } = parseWith(exportQuerySchema, req.query, "query");
     await findSession(deps, id);
+    await ensureImportReplayed(deps, id);
     res.status(200);
     res.setHeader("Content-Type", format === "csv" ? "text/csv; charset=utf-8" : "application/x-ndjson; charset=utf-8");
     res.setHeader("Content-Disposition", `attachment; filename="session-${id}.${format}"`);
-    if (format === "csv") res.write(CSV_COLUMNS.join(",") + "\r\n");
+    if (format === "csv") res.write(EVENT_CSV_HEADER);
     let aborted = false;
     res.on("close", () => (aborted = !res.writableFinished));
     for await (const page of sessionEvents(deps, id)) {
       if (aborted) return;
-      const chunk = page.map((event) => (format === "csv" ? csvRow(event) : JSON.stringify(event) + "\n")).join("");
+      const chunk = page.map((event) => (format === "csv" ? eventCsvRow(event) : JSON.stringify(event) + "\n")).join("");
       // Respect backpressure: a slow reader holds the next page back, memory stays flat.
       if (!res.write(chunk)) await Promise.race([once(res, "drain"), once(res, "close")]);
     }
@@ -92,7 +107,21 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.get("/sessions/:id/inputs", requireSignedIn, async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
-    res.json(await sessionInputs(deps, id));
+    const { rulebook: _rulebook, ...inputs } = await sessionInputs(deps, id);
+    res.json(inputs);
+  });
+
+  router.get("/sessions/:id/report", requireSignedIn, async (req, res) => {
+    const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
+    const { format, table } = parseWith(reportQuerySchema, req.query, "query");
+    const report = await sessionReport(deps, id);
+    if (format === "json") {
+      res.json(report);
+      return;
+    }
+    res.setHeader("Content-Type", "text/csv; charset=utf-8");
+    res.setHeader("Content-Disposition", `attachment; filename="session-${id}-${table}.csv"`);
+    res.send(reportCsv(report, table));
   });
 
   return router;

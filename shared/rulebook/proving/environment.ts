@@ -7,13 +7,30 @@
  * ## Packed trains
  * Per facing group (routes sharing signal, approach and entry; a plain route is a group of one):
  * the number of trains, then `maxTrains` slots, front train first (unused slots all zero), each
- * `[axles, route, p0 … p(maxAxles-1)]`: the train's axle count, its route (0 = not yet fixed,
- * `c + 1` = route `c` of the group) and the number of path detectors each axle has crossed,
- * leading axle first. Equal trains ⇔ equal bytes.
+ * `[axles, route, open, p0 … p(maxAxles-1)]`: the train's axle count, its route (0 = not yet
+ * fixed, `c + 1` = route `c` of the group), whether its length is still open (reduced search
+ * only, see below) and the number of path detectors each axle has crossed, leading axle first.
+ * Equal trains ⇔ equal bytes.
+ *
+ * ## The reduced environment (docs/prover.md, "Reductions")
+ * The plain environment is §5 word for word. The reduced one (the default) is the same
+ * environment seen through two exact abstractions; the search prices its moves so that
+ * counterexample lengths are the plain ones:
+ * - *lazy arrival*: a train that has arrived but crossed nothing is invisible to the engine and
+ *   to every property, so no state holds one; an arrival is fused with its leading axle crossing
+ *   the first detector (one edge worth two §5 moves, {@link MOVE_FUSED});
+ * - *lazy length*: a train is not given its axle count when it arrives. An *open* train of `m`
+ *   axles stands for every train of `m` or more axles whose first `m` axles lie as shown and
+ *   whose others have crossed nothing; its last shown axle has crossed the first detector only
+ *   (it cannot go further while an axle behind it has not). Its next axle crossing the first
+ *   detector *reveals* one more axle ({@link MOVE_REVEAL}); a move that only a train of exactly
+ *   `m` axles can make (its last axle going on, or a train arriving behind it) *closes* it
+ *   ({@link MOVE_CLOSE}). Every property reads the same on all the trains an open one stands
+ *   for; `no-stuck-train` tracks them apart (properties.ts).
  *
  * ## Move codes
- * arrivals (group, axles) | axle crossings (group, slot, axle, route fixed at this crossing or 0)
- * | quiet firings (rule) | points reports (points, position).
+ * arrivals (group, axles; a fused arrival has axles 1) | axle crossings (group, slot, axle, route
+ * fixed at this crossing or 0) | quiet firings (rule) | points reports (points, position).
  */
 import type { EngineFacts } from "./abstraction";
 import type { Model } from "./model";
@@ -26,7 +43,7 @@ export interface Packing {
 }
 
 export function packing(model: Model): Packing {
-  const slotWidth = 2 + model.maxAxles;
+  const slotWidth = 3 + model.maxAxles;
   const base: number[] = [];
   let width = 0;
   for (let g = 0; g < model.groups.length; g++) {
@@ -39,7 +56,8 @@ export function packing(model: Model): Packing {
 /** Offsets into a slot. */
 export const SLOT_AXLES = 0;
 export const SLOT_ROUTE = 1;
-export const SLOT_POS = 2;
+export const SLOT_OPEN = 2;
+export const SLOT_POS = 3;
 /** "No train ahead" in the ahead-has-cleared test. */
 const NONE_AHEAD = 255;
 
@@ -48,6 +66,13 @@ export const MOVE_ARRIVAL = 1;
 export const MOVE_MISROUTED = 2;
 /** Power-worked points start to move under a train or a cleared signal (`points-locked` fails). */
 export const MOVE_UNLOCKED = 4;
+/** Reduced environment: an arrival together with its leading axle crossing the first detector (two §5 moves). */
+export const MOVE_FUSED = 8;
+/** Reduced environment: the move reveals one more axle of an open train (in group `flags >> MOVE_GROUP_SHIFT`). */
+export const MOVE_REVEAL = 16;
+/** Reduced environment: the move closes an open train (in group `flags >> MOVE_GROUP_SHIFT`) at its shown axles. */
+export const MOVE_CLOSE = 32;
+export const MOVE_GROUP_SHIFT = 8;
 
 export interface MoveCodes {
   pulseBase: number;
@@ -110,6 +135,12 @@ export function betweenMask(model: Model, pack: Packing, cur: Uint8Array): numbe
   return mask;
 }
 
+/** Which environment {@link forEachMove} enumerates (module notes). */
+export type Reduction = 0 | 1 | 2;
+export const PLAIN = 0;
+export const LAZY_ARRIVAL = 1;
+export const LAZY_LENGTH = 2;
+
 /** Receives one move: its code, the engine input it gives (-1: none) and MOVE_* flags; `nxt` holds the trains after it. */
 export type MoveVisitor = (code: number, input: number, flags: number) => void;
 
@@ -117,7 +148,9 @@ export type MoveVisitor = (code: number, input: number, flags: number) => void;
  * Every move of the environment from the state (engine facts, trains `cur`), in a fixed order:
  * for each group its arrivals then its axle crossings, then quiet firings, then points moves.
  * Before each call of `visit`, `nxt` is filled with the trains after the move (for a misrouted
- * crossing, which has no successor, with the trains as they were).
+ * crossing, which has no successor, with the trains as they were). `level` selects the
+ * environment: {@link PLAIN} (§5 as written), {@link LAZY_ARRIVAL} or {@link LAZY_LENGTH} (both
+ * reductions of the module notes).
  */
 export function forEachMove(
   model: Model,
@@ -127,6 +160,7 @@ export function forEachMove(
   cur: Uint8Array,
   nxt: Uint8Array,
   visit: MoveVisitor,
+  level: Reduction = PLAIN,
 ): void {
   const { maxAxles, maxTrains, groups, routes } = model;
   const { base, slotWidth } = pack;
@@ -135,13 +169,32 @@ export function forEachMove(
     const group = groups[g];
     const b = base[g];
     const n = cur[b];
-    // A train arrives at the back of the group's queue.
-    if (n < maxTrains) {
+    const groupFlag = g << MOVE_GROUP_SHIFT;
+    const first = routes[group.routes[0]];
+    if (n < maxTrains && level === PLAIN) {
+      // A train arrives at the back of the group's queue.
       for (let a = 1; a <= maxAxles; a++) {
         nxt.set(cur);
         nxt[b] = n + 1;
         nxt[b + 1 + n * slotWidth + SLOT_AXLES] = a;
         visit(g * maxAxles + (a - 1), -1, MOVE_ARRIVAL);
+      }
+    } else if (n < maxTrains && (n === 0 || lastAxle(cur, b + 1 + (n - 1) * slotWidth) > 0)) {
+      // Lazy arrival: the new train's leading axle crosses the first detector at once (the train
+      // ahead has cleared it). With lazy length it is one open train, and a train ahead that was
+      // open is closed; otherwise one train of each length.
+      const slot = b + 1 + n * slotWidth;
+      const open = level === LAZY_LENGTH && maxAxles > 1;
+      let flags = MOVE_ARRIVAL | MOVE_FUSED;
+      if (n > 0 && cur[slot - slotWidth + SLOT_OPEN] !== 0) flags |= MOVE_CLOSE | groupFlag;
+      for (let a = 1; a <= (open ? 1 : maxAxles); a++) {
+        nxt.set(cur);
+        if (n > 0) nxt[slot - slotWidth + SLOT_OPEN] = 0;
+        nxt[b] = n + 1;
+        nxt[slot + SLOT_AXLES] = a;
+        nxt[slot + SLOT_OPEN] = open ? 1 : 0;
+        nxt[slot + SLOT_POS] = 1;
+        visit(g * maxAxles + (a - 1), first.pathInput[0], flags);
       }
     }
     const entry = group.entryIndex;
@@ -150,6 +203,7 @@ export function forEachMove(
       const slot = b + 1 + t * slotWidth;
       const axles = cur[slot + SLOT_AXLES];
       const tag = cur[slot + SLOT_ROUTE];
+      const open = cur[slot + SLOT_OPEN] !== 0;
       // Before entry the train ahead in the group; past it the train ahead on the same route.
       const aheadShared = t > 0 ? lastAxle(cur, slot - slotWidth) : NONE_AHEAD;
       let aheadOwn = NONE_AHEAD;
@@ -162,7 +216,7 @@ export function forEachMove(
           }
         }
       }
-      const route = tag === 0 ? routes[group.routes[0]] : routes[group.routes[tag - 1]];
+      const route = tag === 0 ? first : routes[group.routes[tag - 1]];
       // An unfixed train's path ends at entry: crossing it fixes the route.
       const length = tag === 0 ? entry + 1 : route.path.length;
       for (let k = 0; k < axles; k++) {
@@ -171,12 +225,15 @@ export function forEachMove(
         if (!axleMayCross(cur, slot, k, length, ahead, entry, proceed)) continue;
         const input = route.pathInput[p];
         const code = codes.pulseBase + ((g * maxTrains + t) * maxAxles + k) * codes.choices;
+        // The last shown axle of an open train goes on: only a train of exactly these axles can.
+        const closes = open && k === axles - 1;
+        const flags = closes ? MOVE_CLOSE | groupFlag : 0;
         if (tag === 0 && k === 0 && p === entry) {
           // §5: the route is the one of the group whose points all lie as reported now.
           const matching = group.routeMask & facts.routesSetMask;
           if (matching === 0) {
             nxt.set(cur);
-            visit(code, input, MOVE_MISROUTED);
+            visit(code, input, MOVE_MISROUTED | flags);
             continue;
           }
           for (let c = 0; c < group.routes.length; c++) {
@@ -184,19 +241,29 @@ export function forEachMove(
             nxt.set(cur);
             nxt[slot + SLOT_POS] = p + 1;
             nxt[slot + SLOT_ROUTE] = c + 1;
-            visit(code + c + 1, input, 0);
+            if (closes) nxt[slot + SLOT_OPEN] = 0;
+            visit(code + c + 1, input, flags);
           }
           continue;
         }
         nxt.set(cur);
         nxt[slot + SLOT_POS + k] = p + 1;
+        if (closes) nxt[slot + SLOT_OPEN] = 0;
         if (k === axles - 1 && p + 1 === length) {
           // The last axle crossed the last exit: the train leaves; the trains behind move up.
           nxt.copyWithin(slot, slot + slotWidth, b + 1 + maxTrains * slotWidth);
           nxt.fill(0, b + 1 + (maxTrains - 1) * slotWidth, b + 1 + maxTrains * slotWidth);
           nxt[b] = n - 1;
         }
-        visit(code, input, 0);
+        visit(code, input, flags);
+      }
+      if (open) {
+        // One more axle of an open train crosses the first detector (the one ahead has).
+        nxt.set(cur);
+        nxt[slot + SLOT_AXLES] = axles + 1;
+        nxt[slot + SLOT_POS + axles] = 1;
+        nxt[slot + SLOT_OPEN] = axles + 1 < maxAxles ? 1 : 0;
+        visit(codes.pulseBase + ((g * maxTrains + t) * maxAxles + axles) * codes.choices, route.pathInput[0], MOVE_REVEAL | groupFlag);
       }
     }
   }

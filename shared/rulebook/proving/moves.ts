@@ -4,7 +4,7 @@
  * means exactly what the search meant by it.
  */
 import type { EngineFacts } from "./abstraction";
-import { forEachMove, SLOT_ROUTE, type MoveCodes, type Packing } from "./environment";
+import { forEachMove, MOVE_FUSED, MOVE_REVEAL, PLAIN, SLOT_OPEN, SLOT_ROUTE, type MoveCodes, type Packing, type Reduction } from "./environment";
 import { REPORTED_LIES, type Model } from "./model";
 import type { PointsLie } from "../schema";
 
@@ -54,9 +54,12 @@ export class TrainNumbers {
 }
 
 /**
- * The §5 move a code stands for, taken from `from`, and the trains after it. The route of a
- * pulse is the train's fixed route, or its group's first route until it is fixed (the crossing
- * that fixes it names the route taken).
+ * The §5 moves a code stands for, taken from `from` (one, or two for a fused arrival of the
+ * reduced environment: the arrival and its first pulse), and the trains after it. The route of
+ * a pulse is the train's fixed route, or its group's first route until it is fixed (the crossing
+ * that fixes it names the route taken). `train` is the number of the train that moved or arrived.
+ * With lazy length the axle count of a fused arrival is not known yet (the train is open): it is
+ * given as 1 and {@link decodePath} puts in the count the path settles on.
  */
 export function describeMove(
   model: Model,
@@ -64,20 +67,34 @@ export function describeMove(
   codes: MoveCodes,
   step: PathStep,
   numbers: TrainNumbers,
-): { move: Move; after: Uint8Array; input: number } {
+  level: Reduction = PLAIN,
+): { moves: Move[]; after: Uint8Array; input: number; flags: number; train: number } {
   const cur = step.trains;
   const nxt = new Uint8Array(pack.width);
-  let found: { input: number; after: Uint8Array } | undefined;
-  forEachMove(model, pack, codes, step.facts, cur, nxt, (code, input) => {
-    if (code === step.code && found === undefined) found = { input, after: nxt.slice() };
-  });
+  let found: { input: number; after: Uint8Array; flags: number } | undefined;
+  forEachMove(
+    model,
+    pack,
+    codes,
+    step.facts,
+    cur,
+    nxt,
+    (code, input, flags) => {
+      if (code === step.code && found === undefined) found = { input, after: nxt.slice(), flags };
+    },
+    level,
+  );
   if (!found) throw new Error(`move code ${step.code} is not a move of this state`);
-  const { input, after } = found;
+  const { input, after, flags } = found;
   const c = step.code;
+  const detectorOf = (i: number): string => (model.inputs[i] as { detector: string }).detector;
   if (c < codes.pulseBase) {
     const group = Math.floor(c / model.maxAxles);
-    numbers.arrive(group);
-    return { move: { type: "arrive", route: model.routes[model.groups[group].routes[0]].id, axles: (c % model.maxAxles) + 1 }, after, input };
+    const route = model.routes[model.groups[group].routes[0]].id;
+    const train = numbers.arrive(group);
+    const arrive: Move = { type: "arrive", route, axles: (c % model.maxAxles) + 1 };
+    if ((flags & MOVE_FUSED) === 0) return { moves: [arrive], after, input, flags, train };
+    return { moves: [arrive, { type: "pulse", detector: detectorOf(input), route, train }], after, input, flags, train };
   }
   if (c < codes.quietBase) {
     const rest = Math.floor((c - codes.pulseBase) / codes.choices);
@@ -89,10 +106,46 @@ export function describeMove(
     const route = model.routes[group.routes[Math.max(0, tag - 1)]];
     const train = numbers.of(group.index, slot);
     if (leaves) numbers.leave(group.index, slot);
-    const detector = (model.inputs[input] as { detector: string }).detector;
-    return { move: { type: "pulse", detector, route: route.id, train }, after, input };
+    return { moves: [{ type: "pulse", detector: detectorOf(input), route: route.id, train }], after, input, flags, train };
   }
-  if (c < codes.pointsBase) return { move: { type: "quiet", rule: model.quietRuleIds[c - codes.quietBase] }, after, input };
+  if (c < codes.pointsBase) return { moves: [{ type: "quiet", rule: model.quietRuleIds[c - codes.quietBase] }], after, input, flags, train: 0 };
   const p = Math.floor((c - codes.pointsBase) / 3);
-  return { move: { type: "points", points: model.points[p].id, lies: REPORTED_LIES[(c - codes.pointsBase) % 3] }, after, input };
+  return { moves: [{ type: "points", points: model.points[p].id, lies: REPORTED_LIES[(c - codes.pointsBase) % 3] }], after, input, flags, train: 0 };
+}
+
+/**
+ * The §5 moves of a path of the search. In the reduced environment a train's axle count is
+ * only settled along the way (each revealed axle adds one): its arrival gets the count the path
+ * ends with, plus `extraAxles(group)` for a train still open at the end (for `no-stuck-train`,
+ * the length of the train it stands for that is stuck; otherwise 0: the shortest will do).
+ */
+export function decodePath(
+  model: Model,
+  pack: Packing,
+  codes: MoveCodes,
+  steps: PathStep[],
+  level: Reduction,
+  extraAxles: (group: number) => number = () => 0,
+): Move[] {
+  const numbers = new TrainNumbers(model);
+  const out: Move[] = [];
+  const arrivalOf = new Map<number, { type: "arrive"; route: string; axles: number }>();
+  let last: Uint8Array | undefined;
+  for (const step of steps) {
+    const d = describeMove(model, pack, codes, step, numbers, level);
+    if ((d.flags & MOVE_FUSED) !== 0) arrivalOf.set(d.train, d.moves[0] as { type: "arrive"; route: string; axles: number });
+    if ((d.flags & MOVE_REVEAL) !== 0) arrivalOf.get(d.train)!.axles++;
+    out.push(...d.moves);
+    last = d.after;
+  }
+  if (last) {
+    // Trains still open at the end of the path: the length of the train they stand for.
+    for (const group of model.groups) {
+      for (let t = 0; t < last[pack.base[group.index]]; t++) {
+        const slot = pack.base[group.index] + 1 + t * pack.slotWidth;
+        if (last[slot + SLOT_OPEN] !== 0) arrivalOf.get(numbers.of(group.index, t))!.axles += extraAxles(group.index);
+      }
+    }
+  }
+  return out;
 }

@@ -4,9 +4,9 @@
  * that decides `no-stuck-train` once the search is done.
  */
 import type { EngineFacts } from "./abstraction";
-import { SLOT_AXLES, SLOT_POS, SLOT_ROUTE, type Packing } from "./environment";
+import { MOVE_GROUP_SHIFT, MOVE_REVEAL, SLOT_AXLES, SLOT_POS, SLOT_ROUTE, type Packing } from "./environment";
 import type { Model } from "./model";
-import type { IntVec } from "./stateTable";
+import { IntVec } from "./stateTable";
 
 /** The properties of CONTRACT.md §5, in the order results are reported. */
 export const PROPERTY_IDS = [
@@ -120,32 +120,112 @@ export function slotPositions(cur: Uint8Array, slot: number): number[] {
   return out;
 }
 
+/** The stored non-arrival edges of a finished search, grouped by source state. */
+export interface EdgeStore {
+  /** Edges of state s: `start[s]` to `end[s]` (exclusive) in `to` and `kind`. */
+  start: Int32Array;
+  end: Int32Array;
+  to: Int32Array;
+  /** 0, or MOVE_REVEAL / MOVE_CLOSE with the group in the higher bits (environment.ts). */
+  kind: Int32Array;
+  count: number;
+}
+
+/**
+ * The trains an open train of the reduced search stands for, as bits: with `B = maxAxles`, bit
+ * `Σ d_g · B^g` stands for the group-g open train having `d_g` axles more than it shows (groups
+ * without an open train have `d_g = 0`). One bit when no train is open, or in the plain search.
+ */
+export interface Hidden {
+  /** B (maxAxles) when open trains are tracked, else 1 (no hidden axles). */
+  base: number;
+  groups: number;
+  words: number;
+  /** Shown axles of each group's open train (0: none) in state s, written into `out`. */
+  openOf: (state: number, out: Int32Array) => void;
+}
+
 /**
  * `no-stuck-train`: for each group, backward reachability over the non-arrival edges from the
  * states where its signal shows a proceed. A reachable state where a train of that group waits
- * at danger and that cannot reach such a state is a stuck train; the earliest in breadth-first
- * order over all groups is the counterexample.
+ * at danger and that cannot reach such a state is a stuck train; the earliest (least depth)
+ * over all groups is the counterexample.
+ *
+ * An open train stands for several trains (properties.ts notes on {@link Hidden}), and a state
+ * is stuck when *any* of them is: so reachability is computed per hidden length, as bit sets.
+ * An edge that reveals an axle in group g maps the target's bit for `d_g` to the source's bit for
+ * `d_g + 1`; an edge that closes the group-g train keeps only `d_g = 0`; other edges keep every bit.
+ * `extra` of the result is the stuck train's hidden length per group (0 for closed trains).
  */
 export function findStuckTrain(
   model: Model,
   nStates: number,
   proceedMaskOf: (state: number) => number,
   waitMaskOf: IntVec,
-  edgeStart: IntVec,
-  edgeTo: IntVec,
-): { state: number; group: number } | undefined {
-  const nEdges = edgeTo.length;
+  depthOf: IntVec,
+  edges: EdgeStore,
+  hidden: Hidden,
+): { state: number; group: number; extra: number[] } | undefined {
+  const { words, base: B } = hidden;
+  const nEdges = edges.count;
   const start = new Int32Array(nStates + 1);
-  for (let e = 0; e < nEdges; e++) start[edgeTo.data[e] + 1]++;
+  for (let e = 0; e < nEdges; e++) start[edges.to[e] + 1]++;
   for (let s = 0; s < nStates; s++) start[s + 1] += start[s];
   const fill = start.slice(0, nStates);
   const sources = new Int32Array(nEdges);
+  const kinds = new Int32Array(nEdges);
   for (let s = 0; s < nStates; s++) {
-    for (let e = edgeStart.data[s]; e < edgeStart.data[s + 1]; e++) sources[fill[edgeTo.data[e]]++] = s;
+    for (let e = edges.start[s]; e < edges.end[s]; e++) {
+      const i = fill[edges.to[e]]++;
+      sources[i] = s;
+      kinds[i] = edges.kind[e];
+    }
   }
-  let best: { state: number; group: number } | undefined;
-  const canReach = new Uint8Array(nStates);
-  const work = new Int32Array(nStates);
+  // The bits of each state's trains: one bit set per distinct set of open trains, and its index per state.
+  const validSets: Int32Array[] = [];
+  const validIndex = new Uint16Array(nStates);
+  if (B > 1) {
+    const known = new Map<number, number>();
+    const open = new Int32Array(model.groups.length);
+    const total = Math.pow(B, hidden.groups);
+    for (let s = 0; s < nStates; s++) {
+      hidden.openOf(s, open);
+      let key = 0;
+      for (let g = 0; g < open.length; g++) key = key * (model.maxAxles + 1) + open[g];
+      let index = known.get(key);
+      if (index === undefined) {
+        const bits = new Int32Array(words);
+        for (let i = 0; i < total; i++) {
+          let ok = true;
+          for (let g = 0, rest = i; g < hidden.groups; g++, rest = Math.floor(rest / B)) {
+            if (rest % B > (open[g] === 0 ? 0 : model.maxAxles - open[g])) ok = false;
+          }
+          if (ok) bits[i >>> 5] |= 1 << (i & 31);
+        }
+        index = validSets.length;
+        validSets.push(bits);
+        known.set(key, index);
+      }
+      validIndex[s] = index;
+    }
+  } else {
+    validSets.push(Int32Array.of(1));
+  }
+  const validOf = (s: number): Int32Array => validSets[validIndex[s]];
+  const revealShift = model.groups.map((g) => Math.pow(B, g.index));
+  const REVEAL = MOVE_REVEAL;
+  const SHIFT = MOVE_GROUP_SHIFT;
+
+  let best: { state: number; group: number; extra: number[] } | undefined;
+  const canReach = new Int32Array(nStates * words);
+  const queued = new Uint8Array(nStates);
+  // Worklist by depth, deepest first: bits flow backwards, mostly from deeper states to shallower
+  // ones, so a state is usually taken once, after its successors have their bits.
+  let maxDepth = 0;
+  for (let s = 0; s < nStates; s++) if (depthOf.data[s] > maxDepth) maxDepth = depthOf.data[s];
+  const work: IntVec[] = [];
+  for (let d = 0; d <= maxDepth; d++) work.push(new IntVec(16));
+  const add = new Int32Array(words);
   for (const group of model.groups) {
     const bit = 1 << group.index;
     const signalBit = 1 << group.routes[0];
@@ -153,29 +233,75 @@ export function findStuckTrain(
     for (let s = 0; s < nStates && !anyWaiting; s++) if (waitMaskOf.data[s] & bit) anyWaiting = true;
     if (!anyWaiting) continue;
     canReach.fill(0);
-    let top = 0;
+    let at = maxDepth;
     for (let s = 0; s < nStates; s++) {
       if (proceedMaskOf(s) & signalBit) {
-        canReach[s] = 1;
-        work[top++] = s;
+        canReach.set(validOf(s), s * words);
+        queued[s] = 1;
+        work[depthOf.data[s]].push(s);
       }
     }
-    while (top > 0) {
-      const s = work[--top];
+    while (at >= 0) {
+      const bucket = work[at];
+      if (bucket.length === 0) {
+        at--;
+        continue;
+      }
+      const s = bucket.data[--bucket.length];
+      queued[s] = 0;
       for (let i = start[s]; i < start[s + 1]; i++) {
         const p = sources[i];
-        if (!canReach[p]) {
-          canReach[p] = 1;
-          work[top++] = p;
+        const kind = kinds[i];
+        if ((kind & REVEAL) !== 0) {
+          // Source bit d ↔ target bit d − B^g (one axle fewer still hidden).
+          shiftUp(canReach, s * words, add, words, revealShift[kind >>> SHIFT]);
+          const valid = validOf(p);
+          for (let w = 0; w < words; w++) add[w] &= valid[w];
+        } else {
+          for (let w = 0; w < words; w++) add[w] = canReach[s * words + w];
+        }
+        let grew = false;
+        for (let w = 0; w < words; w++) {
+          const fresh = add[w] & ~canReach[p * words + w];
+          if (fresh !== 0) {
+            canReach[p * words + w] |= fresh;
+            grew = true;
+          }
+        }
+        if (grew && !queued[p]) {
+          queued[p] = 1;
+          const dp = depthOf.data[p];
+          work[dp].push(p);
+          if (dp > at) at = dp;
         }
       }
     }
     for (let s = 0; s < nStates; s++) {
-      if (waitMaskOf.data[s] & bit && !canReach[s]) {
-        if (!best || s < best.state) best = { state: s, group: group.index };
+      if ((waitMaskOf.data[s] & bit) === 0) continue;
+      if (best && depthOf.data[s] >= depthOf.data[best.state]) continue;
+      const valid = validOf(s);
+      for (let w = 0; w < words; w++) {
+        const missing = valid[w] & ~canReach[s * words + w];
+        if (missing === 0) continue;
+        const index = w * 32 + (31 - Math.clz32(missing & -missing));
+        const extra: number[] = [];
+        for (let g = 0, rest = index; g < hidden.groups; g++, rest = Math.floor(rest / B)) extra.push(rest % B);
+        best = { state: s, group: group.index, extra };
         break;
       }
     }
   }
   return best;
+}
+
+/** `out` = the bit set at `src[from…from+words)` moved `by` bits up (towards higher indices). */
+function shiftUp(src: Int32Array, from: number, out: Int32Array, words: number, by: number): void {
+  const wordShift = by >>> 5;
+  const bitShift = by & 31;
+  for (let w = words - 1; w >= 0; w--) {
+    const lo = w - wordShift;
+    const a = lo >= 0 ? src[from + lo] : 0;
+    const b = lo - 1 >= 0 ? src[from + lo - 1] : 0;
+    out[w] = bitShift === 0 ? a : (a << bitShift) | (b >>> (32 - bitShift));
+  }
 }

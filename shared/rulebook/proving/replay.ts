@@ -124,7 +124,7 @@ export function replayCounterexample(rulebook: Rulebook, moves: Move[], options:
     for (const o of offered) {
       const trial = numbers.clone();
       const described = describeMove(model, pack, codes, { facts, trains: cur, code: o.code }, trial);
-      if (JSON.stringify(described.move) === wanted) {
+      if (JSON.stringify(described.moves[0]) === wanted) {
         chosen = { flags: o.flags, after: described.after, numbers: trial };
         break;
       }

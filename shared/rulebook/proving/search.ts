@@ -1,16 +1,33 @@
 /**
  * The search: breadth first over (engine state, packed trains), each edge one move of the
- * environment (`environment.ts`). States are numbered in discovery order, which is breadth-first
- * order, and each remembers the state and move it was first reached by, so every refuted
+ * environment (`environment.ts`; a fused arrival of the reduced environment is worth two). Each
+ * state remembers the state and move it was reached by on a shortest path, so every refuted
  * property comes with a shortest counterexample.
  */
 import { initialStep, type EngineState } from "../engine";
 import type { Rulebook } from "../schema";
 import { canonical, engineFacts, isUnderflowChange, normalise, runInput, type EngineFacts } from "./abstraction";
-import { forEachMove, moveCodes, MOVE_ARRIVAL, MOVE_MISROUTED, MOVE_UNLOCKED, packing } from "./environment";
+import {
+  forEachMove,
+  LAZY_ARRIVAL,
+  LAZY_LENGTH,
+  moveCodes,
+  MOVE_ARRIVAL,
+  MOVE_CLOSE,
+  MOVE_FUSED,
+  MOVE_GROUP_SHIFT,
+  MOVE_MISROUTED,
+  MOVE_REVEAL,
+  MOVE_UNLOCKED,
+  packing,
+  PLAIN,
+  SLOT_AXLES,
+  SLOT_OPEN,
+  type Reduction,
+} from "./environment";
 import { compileModel, pointsInput, type Model, type PointsWorking } from "./model";
-import { describeMove, TrainNumbers, type Move, type PathStep } from "./moves";
-import { findStuckTrain, judgeState, propertiesOf, type PropertyId } from "./properties";
+import { decodePath, type Move, type PathStep } from "./moves";
+import { findStuckTrain, judgeState, propertiesOf, type Hidden, type PropertyId } from "./properties";
 import { IntVec, StateTable } from "./stateTable";
 
 export interface PropertyResult {
@@ -49,6 +66,11 @@ export interface ProveOptions {
   shouldCancel?: () => boolean;
   /** How each points is worked (from the layout); see `compileModel`. */
   points?: PointsWorking;
+  /**
+   * Explore the plain §5 environment, without the reductions (lazy arrival and lazy length,
+   * environment.ts). Same verdicts and counterexample lengths, many more states: for cross-checks.
+   */
+  plain?: boolean;
 }
 
 /** No fixed state limit: memory and time decide (issue 16). Kept for callers that pass one on. */
@@ -125,12 +147,27 @@ export function startState(model: Model): { state: EngineState; underflow: boole
   return { state, underflow };
 }
 
+/** How many hidden-length bits `no-stuck-train` may track per state before lazy length is left off. */
+const MAX_HIDDEN_BITS = 1024;
+
+/** The environment a proof explores: plain §5, or reduced (the default; see environment.ts). */
+export function reductionFor(model: Model, plain: boolean): Reduction {
+  if (plain) return PLAIN;
+  return Math.pow(model.maxAxles, model.groups.length) <= MAX_HIDDEN_BITS ? LAZY_LENGTH : LAZY_ARRIVAL;
+}
+
 /**
- * Proves (or refutes) every §5 property of `rulebook` by exhaustive breadth-first search.
+ * Proves (or refutes) every §5 property of `rulebook` by exhaustive search.
  *
  * The verdict is "proved" only when the whole state space was explored and every property
  * holds; "refuted" when at least one property has a counterexample (properties not decided
  * before a limit have `holds: null`); otherwise "unfinished" with a `reason` and `stoppedBy`.
+ *
+ * The search is breadth first by the number of §5 moves: a fused arrival of the reduced
+ * environment counts two, so the states are taken in buckets by depth (d, d+1, d+2) and a state
+ * first found two moves on may later be found one move on (its depth, parent and move are then
+ * replaced). Every state is expanded once, at its final depth, in order of depth; so the first
+ * violation met of a state property, and the shortest of the transition ones, is shortest.
  */
 export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResult {
   const now = options.now;
@@ -145,6 +182,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   } catch (err) {
     return { verdict: "unfinished", properties: [], stats: { states: 0, ms: elapsed(), transitions: 0, bytes: 0 }, reason: (err as Error).message };
   }
+  const level = reductionFor(model, options.plain === true);
   const properties = propertiesOf(model);
   const pack = packing(model);
   const codes = moveCodes(model);
@@ -152,32 +190,40 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const width = pack.width;
 
   const table = new StateTable(width);
+  // Per state id: parent, move code, depth (in §5 moves), state verdict bits, edge range.
   const parent = new IntVec(1 << 14);
   const moveOf = new IntVec(1 << 14);
   const depthOf = new IntVec(1 << 14);
   const waitMaskOf = new IntVec(1 << 14);
   const edgeStart = new IntVec(1 << 14);
+  const edgeEnd = new IntVec(1 << 14);
   const edgeTo = new IntVec(1 << 16);
+  const edgeKind = new IntVec(1 << 16);
+  // States waiting to be expanded, by depth modulo 3 (moves are worth one or two).
+  const buckets = [new IntVec(1 << 12), new IntVec(1 << 12), new IntVec(1 << 12)];
   const bytesUsed = (): number =>
-    table.bytes + parent.bytes + moveOf.bytes + depthOf.bytes + waitMaskOf.bytes + edgeStart.bytes + edgeTo.bytes + engines.bytes;
+    table.bytes +
+    [parent, moveOf, depthOf, waitMaskOf, edgeStart, edgeEnd, edgeTo, edgeKind, ...buckets].reduce((sum, v) => sum + v.bytes, 0) +
+    engines.bytes;
   let transitions = 0;
 
-  // First violation of each property: a state, or for a violating move, the state it leaves and the move.
-  const firstBad = new Map<PropertyId, { state: number; move?: number }>();
-  const noteBad = (pid: PropertyId, state: number, move?: number): void => {
-    if (!firstBad.has(pid)) firstBad.set(pid, move === undefined ? { state } : { state, move });
+  // Shortest violation of each property: a state, or for a violating move, the state it leaves and the move.
+  const firstBad = new Map<PropertyId, { length: number; state: number; move?: number }>();
+  const noteBad = (pid: PropertyId, length: number, state: number, move?: number): void => {
+    const known = firstBad.get(pid);
+    if (!known || length < known.length) firstBad.set(pid, move === undefined ? { length, state } : { length, state, move });
   };
   let stuckCandidates = 0;
 
-  const examine = (id: number, engine: number, v: Uint8Array): void => {
+  const examine = (id: number, engine: number, v: Uint8Array, depth: number): void => {
     const facts = engines.facts[engine];
     const verdict = judgeState(model, pack, facts, v);
-    waitMaskOf.push(verdict.waitMask);
+    waitMaskOf.put(id, verdict.waitMask);
     if (verdict.waitMask !== 0) stuckCandidates++;
-    if (facts.faulted) noteBad("settles", id);
-    if (facts.conflictingProceeds) noteBad("no-conflicting-proceeds", id);
-    if (verdict.overlap) noteBad("one-train-per-section", id);
-    if (verdict.priorityHindered && model.priority >= 0) noteBad("priority-unhindered", id);
+    if (facts.faulted) noteBad("settles", depth, id);
+    if (facts.conflictingProceeds) noteBad("no-conflicting-proceeds", depth, id);
+    if (verdict.overlap) noteBad("one-train-per-section", depth, id);
+    if (verdict.priorityHindered && model.priority >= 0) noteBad("priority-unhindered", depth, id);
   };
 
   const cur = new Uint8Array(width);
@@ -185,79 +231,118 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const begin = startState(model);
   const startEngine = engines.intern(begin.state);
   table.findOrAdd(startEngine, cur);
-  parent.push(-1);
-  moveOf.push(-1);
-  depthOf.push(0);
-  examine(0, startEngine, cur);
+  parent.put(0, -1);
+  moveOf.put(0, -1);
+  depthOf.put(0, 0);
+  buckets[0].push(0);
   // The first settle (or a first points report) can itself drive a counter below zero.
-  if (begin.underflow) noteBad("no-underflow", 0);
+  if (begin.underflow) noteBad("no-underflow", 0, 0);
 
   let currentId = 0;
   let currentEngine = 0;
   let currentDepth = 0;
+  // Local copies: imported bindings are read through getters by some loaders, on the hot path.
+  const FUSED = MOVE_FUSED;
+  const MISROUTED = MOVE_MISROUTED;
+  const UNLOCKED = MOVE_UNLOCKED;
+  const ARRIVAL = MOVE_ARRIVAL;
+  const EDGE_KIND = MOVE_REVEAL | MOVE_CLOSE | (0xff << MOVE_GROUP_SHIFT);
   const visit = (code: number, input: number, flags: number): void => {
     transitions++;
-    if ((flags & MOVE_MISROUTED) !== 0) {
-      noteBad("points-set-for-train", currentId, code);
+    const length = currentDepth + ((flags & FUSED) !== 0 ? 2 : 1);
+    if ((flags & MISROUTED) !== 0) {
+      noteBad("points-set-for-train", length, currentId, code);
       return;
     }
-    if ((flags & MOVE_UNLOCKED) !== 0) noteBad("points-locked", currentId, code);
+    if ((flags & UNLOCKED) !== 0) noteBad("points-locked", length, currentId, code);
     let engine = currentEngine;
     if (input >= 0) {
       engine = engines.after(currentEngine, input);
-      if (engines.underflows(currentEngine, input)) noteBad("no-underflow", currentId, code);
+      if (engines.underflows(currentEngine, input)) noteBad("no-underflow", length, currentId, code);
     }
     const before = table.size;
     const id = table.findOrAdd(engine, nxt);
-    if (table.size > before) {
-      parent.push(currentId);
-      moveOf.push(code);
-      depthOf.push(currentDepth + 1);
-      examine(id, engine, nxt);
+    if (table.size > before || depthOf.data[id] > length) {
+      parent.put(id, currentId);
+      moveOf.put(id, code);
+      depthOf.put(id, length);
+      buckets[length % 3].push(id);
     }
-    if ((flags & MOVE_ARRIVAL) === 0) edgeTo.push(id);
+    if ((flags & ARRIVAL) === 0) {
+      edgeTo.push(id);
+      edgeKind.push(flags & EDGE_KIND);
+    }
   };
 
   let stoppedBy: { cause: StopCause; reason: string } | undefined;
-  for (let id = 0; id < table.size; id++) {
-    if (id % PROGRESS_EVERY_STATES === 0 && id > 0) {
-      options.onProgress?.({ states: table.size, frontier: table.size - id, depth: depthOf.data[id] });
-      if (options.shouldCancel?.()) {
-        stoppedBy = { cause: "cancelled", reason: "cancelled" };
-        break;
+  let expanded = 0;
+  search: for (let depth = 0; ; depth++) {
+    const bucket = buckets[depth % 3];
+    if (bucket.length === 0 && buckets[(depth + 1) % 3].length === 0 && buckets[(depth + 2) % 3].length === 0) break;
+    for (let i = 0; i < bucket.length; i++) {
+      const id = bucket.data[i];
+      // Found again one move shorter after it was queued here: expanded from the shorter bucket.
+      if (depthOf.data[id] !== depth) continue;
+      if (expanded % PROGRESS_EVERY_STATES === 0 && expanded > 0) {
+        options.onProgress?.({ states: table.size, frontier: table.size - expanded, depth });
+        if (options.shouldCancel?.()) {
+          stoppedBy = { cause: "cancelled", reason: "cancelled" };
+          break search;
+        }
+        if (options.maxMs !== undefined && now && elapsed() > options.maxMs) {
+          stoppedBy = { cause: "time", reason: `time limit of ${options.maxMs} ms reached after ${table.size} states` };
+          break search;
+        }
+        if (bytesUsed() > maxBytes) {
+          stoppedBy = { cause: "memory", reason: `memory limit of ${Math.round(maxBytes / 1048576)} MB reached after ${table.size} states` };
+          break search;
+        }
       }
-      if (options.maxMs !== undefined && now && elapsed() > options.maxMs) {
-        stoppedBy = { cause: "time", reason: `time limit of ${options.maxMs} ms reached after ${table.size} states` };
-        break;
+      if (table.size >= maxStates) {
+        stoppedBy = { cause: "states", reason: `state limit of ${maxStates} reached` };
+        break search;
       }
-      if (bytesUsed() > maxBytes) {
-        stoppedBy = { cause: "memory", reason: `memory limit of ${Math.round(maxBytes / 1048576)} MB reached after ${table.size} states` };
-        break;
-      }
+      expanded++;
+      currentId = id;
+      currentDepth = depth;
+      currentEngine = table.engine[id];
+      cur.set(table.trains.subarray(id * width, (id + 1) * width));
+      examine(id, currentEngine, cur, depth);
+      edgeStart.put(id, edgeTo.length);
+      forEachMove(model, pack, codes, engines.facts[currentEngine], cur, nxt, visit, level);
+      edgeEnd.put(id, edgeTo.length);
     }
-    if (table.size >= maxStates) {
-      stoppedBy = { cause: "states", reason: `state limit of ${maxStates} reached` };
-      break;
-    }
-    currentId = id;
-    currentDepth = depthOf.data[id];
-    currentEngine = table.engine[id];
-    cur.set(table.trains.subarray(id * width, (id + 1) * width));
-    edgeStart.push(edgeTo.length);
-    forEachMove(model, pack, codes, engines.facts[currentEngine], cur, nxt, visit);
+    bucket.clear();
   }
 
   const finished = stoppedBy === undefined;
   const nStates = table.size;
-  edgeStart.push(edgeTo.length);
 
-  let stuck: { state: number; group: number } | undefined;
+  let stuck: { state: number; group: number; extra: number[] } | undefined;
   if (finished && stuckCandidates > 0) {
-    stuck = findStuckTrain(model, nStates, (s) => engines.facts[table.engine[s]].proceedMask, waitMaskOf, edgeStart, edgeTo);
+    const hidden: Hidden = {
+      base: level === LAZY_LENGTH ? model.maxAxles : 1,
+      groups: model.groups.length,
+      words: level === LAZY_LENGTH ? Math.ceil(Math.pow(model.maxAxles, model.groups.length) / 32) : 1,
+      openOf: (state, out) => {
+        const OPEN = SLOT_OPEN;
+        const AXLES = SLOT_AXLES;
+        for (const group of model.groups) {
+          out[group.index] = 0;
+          const b = pack.base[group.index];
+          for (let t = 0; t < table.trains[state * width + b]; t++) {
+            const slot = state * width + b + 1 + t * pack.slotWidth;
+            if (table.trains[slot + OPEN] !== 0) out[group.index] = table.trains[slot + AXLES];
+          }
+        }
+      },
+    };
+    const edges = { start: edgeStart.data, end: edgeEnd.data, to: edgeTo.data, kind: edgeKind.data, count: edgeTo.length };
+    stuck = findStuckTrain(model, nStates, (s) => engines.facts[table.engine[s]].proceedMask, waitMaskOf, depthOf, edges, hidden);
   }
 
   /** The moves from the start to `state`, then `lastMove` (if any). */
-  const pathTo = (state: number, lastMove?: number): Move[] => {
+  const pathTo = (state: number, lastMove?: number, extra: number[] = []): Move[] => {
     const chain: number[] = [];
     for (let s = state; s >= 0; s = parent.data[s]) chain.push(s);
     chain.reverse();
@@ -268,10 +353,8 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       if (code === undefined) break;
       steps.push({ facts: engines.facts[table.engine[s]], trains: table.trains.slice(s * width, (s + 1) * width), code });
     }
-    const numbers = new TrainNumbers(model);
-    return steps.map((step) => describeMove(model, pack, codes, step, numbers).move);
+    return decodePath(model, pack, codes, steps, level, (g) => extra[g] ?? 0);
   };
-
   const undecided = { holds: null, detail: "not decided: the search did not finish" } as const;
   const results: PropertyResult[] = properties.map((pid) => {
     if (pid === "no-stuck-train") {
@@ -280,7 +363,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
         return {
           id: pid,
           holds: false,
-          counterexample: pathTo(stuck.state),
+          counterexample: pathTo(stuck.state, undefined, stuck.extra),
           detail: `after these moves a train waits at signal ${group.signal} (route ${model.routes[group.routes[0]].id}) and no movement of the trains already there, nor any quiet trigger or points, can ever make it show a proceed aspect`,
         };
       }

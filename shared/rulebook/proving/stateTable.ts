@@ -14,12 +14,25 @@ export class IntVec {
     return this.data.byteLength;
   }
   push(v: number): void {
-    if (this.length === this.data.length) {
-      const bigger = new Int32Array(this.data.length * 2);
-      bigger.set(this.data);
-      this.data = bigger;
-    }
+    if (this.length === this.data.length) this.reserve(this.length + 1);
     this.data[this.length++] = v;
+  }
+  /** Sets entry i, growing the vector (new entries 0) when i is past its end. */
+  put(i: number, v: number): void {
+    if (i >= this.data.length) this.reserve(i + 1);
+    if (i >= this.length) this.length = i + 1;
+    this.data[i] = v;
+  }
+  /** Clears the vector, keeping its storage. */
+  clear(): void {
+    this.length = 0;
+  }
+  private reserve(n: number): void {
+    let size = this.data.length;
+    while (size < n) size *= 2;
+    const bigger = new Int32Array(size);
+    bigger.set(this.data.subarray(0, this.length));
+    this.data = bigger;
   }
 }
 

@@ -1,7 +1,7 @@
 import { memo, useEffect, useMemo, useRef, useState } from "react";
 import type { LayoutDetector, LayoutSignal } from "../../../shared/layout/schema";
 import type { ShownAspect } from "../../../shared/rulebook/schema";
-import { layoutGeometry, pathBetween, type MimicLayout, type Pt } from "./geometry";
+import { aspectWordDy, labelKey, layoutGeometry, pathBetween, type MimicLayout, type Pt } from "./geometry";
 import { deriveOccupancy, type RouteShape } from "./occupancy";
 
 export type { MimicLayout } from "./geometry";
@@ -178,10 +178,11 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
           const at = geometry.points[p.id];
           if (!at) return null;
           const lies = state.points?.[p.id] ?? "unknown";
+          const label = geometry.labelOffsets[labelKey("points", p.id)] ?? [0, -12];
           return (
             <g key={p.id} transform={`translate(${at[0]} ${at[1]})`} data-points={p.id} data-lies={lies} role="img" aria-label={`Points ${p.id}, ${p.name}: ${lies === "unknown" ? "not reported" : lies}`}>
               <rect x={-5} y={-5} width={10} height={10} transform="rotate(45)" fill={POINTS_FILL[lies]} stroke={INK_FAINT} strokeWidth={1.5} />
-              <text y={-12 * scale} textAnchor="middle" fill={INK_FAINT} fontSize={11 * scale}>
+              <text x={label[0] * scale} y={label[1] * scale} textAnchor="middle" fill={INK_FAINT} fontSize={11 * scale}>
                 {p.id}
                 {lies === "unknown" ? "" : ` ${POINTS_MARK[lies]}`}
               </text>
@@ -192,7 +193,7 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
       <g>
         {layout.detectors.map((d) => {
           const at = geometry.detectors[d.id];
-          return at ? <DetectorMark key={d.id} detector={d} at={at} labelDy={geometry.detectorLabelDy[d.id] ?? 24} pulses={pulses[d.id] ?? 0} lit={lit.has(d.id)} latest={lastPulsed === d.id} scale={scale} /> : null;
+          return at ? <DetectorMark key={d.id} detector={d} at={at} label={geometry.labelOffsets[labelKey("detectors", d.id)] ?? [0, 24]} pulses={pulses[d.id] ?? 0} lit={lit.has(d.id)} latest={lastPulsed === d.id} scale={scale} /> : null;
         })}
       </g>
       {trains?.length ? <TrainMarkers trains={trains} detectors={geometry.detectors} scale={scale} /> : null}
@@ -201,7 +202,7 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
           const at = geometry.signals[s.id];
           const post = geometry.signalTrack[s.id] ?? at;
           return at ? (
-            <SignalMark key={s.id} signal={s} at={at} post={post} aspect={state.shown[s.id] ?? "dark"} held={held.has(s.id)} waiting={waiting.has(s.id)} scale={scale} />
+            <SignalMark key={s.id} signal={s} at={at} post={post} label={geometry.labelOffsets[labelKey("signals", s.id)] ?? [17, 5]} aspect={state.shown[s.id] ?? "dark"} held={held.has(s.id)} waiting={waiting.has(s.id)} scale={scale} />
           ) : null;
         })}
       </g>
@@ -212,14 +213,15 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
 interface DetectorMarkProps {
   detector: LayoutDetector;
   at: Pt;
-  labelDy: number;
+  /** Where the id is written, relative to the detector. */
+  label: Pt;
   pulses: number;
   lit: boolean;
   latest: boolean;
   scale: number;
 }
 
-const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses, lit, latest, scale }: DetectorMarkProps) {
+const DetectorMark = memo(function DetectorMark({ detector, at, label, pulses, lit, latest, scale }: DetectorMarkProps) {
   return (
     <g
       role="img"
@@ -234,7 +236,7 @@ const DetectorMark = memo(function DetectorMark({ detector, at, labelDy, pulses,
       {latest ? <circle r={13 * scale} fill="none" stroke={PULSE} strokeWidth={2.5} /> : null}
       {lit ? <circle r={14 * scale} fill={PULSE} fillOpacity={0.18} stroke={PULSE} strokeWidth={3} /> : null}
       <rect x={-2.5 * scale} y={-9 * scale} width={5 * scale} height={18 * scale} rx={1.5} fill={lit ? PULSE : "#c9d3dd"} stroke="#0b1016" strokeWidth={1} />
-      <text y={labelDy * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
+      <text x={label[0] * scale} y={label[1] * scale} textAnchor="middle" fill={INK} fontSize={12 * scale} fontWeight={700} aria-hidden="true">
         {detector.id}
       </text>
     </g>
@@ -245,16 +247,17 @@ interface SignalMarkProps {
   signal: LayoutSignal;
   at: Pt;
   post: Pt;
+  /** Where the id is written, relative to the lamp. */
+  label: Pt;
   aspect: ShownAspect;
   held: boolean;
   waiting: boolean;
   scale: number;
 }
 
-const SignalMark = memo(function SignalMark({ signal, at, post, aspect, held, waiting, scale }: SignalMarkProps) {
+const SignalMark = memo(function SignalMark({ signal, at, post, label, aspect, held, waiting, scale }: SignalMarkProps) {
   const r = 11 * scale;
-  const below = at[1] >= post[1];
-  const wordY = below ? r + 16 * scale : -r - 8 * scale;
+  const wordY = aspectWordDy(at, post, scale);
   return (
     <g role="img" aria-label={signalLabel(signal, aspect)} data-signal={signal.id} data-aspect={aspect} data-held={held ? "true" : undefined} data-waiting={waiting ? "true" : undefined}>
       <title>{`${signal.name} at ${signal.at} m`}</title>
@@ -263,7 +266,7 @@ const SignalMark = memo(function SignalMark({ signal, at, post, aspect, held, wa
         {aspect !== "dark" ? <circle r={r + 6 * scale} fill={ASPECT_FILL[aspect]} opacity={0.22} /> : null}
         <circle r={r} fill={aspect === "dark" ? "#0b1016" : ASPECT_FILL[aspect]} stroke={aspect === "dark" ? ASPECT_FILL.dark : "#0b1016"} strokeWidth={aspect === "dark" ? 3 : 2} />
         {held ? <circle className="bl-held" r={r + 5 * scale} fill="none" stroke={INK} strokeWidth={2.5} strokeDasharray="4 3" /> : null}
-        <text x={r + 6 * scale} y={5 * scale} fill={INK} fontSize={15 * scale} fontWeight={700} aria-hidden="true">
+        <text x={label[0] * scale} y={label[1] * scale} fill={INK} fontSize={15 * scale} fontWeight={700} aria-hidden="true">
           {signal.id}
         </text>
         <text y={wordY} textAnchor="middle" fill={aspect === "dark" ? INK_FAINT : ASPECT_FILL[aspect]} fontSize={11 * scale} fontWeight={700} letterSpacing={1} aria-hidden="true">

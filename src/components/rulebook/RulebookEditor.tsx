@@ -9,6 +9,7 @@ import { clearDraft, readDraft, writeDraft } from "../../lib/draftStore";
 import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
 import { DraftForm, DraftTabs, type DraftView } from "./form/DraftViews";
+import { provingAxles } from "../../lib/longestTrain";
 
 export function prettyRulebook(rulebook: Rulebook): string {
   return JSON.stringify(rulebook, null, 2) + "\n";
@@ -115,6 +116,7 @@ export function RulebookEditor({ slug, context, selected, onSaved }: RulebookEdi
           <DraftForm
             text={text}
             context={context}
+            defaultAxles={provingAxles(slug)}
             onChange={(next) => {
               setText(prettyRulebook(next));
               setSavedAs(null);

@@ -18,6 +18,42 @@ export function StatusBadge({ status, live }: { status: RulebookStatus; live: bo
   );
 }
 
+type Verdict = RulebookVersionSummary["verdict"];
+
+/**
+ * The last proof's verdict, told apart by shape and word as well as colour: a tick for proved,
+ * a cross on a danger-red fill for refuted, a hollow ring for unfinished, a dash for never.
+ */
+export function VerdictBadge({ verdict, provedAt }: { verdict: Verdict; provedAt?: string | null }) {
+  const when = provedAt ? ` ${formatDateTime(provedAt)}` : "";
+  if (verdict === "proved") {
+    return (
+      <span data-verdict="proved" title={`Proved${when}`} className="inline-flex items-center gap-1 rounded border border-aspect-clear/70 px-1.5 py-0.5 text-xs font-semibold text-aspect-clear">
+        <span aria-hidden="true">✓</span> proved
+      </span>
+    );
+  }
+  if (verdict === "refuted") {
+    return (
+      <span data-verdict="refuted" title={`Refuted${when}: see its counterexample`} className="inline-flex items-center gap-1 rounded bg-aspect-danger px-1.5 py-0.5 text-xs font-bold uppercase text-white">
+        <span aria-hidden="true">✗</span> refuted
+      </span>
+    );
+  }
+  if (verdict === "unfinished") {
+    return (
+      <span data-verdict="unfinished" title={`Stopped at a limit${when}`} className="inline-flex items-center gap-1 rounded border border-dashed border-aspect-caution/70 px-1.5 py-0.5 text-xs text-aspect-caution">
+        <span aria-hidden="true">○</span> unfinished
+      </span>
+    );
+  }
+  return (
+    <span data-verdict="none" className="text-xs text-ink-faint">
+      — not proved
+    </span>
+  );
+}
+
 const col = columnsFor<RulebookVersionSummary>();
 
 interface VersionTableProps {
@@ -49,6 +85,7 @@ export function VersionTable({ versions, onSelect, selected }: VersionTableProps
             ),
         }),
         col.accessor("status", { header: "Status", cell: (info) => <StatusBadge status={info.getValue()} live={info.row.original.live} /> }),
+        col.accessor("verdict", { header: "Last proof", cell: (info) => <VerdictBadge verdict={info.getValue() ?? null} provedAt={info.row.original.provedAt} /> }),
         col.accessor("author", { header: "Author", cell: (info) => info.getValue() ?? "—" }),
         col.accessor("createdAt", { header: "Saved", cell: (info) => formatDateTime(info.getValue()) }),
         col.accessor("note", { header: "Note", cell: (info) => info.getValue() ?? "" }),

@@ -42,6 +42,9 @@ export function AppShell() {
                 <NavLink to={`/layouts/${slug}`} end className={linkClass}>
                   Overview
                 </NavLink>
+                <NavLink to={`/layouts/${slug}/edit`} className={linkClass}>
+                  Workbench
+                </NavLink>
                 <NavLink to={`/layouts/${slug}/rulebook`} className={linkClass}>
                   {can.editRulebook(user.role) ? "Rulebook editor" : "Rulebook"}
                 </NavLink>

@@ -73,10 +73,11 @@ interface DraftFormProps {
   text: string;
   context: RulebookContext;
   onChange: (next: Rulebook) => void;
+  defaultAxles?: number;
 }
 
 /** The form view of the draft text; text that is not yet a rulebook is left to the JSON tab. */
-export function DraftForm({ text, context, onChange }: DraftFormProps) {
+export function DraftForm({ text, context, onChange, defaultAxles }: DraftFormProps) {
   const rulebook = useMemo(() => {
     try {
       return asFormRulebook(JSON.parse(text));
@@ -92,5 +93,5 @@ export function DraftForm({ text, context, onChange }: DraftFormProps) {
       </p>
     );
   }
-  return <RuleFormEditor value={rulebook} context={context} onChange={onChange} />;
+  return <RuleFormEditor value={rulebook} context={context} onChange={onChange} defaultAxles={defaultAxles} />;
 }

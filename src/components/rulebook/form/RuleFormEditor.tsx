@@ -7,6 +7,7 @@ import { Button } from "../../ui/Button";
 import { ErrorList } from "../../ui/ErrorList";
 import { DeclarationTables } from "./DeclarationTables";
 import { FieldErrors, errorsUnder } from "./fields";
+import { ProvingEditor } from "./ProvingEditor";
 import { RuleEditor } from "./RuleEditor";
 
 interface RuleFormEditorProps {
@@ -14,6 +15,8 @@ interface RuleFormEditorProps {
   value: Rulebook;
   context: RulebookContext;
   onChange: (next: Rulebook) => void;
+  /** Train length (axles) for a new proving section; from the placement page's longest train. */
+  defaultAxles?: number;
 }
 
 function triggerSummary(trigger: unknown): string {
@@ -36,7 +39,7 @@ function sentence(rule: Rule): string {
 }
 
 const RULE_FIELDS = ["id", "note", "on", "if", "do"];
-const PLACED = /^\$\.(rules\[\d+\]|(latches|counters|selectors|initial)[.[])/;
+const PLACED = /^\$\.(rules\[\d+\]|(latches|counters|selectors|initial)[.[]|proving)/;
 
 /** The declared names the selects offer. */
 function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
@@ -55,7 +58,7 @@ function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
  * openable into its own editor. Selects offer only declared names; the whole draft is still
  * validated after every edit and each problem is shown beside the rule or field it is about.
  */
-export function RuleFormEditor({ value, context, onChange }: RuleFormEditorProps) {
+export function RuleFormEditor({ value, context, onChange, defaultAxles = 2 }: RuleFormEditorProps) {
   const [open, setOpen] = useState<number | null>(null);
   const errors: ValidationError[] = useMemo(() => {
     const result = validateRulebookFile(value, context);
@@ -162,7 +165,7 @@ export function RuleFormEditor({ value, context, onChange }: RuleFormEditorProps
         <Button onClick={addRule}>Add rule</Button>
       </section>
 
-      {value.proving !== undefined ? <p className="text-sm text-ink-faint">The proving section (routes, conflicts, priority) is kept as it is; change it in the JSON tab.</p> : null}
+      <ProvingEditor rulebook={value} context={context} errors={errors} defaultAxles={defaultAxles} onChange={onChange} />
       <ErrorList errors={unplaced} title="Other problems in the draft" />
     </div>
   );
