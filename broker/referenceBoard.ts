@@ -24,7 +24,8 @@ import type { Aspect } from "../shared/rulebook/schema";
 
 export const LINK_DOWN_DANGER_MS = 2_000;
 export const HEARTBEAT_LOST_MS = 3_000;
-export const BOARD_KEEPALIVE_S = 5;
+/** The contract allows at most 10 s; the most it allows rides out a busy machine best. */
+export const BOARD_KEEPALIVE_S = 10;
 /** How long a reference board's points motor takes, by default. */
 export const POINTS_MOVE_MS = 600;
 const RECONNECT_MS = 500;

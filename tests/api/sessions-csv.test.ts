@@ -88,7 +88,7 @@ describe("sessions: the event log's flat CSV, exported and imported", () => {
     expect((await engineer.post("/api/layouts/import").send(sidingLayout())).status).toBe(201);
     await waitFor(() => h.runtime.runner(SLUG) !== undefined, "the siding's runner");
     const node = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] });
-    board = await connectBoard(h.mqttUrl, SLUG, "siding-board", node.body.secret, { subscribe: true });
+    board = await connectBoard(h.mqttUrl, SLUG, "siding-board", node.body.secret);
     const signaller = await t.signIn("signaller");
     const command = async (body: object) => expect((await signaller.post(`/api/layouts/${SLUG}/commands`).send(body)).status).toBe(200);
 

@@ -194,12 +194,11 @@ describe("live pipeline", () => {
       live = await request(t.app).get(`/api/layouts/${SLUG}/live`).set("Cookie", signallerCookie);
       return live.body.nodes.junction.online === true;
     }, "junction online");
-    (board.client as unknown as { stream: { destroy(): void } }).stream.destroy(); // dies without DISCONNECT
+    board.board.kill(); // power lost: the connection dies without DISCONNECT, and the board stays off
     await waitFor(async () => {
       live = await request(t.app).get(`/api/layouts/${SLUG}/live`).set("Cookie", signallerCookie);
       return live.body.nodes.junction.online === false;
     }, "junction offline via its Last Will");
-    board.client.end(true);
   });
 
   it("a lamp-proving report that differs from the command raises an alarm", async () => {

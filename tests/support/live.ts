@@ -6,7 +6,7 @@
 import http from "node:http";
 import type { AddressInfo } from "node:net";
 import { randomBytes } from "node:crypto";
-import type { MqttClient } from "mqtt";
+import mqtt, { type MqttClient } from "mqtt";
 import type pg from "pg";
 import { io as ioClient, type Socket } from "socket.io-client";
 import { databaseAuthenticator } from "../../broker/auth";
@@ -120,6 +120,7 @@ export async function connectBoard(
 ): Promise<Board> {
   const { boot, signals, drives, pointsMoveMs, pointsStuck } = options;
   const board = new ReferenceBoard({ url: mqttUrl, layout, node, secret, boot, signals, drives, pointsMoveMs, pointsStuck, announce: options.announce ?? false });
+  await forgetSession(mqttUrl, board.clientId, node, secret);
   await board.start();
   return {
     board,
@@ -144,6 +145,16 @@ export async function connectBoard(
     publish: (topic, payload) => board.publishRaw(topic, payload),
     end: () => board.end(),
   };
+}
+
+/**
+ * A test board is a board fresh from the box: the persistent session an earlier test's board
+ * of the same node left at the broker (with the commands queued for it since) is discarded
+ * first, by one clean-session connect.
+ */
+async function forgetSession(url: string, clientId: string, node: string, secret: string): Promise<void> {
+  const client = await mqtt.connectAsync(url, { protocolVersion: 4, clientId, username: node, password: secret, clean: true, reconnectPeriod: 0 }).catch(() => null);
+  await client?.endAsync();
 }
 
 /** A browser: a socket.io client with the session cookie of a signed-in agent (or none). */
