@@ -2,8 +2,8 @@
  * The embedded MQTT broker (aedes 1.x, MQTT 3.1.1) with board authentication and the
  * access rules of CONTRACT.md §2:
  * - a board (username = node id, password = its issued secret) may publish only under
- *   `blocklight/v1/{its layout}/node/{its id}/` and subscribe only within
- *   `blocklight/v1/{its layout}/signal/#`;
+ *   `blocklight/v1/{its layout}/node/{its id}/` (not to `…/applied`) and subscribe only within
+ *   its layout's `signal/#`, `points/#`, `server/status` and its own `node/{its id}/applied`;
  * - the server's own client may do anything.
  * A refused publish disconnects the board (aedes does that on an authorizePublish error);
  * a refused subscription gets a failure return code in SUBACK. Every refusal is reported to
@@ -40,6 +40,14 @@ export interface RunningBroker {
   broker: Aedes;
   close(): Promise<void>;
 }
+
+/** What a board may subscribe to (CONTRACT.md §2). */
+const boardFilters = (identity: { layout: string; node: string }) => [
+  topics.signalFilter(identity.layout),
+  topics.pointsFilter(identity.layout),
+  topics.serverStatus(identity.layout),
+  topics.applied(identity.layout, identity.node),
+];
 
 /** aedes' CONNACK return code 4: bad user name or password (MQTT 3.1.1 §3.2.2.3). */
 const BAD_USERNAME_OR_PASSWORD = 4;
@@ -79,7 +87,9 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
       if (identity?.kind === "server") return callback(null);
       if (identity?.kind === "node") {
         const prefix = topics.nodePrefix(identity.layout, identity.node);
-        if (packet.topic.startsWith(prefix) && packet.topic.length > prefix.length) return callback(null);
+        if (packet.topic.startsWith(prefix) && packet.topic.length > prefix.length && packet.topic !== topics.applied(identity.layout, identity.node)) {
+          return callback(null);
+        }
       }
       const reason = `may publish only under ${identity?.kind === "node" ? topics.nodePrefix(identity.layout, identity.node) : "nothing"}`;
       refuse({ what: "publish", clientId: client.id, username: usernames.get(client) ?? null, topic: packet.topic, reason });
@@ -88,7 +98,7 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
     authorizeSubscribe(client, subscription, callback) {
       const identity = identities.get(client);
       if (identity?.kind === "server") return callback(null, subscription);
-      if (identity?.kind === "node" && filterWithin(subscription.topic, topics.signalFilter(identity.layout))) {
+      if (identity?.kind === "node" && boardFilters(identity).some((allowed) => filterWithin(subscription.topic, allowed))) {
         return callback(null, subscription);
       }
       refuse({
@@ -96,7 +106,7 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
         clientId: client.id,
         username: usernames.get(client) ?? null,
         topic: subscription.topic,
-        reason: `may subscribe only within ${identity?.kind === "node" ? topics.signalFilter(identity.layout) : "nothing"}`,
+        reason: `may subscribe only within ${identity?.kind === "node" ? boardFilters(identity).join(", ") : "nothing"}`,
       });
       callback(null, null); // SUBACK failure code, the connection stays
     },

@@ -20,6 +20,7 @@ import { startAlarmMail } from "./features/mail/alarmMail";
 import { startMailer } from "./features/mail/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
+import { runtimeDeps } from "./runtimeDeps";
 import { stopWhenLauncherGoes } from "./parentWatch";
 import { loadOrCreateSecret } from "./secrets";
 
@@ -76,7 +77,8 @@ async function main(): Promise<void> {
   // The broker runs in its own process (started by the launcher) unless MQTT_URL names another.
   const mqttUrl = config.mqttUrl ?? `mqtt://127.0.0.1:${config.mqttPort}`;
   const live = await startLiveRuntime({
-    deps,
+    deps: runtimeDeps(deps),
+    db,
     mqtt: { url: mqttUrl, username: config.serverMqttUsername, password: config.serverMqttPassword },
   });
   deps.live = live;

@@ -7,6 +7,7 @@ import { Umzug, SequelizeStorage } from "umzug";
 import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
 import * as importedSessions from "./migrations/003-imported-sessions";
+import * as sequencing from "./migrations/004-sequencing";
 import * as groupedAlarms from "./migrations/009-grouped-alarms";
 import { defineModels, type Models } from "./models";
 
@@ -20,6 +21,7 @@ const MIGRATIONS = [
   { name: "001-initial", ...initial },
   { name: "002-live", ...live },
   { name: "003-imported-sessions", ...importedSessions },
+  { name: "004-sequencing", ...sequencing },
   { name: "009-grouped-alarms", ...groupedAlarms },
 ];
 

@@ -1,15 +1,19 @@
 /**
- * MQTT message → a validated pulse, status or lamp-proving report, or a rejection with a
- * reason (CONTRACT.md §2). Pure apart from the node directory it is handed.
+ * MQTT message → a validated pulse, points report, status or lamp-proving report, or a
+ * rejection with a reason (CONTRACT.md §2). Pure apart from the node directory it is handed.
+ * Everything that passes is safe to store: valid UTF-8, no NUL or control characters in
+ * text, numbers within bounds (the schemas in shared/contract/live.ts say which).
  */
 import { z } from "zod";
 import {
   MAX_PAYLOAD_BYTES,
   TOPIC_ROOT,
+  pointsPayloadSchema,
   pulsePayloadSchema,
   shownPayloadSchema,
   statusPayloadSchema,
   type EventKind,
+  type PointsPayload,
   type PulsePayload,
   type ShownPayload,
   type StatusPayload,
@@ -20,10 +24,13 @@ import { ID_PATTERN } from "../../shared/rulebook/schema";
 export interface NodeEntry {
   detectors: ReadonlySet<string>;
   signals: ReadonlySet<string>;
+  /** Absent while the layout records no points for this node: reports for any points are taken. */
+  points?: ReadonlySet<string>;
 }
 
 export type IngestAccepted =
   | { ok: true; slug: string; node: string; kind: "pulse"; payload: PulsePayload }
+  | { ok: true; slug: string; node: string; kind: "points"; payload: PointsPayload }
   | { ok: true; slug: string; node: string; kind: "status"; payload: StatusPayload }
   | { ok: true; slug: string; node: string; kind: "shown"; payload: ShownPayload };
 
@@ -42,7 +49,8 @@ export interface IngestRejected {
 
 export type IngestResult = IngestAccepted | IngestRejected;
 
-const SUFFIXES = { pulse: pulsePayloadSchema, status: statusPayloadSchema, shown: shownPayloadSchema } as const;
+const SUFFIXES = { pulse: pulsePayloadSchema, points: pointsPayloadSchema, status: statusPayloadSchema, shown: shownPayloadSchema } as const;
+const utf8 = new TextDecoder("utf-8", { fatal: true });
 type Suffix = keyof typeof SUFFIXES;
 
 /** Splits `blocklight/v1/{layout}/node/{node}/{kind}`; null when the topic has another shape. */
@@ -78,11 +86,11 @@ export function ingestMessage(
     const levels = topic.split("/");
     const slug = levels[0] === "blocklight" && levels[1] === "v1" && levels[2] ? levels[2] : null;
     const node = levels[3] === "node" && levels[4] ? levels[4] : null;
-    return { ok: false, slug, node, kind: "message", reason: `wrong topic shape: expected ${TOPIC_ROOT}/{layout}/node/{node}/pulse|status|shown` };
+    return { ok: false, slug, node, kind: "message", reason: `wrong topic shape: expected ${TOPIC_ROOT}/{layout}/node/{node}/pulse|points|status|shown` };
   }
   const { slug, node, suffix } = parsed;
   if (!(suffix in SUFFIXES)) {
-    return { ok: false, slug, node, kind: "message", reason: `wrong topic shape: unknown message kind "${suffix}" (pulse, status or shown)` };
+    return { ok: false, slug, node, kind: "message", reason: `wrong topic shape: unknown message kind "${suffix.slice(0, 40)}" (pulse, points, status or shown)` };
   }
   const kind = suffix as Suffix;
   const reject = (reason: string, extra: Partial<IngestRejected> = {}): IngestRejected => ({ ok: false, slug, node, kind, reason, ...extra });
@@ -90,9 +98,10 @@ export function ingestMessage(
   if (payload.byteLength > MAX_PAYLOAD_BYTES) return reject(`payload over ${MAX_PAYLOAD_BYTES} bytes (${payload.byteLength})`);
   let json: unknown;
   try {
-    json = JSON.parse(Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString("utf8"));
+    json = JSON.parse(utf8.decode(payload));
   } catch (err) {
-    return reject(`malformed JSON: ${(err as Error).message}`);
+    if (err instanceof TypeError) return reject("payload is not valid UTF-8");
+    return reject(`malformed JSON: ${(err as Error).message.slice(0, 200)}`);
   }
   const nodes = nodesOf(slug);
   if (!nodes) return reject(`unknown layout "${slug}" (or it has no live rulebook)`);
@@ -106,6 +115,15 @@ export function ingestMessage(
       const seen = { detector: p.detector, boot: p.boot, seq: p.seq };
       if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`, seen);
       if (!entry.detectors.has(p.detector)) return reject(`detector "${p.detector}" is not served by node "${node}"`, seen);
+      return { ok: true, slug, node, kind, payload: p };
+    }
+    case "points": {
+      const result = pointsPayloadSchema.safeParse(json);
+      if (!result.success) return reject(`invalid points report: ${describeIssues(result.error)}`);
+      const p = result.data;
+      const seen = { boot: p.boot, seq: p.seq };
+      if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`, seen);
+      if (entry.points && !entry.points.has(p.points)) return reject(`points "${p.points}" are not reported by node "${node}"`, seen);
       return { ok: true, slug, node, kind, payload: p };
     }
     case "status": {

@@ -1,31 +1,29 @@
 /**
- * The live pipeline of the whole server: one MQTT connection to the broker, one runner per
- * layout with a live rulebook, and the bus listeners that switch rulebooks and reload nodes.
- *
- * The server's MQTT session is persistent (clean session off, a fixed client id), so QoS 1
- * pulses sent while the server is down or restarting wait in the broker and arrive when it
- * reconnects; anything not acknowledged (not committed) is redelivered.
+ * The live pipeline of the whole server: for every layout with a live rulebook, one runner
+ * and its own MQTT client (`blocklight-server.{layout}`, layoutLink.ts), and the bus
+ * listeners that switch rulebooks and reload nodes.
  */
-import mqtt, { type MqttClient } from "mqtt";
 import pg from "pg";
-import { TOPIC_ROOT, type CommandBody, type LiveState } from "../../shared/contract/live";
+import type { CommandBody, LiveState } from "../../shared/contract/live";
 import { signalIds } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
-import type { AppDeps } from "../deps";
-import { HttpError, notFound } from "../http/errors";
+import type { Database } from "../db/database";
 import { ingestMessage } from "./ingest";
-import { deferAcks } from "./mqttAck";
-import { mqttAspectPublisher } from "./publisher";
-import { DEFAULT_RUNNER_OPTIONS, LayoutRunner, type CommandUser, type RunnerOptions } from "./runner";
+import { connectLayoutLink } from "./layoutLink";
+import { LiveError, type RuntimeDeps } from "./ports";
+import { DEFAULT_RUNNER_OPTIONS, LayoutRunner, type CommandUser, type LayoutHealth, type RunnerOptions } from "./runner";
 
-/** Every board message of every layout. */
-export const SERVER_SUBSCRIPTION = `${TOPIC_ROOT}/+/node/#`;
-const RECONNECT_PERIOD_MS = 1_000;
+/** A statement the database has not finished in this long is cancelled by the server. */
+export const STATEMENT_TIMEOUT_MS = 4_000;
+/** A query with no reply in this long fails on our side (a frozen server never cancels anything). */
+export const QUERY_TIMEOUT_MS = 6_000;
+const CONNECT_TIMEOUT_MS = 3_000;
 
 export interface LiveRuntimeOptions {
-  deps: AppDeps;
-  mqtt: { url: string; username: string; password: string; clientId?: string };
-  /** The runtime's own connections; made from the app's database settings when absent. */
+  deps: RuntimeDeps;
+  /** The app's database, to make the runtime's own pool from (unless `pool` is given). */
+  db: Database;
+  mqtt: { url: string; username: string; password: string };
   pool?: pg.Pool;
   runner?: Partial<RunnerOptions>;
 }
@@ -35,6 +33,8 @@ export interface LiveRuntime {
   /** Board messages received but not yet acknowledged to the broker (not yet committed). */
   pendingAcks(): number;
   runner(slug: string): LayoutRunner | undefined;
+  /** Each running layout: live, fail-safe (signals at danger) or stalled. */
+  health(): Record<string, LayoutHealth>;
   liveState(slug: string): Promise<LiveState>;
   command(slug: string, body: CommandBody, user: CommandUser): Promise<LiveState>;
   session(slug: string, action: "open" | "close", user: CommandUser): Promise<LiveState>;
@@ -46,82 +46,66 @@ export interface LiveRuntime {
   crash(): Promise<void>;
 }
 
-/** A pg pool on the same database as the app's Sequelize instance. */
-export function poolFromDeps(deps: AppDeps, max = 4): pg.Pool {
+/**
+ * A pg pool on the same database as the app's Sequelize instance, with timeouts on both
+ * sides so no query can hang the live pipeline (the watchdog covers the time until they fire).
+ */
+export function poolFromDeps(deps: { db: Database }, max = 4): pg.Pool {
   const c = deps.db.sequelize.config;
-  return new pg.Pool({ host: c.host, port: Number(c.port), database: c.database, user: c.username, password: c.password ?? undefined, max });
+  return new pg.Pool({
+    host: c.host,
+    port: Number(c.port),
+    database: c.database,
+    user: c.username,
+    password: c.password ?? undefined,
+    max,
+    statement_timeout: STATEMENT_TIMEOUT_MS,
+    query_timeout: QUERY_TIMEOUT_MS,
+    idle_in_transaction_session_timeout: QUERY_TIMEOUT_MS,
+    connectionTimeoutMillis: CONNECT_TIMEOUT_MS,
+  });
 }
 
 export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<LiveRuntime> {
   const { deps } = options;
   const ownPool = !options.pool;
-  const pool = options.pool ?? poolFromDeps(deps);
+  const pool = options.pool ?? poolFromDeps(options);
   // A connection the server ended (e.g. during an outage) must not crash the process.
   pool.on("error", (err) => deps.logger.warn({ err }, "live pipeline database connection lost"));
   const runnerOptions: RunnerOptions = { ...DEFAULT_RUNNER_OPTIONS, ...options.runner };
   const runners = new Map<string, LayoutRunner>();
   const byId = new Map<number, LayoutRunner>();
 
-  const client: MqttClient = mqtt.connect(options.mqtt.url, {
-    protocolVersion: 4,
-    clientId: options.mqtt.clientId ?? "blocklight-server",
-    clean: false,
-    username: options.mqtt.username,
-    password: options.mqtt.password,
-    reconnectPeriod: RECONNECT_PERIOD_MS,
-    manualConnect: true,
-  });
-  const acks = deferAcks(client);
-  const publisher = mqttAspectPublisher(client, (err) => deps.logger.warn({ err }, "aspect publish failed"));
-
   const startRunner = async (layout: { id: number; slug: string }) => {
-    const runner = new LayoutRunner(deps, pool, publisher, layout, runnerOptions);
-    await runner.start();
+    const runner = new LayoutRunner(deps, pool, layout, runnerOptions);
+    // Messages that arrive before recovery has finished wait here, in order.
+    let ready = false;
+    const early: (() => void)[] = [];
+    const link = connectLayoutLink({
+      ...options.mqtt,
+      slug: layout.slug,
+      logger: deps.logger,
+      now: runnerOptions.now,
+      onMessage(packet, payload, ack, receivedAt) {
+        const deliver = () => {
+          const result = ingestMessage(packet.topic, payload, (slug) => (slug === layout.slug ? runner.nodeDirectory() : undefined));
+          runner.message({ topic: packet.topic, payload, retain: packet.retain, receivedAt, result, ack });
+        };
+        if (ready) deliver();
+        else early.push(deliver);
+      },
+      onConnect: () => runner.onConnect(),
+    });
+    await runner.start(link);
+    ready = true;
+    for (const deliver of early.splice(0)) deliver();
     runners.set(layout.slug, runner);
     byId.set(layout.id, runner);
     return runner;
   };
 
-  // Messages that arrive before the runners are ready wait here, in order.
-  let ready = false;
-  const early: { packet: Parameters<MqttClient["handleMessage"]>[0]; ack: () => void; at: number }[] = [];
-  const route = (packet: Parameters<MqttClient["handleMessage"]>[0], ack: () => void, receivedAt: number) => {
-    const payload = Buffer.isBuffer(packet.payload) ? packet.payload : Buffer.from(packet.payload);
-    const result = ingestMessage(packet.topic, payload, (slug) => runners.get(slug)?.nodeDirectory());
-    const runner = result.slug ? runners.get(result.slug) : undefined;
-    if (!runner) {
-      deps.logger.warn({ topic: packet.topic, reason: result.ok ? "no runner" : result.reason }, "MQTT message for no live layout: logged only");
-      ack();
-      return;
-    }
-    runner.message({ topic: packet.topic, payload, retain: packet.retain, receivedAt, result, ack });
-  };
-  client.handleMessage = (packet, callback) => {
-    const ack = acks.hold(packet);
-    const receivedAt = Date.now();
-    if (ready) route(packet, ack, receivedAt);
-    else early.push({ packet, ack, at: receivedAt });
-    callback();
-  };
-
-  let everConnected = false;
-  client.on("connect", () => {
-    // See broker/server.ts: without this each small packet can wait ~40 ms for a delayed ACK.
-    (client.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
-    client.subscribe(SERVER_SUBSCRIPTION, { qos: 1 }, (err) => {
-      if (err) deps.logger.error({ err }, "could not subscribe to board messages");
-    });
-    if (everConnected) for (const runner of runners.values()) runner.republish();
-    everConnected = true;
-    deps.logger.info({ url: options.mqtt.url }, "live pipeline connected to the MQTT broker");
-  });
-  client.on("error", (err) => deps.logger.warn({ err: err.message }, "MQTT client error"));
-
   const { rows } = await pool.query<{ id: number; slug: string }>(`SELECT id, slug FROM layouts WHERE live_version IS NOT NULL ORDER BY id`);
-  client.connect();
   for (const layout of rows) await startRunner(layout);
-  ready = true;
-  for (const m of early.splice(0)) route(m.packet, m.ack, m.at);
 
   const onPublished = ({ layoutId, slug, version }: { layoutId: number; slug: string; version: number }) => {
     void (async () => {
@@ -141,24 +125,26 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
       }
     })();
   };
-  const onNodes = ({ layoutId }: { layoutId: number }) => void byId.get(layoutId)?.loadNodes().catch((err) => deps.logger.error({ err }, "could not reload nodes"));
+  const onNodes = ({ layoutId }: { layoutId: number }) => void byId.get(layoutId)?.reloadNodes().catch((err) => deps.logger.error({ err }, "could not reload nodes"));
   deps.bus.on("rulebook.published", onPublished);
   deps.bus.on("layout.nodes-changed", onNodes);
 
   const need = (slug: string) => {
     const runner = runners.get(slug);
-    if (!runner) throw notFound(`live layout "${slug}"`);
+    if (!runner) throw new LiveError(404, "not_found", `live layout "${slug}" not found`);
     return runner;
   };
   const detach = () => {
     deps.bus.off("rulebook.published", onPublished);
     deps.bus.off("layout.nodes-changed", onNodes);
   };
+  const links = () => [...runners.values()];
 
   return {
-    connected: () => client.connected,
-    pendingAcks: () => acks.pending(),
+    connected: () => links().every((r) => r.linkConnected()),
+    pendingAcks: () => links().reduce((n, r) => n + r.pendingAcks(), 0),
     runner: (slug) => runners.get(slug),
+    health: () => Object.fromEntries([...runners].map(([slug, r]) => [slug, r.health()])),
     liveState: (slug) => need(slug).liveState(),
     async command(slug, body, user) {
       const runner = need(slug);
@@ -170,11 +156,11 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
             : "counter" in body && !(body.counter in runner.rulebook.counters)
               ? { path: "$.counter", message: `the live rulebook has no counter "${body.counter}"` }
               : null;
-      if (unknown) throw new HttpError(400, "invalid_input", "the command names something the live rulebook does not have", [unknown]);
+      if (unknown) throw new LiveError(400, "invalid_input", "the command names something the live rulebook does not have", [unknown]);
       try {
         await runner.command(body, user);
       } catch (err) {
-        throw new HttpError(409, "conflict", (err as Error).message);
+        throw new LiveError(409, "conflict", (err as Error).message);
       }
       return runner.liveState();
     },
@@ -184,21 +170,16 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
       return runner.liveState();
     },
     async idle() {
-      await Promise.all([...runners.values()].map((r) => r.idle()));
+      await Promise.all(links().map((r) => r.idle()));
     },
     async stop() {
       detach();
-      for (const runner of runners.values()) await runner.stop();
-      await new Promise<void>((resolve) => client.end(false, {}, () => resolve()));
+      for (const runner of links()) await runner.stop();
       if (ownPool) await pool.end();
     },
     async crash() {
       detach();
-      for (const runner of runners.values()) runner.abandon();
-      // No DISCONNECT, no flush: the broker sees the connection drop, as if the process died.
-      client.options.reconnectPeriod = 0;
-      (client as unknown as { stream?: { destroy(): void } }).stream?.destroy();
-      client.end(true);
+      for (const runner of links()) runner.abandon();
       if (ownPool) await pool.end().catch(() => {});
     },
   };

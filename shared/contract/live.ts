@@ -13,8 +13,36 @@ export const TOPIC_ROOT = "blocklight/v1";
 /** Payloads larger than this are rejected unread. */
 export const MAX_PAYLOAD_BYTES = 1024;
 
+/**
+ * Highest `seq` a board may send. A boot at 800 pulses/s takes over 80 days to reach it; a
+ * bound keeps one absurd number (2^53) from blocking the rest of a boot.
+ */
+export const MAX_SEQ = 2 ** 31 - 1;
+/** A message more than this far ahead of the next expected seq of its boot is refused, not waited for. */
+export const MAX_SEQ_AHEAD = 100_000;
+
+/**
+ * Text a board sends that ends up in the event log: printable, no NUL or other control
+ * characters (PostgreSQL text cannot hold NUL; control characters only hide things in the log).
+ */
+const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+const boardText = (max: number) =>
+  z
+    .string()
+    .min(1)
+    .max(max)
+    .regex(/^[^\u0000-\u001f\u007f]+$/, "must be printable text (no NUL or control characters)")
+    .refine((text) => !LONE_SURROGATE.test(text), "must be well-formed Unicode (no lone surrogates)");
+
 export const topics = {
   pulse: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/pulse`,
+  points: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/points`,
+  applied: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/applied`,
+  serverStatus: (layout: string) => `${TOPIC_ROOT}/${layout}/server/status`,
+  pointsSet: (layout: string, points: string) => `${TOPIC_ROOT}/${layout}/points/${points}/set`,
+  /** Every board message of one layout (the server's subscription). */
+  nodeFilter: (layout: string) => `${TOPIC_ROOT}/${layout}/node/#`,
+  pointsFilter: (layout: string) => `${TOPIC_ROOT}/${layout}/points/#`,
   status: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/status`,
   shown: (layout: string, node: string) => `${TOPIC_ROOT}/${layout}/node/${node}/shown`,
   aspect: (layout: string, signal: string) => `${TOPIC_ROOT}/${layout}/signal/${signal}/aspect`,
@@ -24,18 +52,31 @@ export const topics = {
   signalFilter: (layout: string) => `${TOPIC_ROOT}/${layout}/signal/#`,
 } as const;
 
-export const bootSchema = z.string().min(1).max(64);
+export const bootSchema = boardText(64);
+export const seqSchema = z.number().int().min(1).max(MAX_SEQ);
 export const pulsePayloadSchema = z.strictObject({
   detector: idSchema,
-  seq: z.number().int().min(1),
+  seq: seqSchema,
   boot: bootSchema,
-  t: z.number().int().min(0).optional(),
+  t: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER).optional(),
+});
+export const POINTS_LIE = ["normal", "reverse", "moving"] as const;
+export const pointsPayloadSchema = z.strictObject({
+  points: idSchema,
+  lies: z.enum(POINTS_LIE),
+  seq: seqSchema,
+  boot: bootSchema,
+  t: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER).optional(),
 });
 export const statusPayloadSchema = z.strictObject({
   online: z.boolean(),
   boot: bootSchema.optional(),
-  fw: z.string().max(40).optional(),
+  fw: boardText(40).optional(),
 });
+/** Server → one board: every pulse and points report of `boot` up to `seq` is committed. */
+export const appliedPayloadSchema = z.strictObject({ boot: bootSchema, seq: z.number().int().min(0).max(MAX_SEQ) });
+/** Server → boards: the server of this layout is up (heartbeat every second) or gone (Last Will). */
+export const serverStatusPayloadSchema = z.strictObject({ online: z.boolean(), at: z.string().optional() });
 export const shownPayloadSchema = z.strictObject({
   signal: idSchema,
   aspect: z.union([aspectSchema, z.literal("dark")]),
@@ -52,17 +93,28 @@ export interface MqttTopicPayloads {
   status: z.infer<typeof statusPayloadSchema>;
   shown: z.infer<typeof shownPayloadSchema>;
   aspect: z.infer<typeof aspectPayloadSchema>;
+  points: z.infer<typeof pointsPayloadSchema>;
+  applied: z.infer<typeof appliedPayloadSchema>;
+  serverStatus: z.infer<typeof serverStatusPayloadSchema>;
 }
 export type PulsePayload = MqttTopicPayloads["pulse"];
 export type StatusPayload = MqttTopicPayloads["status"];
 export type ShownPayload = MqttTopicPayloads["shown"];
 export type AspectPayload = MqttTopicPayloads["aspect"];
+export type PointsPayload = MqttTopicPayloads["points"];
+export type AppliedPayload = MqttTopicPayloads["applied"];
+export type ServerStatusPayload = MqttTopicPayloads["serverStatus"];
 
 // ───────────────────────────── live state (REST + socket) ─────────────────────────────
 
-export type EventStatus = "accepted" | "duplicate" | "rejected";
+/**
+ * `late`: a message for a seq its boot had already declared missed (stored, not applied).
+ */
+export const EVENT_STATUSES = ["accepted", "duplicate", "late", "rejected"] as const;
+export type EventStatus = (typeof EVENT_STATUSES)[number];
 /** `message`: a message on a topic that is none of the others (always rejected, kept for the log). */
-export type EventKind = "pulse" | "tick" | "status" | "shown" | "command" | "message";
+export const EVENT_KINDS = ["pulse", "points", "tick", "status", "shown", "command", "message"] as const;
+export type EventKind = (typeof EVENT_KINDS)[number];
 
 /** One row of a session's event log, as the client and the exports see it. */
 export interface LiveEventDto {
@@ -147,6 +199,13 @@ export interface LiveState {
   faulted: null | { reason: string; at: string };
   alarms: AlarmDto[];
   nodes: Record<string, NodeLiveDto>;
+  /**
+   * What each board last reported it shows (lamp proving): signal → aspect (or `dark`), the
+   * command rev it answers, when. A board in fail-safe reports danger here before the server knows why.
+   */
+  lamps?: Record<string, { aspect: string; rev: number; at: string }>;
+  /** Set when this state was read from memory while the database was unreachable: it may lag behind. */
+  stale?: boolean;
   /** When each latch/counter/selector/signal last changed: key `latch:NAME`, `counter:NAME`, `selector:NAME`, `signal:ID`. */
   since: Record<string, string>;
 }

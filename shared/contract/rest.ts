@@ -37,6 +37,11 @@ export interface HealthResponse {
   ok: boolean;
   db: "up" | "down";
   broker: "up" | "down";
+  /**
+   * Each running layout: `live`, `fail-safe` (every signal at danger: the database cannot
+   * commit, or the rulebook faulted) or `stalled` (its link or its commits are stuck).
+   */
+  layouts?: Record<string, "live" | "fail-safe" | "stalled">;
 }
 
 export const RULEBOOK_STATUSES = ["draft", "proved", "published"] as const;

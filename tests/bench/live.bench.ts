@@ -33,6 +33,7 @@ import { importLayout, registerNode } from "../../server/features/layouts/servic
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { createApp } from "../../server/app";
 import { createLogger } from "../../server/logger";
+import { runtimeDeps } from "../../server/runtimeDeps";
 import { startLiveRuntime } from "../../server/runtime/liveRuntime";
 
 type Report = (name: string, value: number, unit: string) => void;
@@ -127,7 +128,7 @@ export async function run(report: Report): Promise<void> {
         await sleep(50);
       }
     }
-    const runtime = await startLiveRuntime({ deps, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
+    const runtime = await startLiveRuntime({ deps: runtimeDeps(deps), db: deps.db, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
     cleanups.unshift(() => runtime.stop());
     deps.live = runtime;
     const server = http.createServer(createApp(deps));

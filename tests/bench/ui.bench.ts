@@ -35,6 +35,7 @@ import { hashSecret, SESSION_COOKIE, signSession } from "../../server/features/a
 import { importLayout, registerNode } from "../../server/features/layouts/service";
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { createLogger } from "../../server/logger";
+import { runtimeDeps } from "../../server/runtimeDeps";
 import { poolFromDeps, startLiveRuntime } from "../../server/runtime/liveRuntime";
 
 type Report = (name: string, value: number, unit: string) => void;
@@ -152,7 +153,7 @@ export async function run(report: Report): Promise<void> {
     const broker = await startBroker({ port: 0, authenticate: databaseAuthenticator({ pool: authPool, serverUsername: "blocklight-server", serverPassword }) });
     cleanups.unshift(() => broker.close());
     const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
-    const runtime = await startLiveRuntime({ deps, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
+    const runtime = await startLiveRuntime({ deps: runtimeDeps(deps), db: deps.db, mqtt: { url: mqttUrl, username: "blocklight-server", password: serverPassword } });
     cleanups.unshift(() => runtime.stop());
     deps.live = runtime;
     const server = http.createServer(createApp(deps));

@@ -10,6 +10,7 @@ import path from "node:path";
 import { afterAll, beforeAll, describe, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { freePort } from "../../server/db/embeddedPostgres";
+import { runtimeDeps } from "../../server/runtimeDeps";
 import { startLiveRuntime, type LiveRuntime } from "../../server/runtime/liveRuntime";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { connectBoard, waitFor } from "../support/live";
@@ -41,7 +42,7 @@ describe.runIf(fs.existsSync(MOSQUITTO))("with mosquitto as an external broker (
       }
     };
     await waitFor(probe, "mosquitto to listen");
-    runtime = await startLiveRuntime({ deps: t.deps, mqtt: { url, username: "blocklight-server", password: "unused-by-anonymous-mosquitto" } });
+    runtime = await startLiveRuntime({ deps: runtimeDeps(t.deps), db: t.deps.db, mqtt: { url, username: "blocklight-server", password: "unused-by-anonymous-mosquitto" } });
     t.deps.live = runtime;
     await waitFor(() => runtime.connected(), "the runtime to connect to mosquitto");
   });
@@ -55,7 +56,7 @@ describe.runIf(fs.existsSync(MOSQUITTO))("with mosquitto as an external broker (
   it("applies pulses, publishes retained aspects and refuses what Blocklight refuses", async () => {
     // The demo layout's nodes exist without secrets; mosquitto does not ask for them.
     const bankFoot = await connectBoard(url, SLUG, "bank-foot", "");
-    const junction = await connectBoard(url, SLUG, "junction", "", { subscribe: true });
+    const junction = await connectBoard(url, SLUG, "junction", "");
     await waitFor(() => junction.aspects.get("M1")?.aspect === "danger", "the retained M1 command from mosquitto");
     await bankFoot.pulse("MA");
     await waitFor(() => junction.aspects.get("M1")?.aspect === "clear", "M1 clear via mosquitto");

@@ -30,7 +30,7 @@ describe("database outage", () => {
     dbName = t.deps.db.sequelize.config.database;
     admin = new pg.Client({ connectionString: inject("pgAdminUrl") });
     await admin.connect();
-    h = await startLiveHarness(t, { dbOutageDangerMs: OUTAGE_DANGER_MS });
+    h = await startLiveHarness(t, { failsafeAfterMs: OUTAGE_DANGER_MS });
     secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction]);
   });
   afterAll(async () => {
@@ -42,7 +42,7 @@ describe("database outage", () => {
 
   it("holds the acknowledgements, shows danger, then applies every pulse exactly once", async () => {
     const bankFoot = await connectBoard(h.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!, { boot: "out001" });
-    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!, { subscribe: true });
+    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     await bankFoot.pulse("MA");
     await waitFor(() => junction.aspects.get("M1")?.aspect === "clear", "M1 clear before the outage");
 

@@ -12,6 +12,8 @@ import { connectBoard, connectBrowser, issueBoardSecrets, join, KESTREL_BOARDS, 
 const SLUG = "kestrel-bank";
 const topic = (node: string, kind: string) => `blocklight/v1/${SLUG}/node/${node}/${kind}`;
 
+const REORDER_WAIT_MS = 1_000;
+
 describe("live pipeline", () => {
   let t: TestApp;
   let h: LiveHarness;
@@ -30,7 +32,8 @@ describe("live pipeline", () => {
 
   beforeAll(async () => {
     t = await startTestApp();
-    h = await startLiveHarness(t);
+    // A short reorder wait, so the gap test does not wait the contract's 10 s.
+    h = await startLiveHarness(t, { reorderWaitMs: REORDER_WAIT_MS });
     secrets = await issueBoardSecrets(t, SLUG, Object.values(KESTREL_BOARDS));
     const login = await request(t.app).post("/api/auth/login").send({ email: demoEmail("signaller"), password: DEMO_PASSWORD });
     signallerCookie = (login.headers["set-cookie"] as unknown as string[]).map((c) => c.split(";")[0]).join("; ");
@@ -48,7 +51,7 @@ describe("live pipeline", () => {
     expect(joined.ok && joined.data.shown).toEqual({ M1: "danger", B1: "danger" });
 
     const bankFoot = await connectBoard(h.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!);
-    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!, { subscribe: true });
+    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     await waitFor(() => junction.aspects.get("M1")?.aspect === "danger", "the retained M1 danger");
 
     await bankFoot.pulse("MA");
@@ -79,7 +82,7 @@ describe("live pipeline", () => {
     expect(Number(rev[0].aspect_rev)).toBeGreaterThanOrEqual(junction.aspects.get("M1")!.rev);
 
     // A board connecting later gets the newest command at once (retained).
-    const late = await connectBoard(h.mqttUrl, SLUG, "quarry", secrets.get("quarry")!, { subscribe: true });
+    const late = await connectBoard(h.mqttUrl, SLUG, "quarry", secrets.get("quarry")!);
     await waitFor(() => late.aspects.get("M1")?.aspect === "danger" && late.aspects.has("B1"), "retained aspects for a late board");
 
     await waitFor(() => browser.updates.filter((u) => u.event?.kind === "pulse").length === 6, "six pushed pulse updates");
@@ -172,9 +175,9 @@ describe("live pipeline", () => {
   it("a gap in seq raises a missed-pulses alarm", async () => {
     const board = await connectBoard(h.mqttUrl, SLUG, "quarry", secrets.get("quarry")!, { boot: "gap001" });
     await board.pulse("BA"); // seq 1
-    board.seq = 4; // seqs 2..4 lost on the way
-    await board.pulse("BE"); // seq 5
-    await h.runtime.idle();
+    board.seq = 4; // seqs 2..4 lost on the way (never kept, so never resent)
+    await board.pulse("BE"); // seq 5: waits for 2..4, then they are declared missed
+    await waitFor(() => h.runtime.runner(SLUG)!.waiting() === 1, "seq 5 waiting for the missing ones");
     await waitFor(async () => {
       const res = await request(t.app).get(`/api/layouts/${SLUG}/alarms?state=open`).set("Cookie", signallerCookie);
       return res.body.alarms.some((a: { kind: string; message: string }) => a.kind === "missed-pulses" && /3 pulse/.test(a.message));
@@ -200,7 +203,7 @@ describe("live pipeline", () => {
   });
 
   it("a lamp-proving report that differs from the command raises an alarm", async () => {
-    const board = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!, { subscribe: true });
+    const board = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     await waitFor(() => board.aspects.has("M1"), "the M1 command");
     const commanded = board.aspects.get("M1")!;
     const wrong = commanded.aspect === "clear" ? "danger" : "clear";
@@ -216,7 +219,7 @@ describe("live pipeline", () => {
   it("a signaller's hold is applied, audited and published", async () => {
     const agent = await t.signIn("signaller");
     const board = await connectBoard(h.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!, { boot: "hold01" });
-    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!, { subscribe: true });
+    const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     const res = await agent.post(`/api/layouts/${SLUG}/commands`).send({ type: "hold", signal: "M1", reason: "shunt in the quarry siding" });
     expect(res.status).toBe(200);
     expect(res.body.held).toEqual(["M1"]);

@@ -73,7 +73,7 @@ describe("clock, sessions and fail-safe", () => {
   });
 
   it("a quiet trigger fires from the server clock, is stored as a tick, and survives a restart", async () => {
-    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { subscribe: true });
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret);
     await board.pulse("WS");
     await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
     await waitFor(() => board.aspects.get("S1")?.aspect === "danger", "S1 back to danger after the quiet time");
@@ -107,7 +107,7 @@ describe("clock, sessions and fail-safe", () => {
   });
 
   it("when the engine fails every signal goes to danger until a signaller restarts", async () => {
-    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { subscribe: true, boot: "fault1" });
+    const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret, { boot: "fault1" });
     await board.pulse("WS");
     await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
     engineBroken.now = true;

@@ -6,15 +6,17 @@
 import http from "node:http";
 import type { AddressInfo } from "node:net";
 import { randomBytes } from "node:crypto";
-import mqtt, { type MqttClient } from "mqtt";
+import type { MqttClient } from "mqtt";
 import type pg from "pg";
 import { io as ioClient, type Socket } from "socket.io-client";
 import { databaseAuthenticator } from "../../broker/auth";
+import { ReferenceBoard } from "../../broker/referenceBoard";
 import { startBroker, type BrokerRefusal, type RunningBroker } from "../../broker/server";
 import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "../../shared/contract/live";
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { poolFromDeps, startLiveRuntime, type LiveRuntime } from "../../server/runtime/liveRuntime";
 import type { RunnerOptions } from "../../server/runtime/runner";
+import { runtimeDeps } from "../../server/runtimeDeps";
 import type { TestApp } from "./testApp";
 
 export const SERVER_MQTT_USERNAME = "blocklight-server";
@@ -44,7 +46,8 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
   const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
   const startRuntime = async (options: Partial<RunnerOptions> = runner) => {
     const runtime = await startLiveRuntime({
-      deps: t.deps,
+      deps: runtimeDeps(t.deps),
+      db: t.deps.db,
       mqtt: { url: mqttUrl, username: SERVER_MQTT_USERNAME, password: serverPassword },
       runner: options,
     });
@@ -86,13 +89,23 @@ export async function waitFor(check: () => boolean | Promise<boolean>, what: str
   }
 }
 
-/** A board: an mqtt.js client with the node's credentials, collecting aspect commands. */
+/**
+ * A test board: the reference board (broker/referenceBoard.ts), so every test board does the
+ * board duties of CONTRACT.md §2 — client id `{layout}.{node}`, clean session off, the four
+ * subscriptions, keep-until-applied and resend after every reconnect, fail-safe.
+ */
 export interface Board {
-  client: MqttClient;
+  readonly board: ReferenceBoard;
+  /** The mqtt.js client of the current connection. */
+  readonly client: MqttClient;
+  /** Newest aspect command per signal. */
   aspects: Map<string, AspectPayload>;
+  /** What the board shows per signal (danger while in fail-safe). */
+  shown: Map<string, string>;
   seq: number;
   boot: string;
   pulse(detector: string): Promise<void>;
+  /** Once, as it is (no numbering, not kept): odd payloads, lamp-proving reports. */
   publish(topic: string, payload: string | Buffer): Promise<void>;
   end(): Promise<void>;
 }
@@ -102,41 +115,33 @@ export async function connectBoard(
   layout: string,
   node: string,
   secret: string,
-  options: { subscribe?: boolean; boot?: string } = {},
+  options: { boot?: string; signals?: string[]; announce?: boolean } = {},
 ): Promise<Board> {
-  const client = mqtt.connect(mqttUrl, {
-    protocolVersion: 4,
-    username: node,
-    password: secret,
-    clientId: `board-${node}-${randomBytes(3).toString("hex")}`,
-    reconnectPeriod: 0,
-    will: { topic: `blocklight/v1/${layout}/node/${node}/status`, payload: Buffer.from(JSON.stringify({ online: false })), qos: 1, retain: true },
-  });
-  await new Promise<void>((resolve, reject) => {
-    client.once("connect", () => resolve());
-    client.once("error", reject);
-  });
-  const aspects = new Map<string, AspectPayload>();
-  client.on("message", (topic, payload) => {
-    const signal = topic.split("/")[4];
-    aspects.set(signal, JSON.parse(payload.toString()));
-  });
-  if (options.subscribe) await client.subscribeAsync(`blocklight/v1/${layout}/signal/#`, { qos: 1 });
-  const board: Board = {
-    client,
-    aspects,
-    seq: 0,
-    boot: options.boot ?? randomBytes(3).toString("hex"),
-    async pulse(detector) {
-      board.seq++;
-      await client.publishAsync(`blocklight/v1/${layout}/node/${node}/pulse`, JSON.stringify({ detector, seq: board.seq, boot: board.boot }), { qos: 1 });
+  const board = new ReferenceBoard({ url: mqttUrl, layout, node, secret, boot: options.boot, signals: options.signals, announce: options.announce ?? false });
+  await board.start();
+  return {
+    board,
+    get client() {
+      return board.client;
     },
-    async publish(topic, payload) {
-      await client.publishAsync(topic, payload, { qos: 1 });
+    aspects: board.aspects,
+    shown: board.shown,
+    get seq() {
+      return board.seq;
     },
-    end: () => client.endAsync(),
+    set seq(value: number) {
+      board.seq = value;
+    },
+    get boot() {
+      return board.boot;
+    },
+    set boot(value: string) {
+      board.boot = value;
+    },
+    pulse: (detector) => board.pulse(detector),
+    publish: (topic, payload) => board.publishRaw(topic, payload),
+    end: () => board.end(),
   };
-  return board;
 }
 
 /** A browser: a socket.io client with the session cookie of a signed-in agent (or none). */

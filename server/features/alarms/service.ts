@@ -7,6 +7,7 @@
 import { QueryTypes } from "sequelize";
 import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
+import type { AlarmPort } from "../../runtime/ports";
 import { notFound } from "../../http/errors";
 
 export interface RaiseAlarmInput {
@@ -204,4 +205,17 @@ export async function listAlarms(deps: AppDeps, layoutId: number, state: "open" 
     type: QueryTypes.SELECT,
   });
   return rows.map(toAlarmDto);
+}
+
+/** The live pipeline's way to alarms (server/runtime/ports.ts): it imports nothing from features/. */
+export function alarmPort(deps: AppDeps): AlarmPort {
+  return {
+    async raise(alarm) {
+      await raiseAlarm(deps, alarm);
+    },
+    async clear(layoutId, kind, subject) {
+      await clearAlarms(deps, layoutId, kind, subject);
+    },
+    listOpen: (layoutId) => listAlarms(deps, layoutId, "open"),
+  };
 }

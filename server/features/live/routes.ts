@@ -7,6 +7,7 @@ import { z } from "zod";
 import { commandBodySchema } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
+import { LiveError } from "../../runtime/ports";
 import { allowAnyone, requirePermission } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
 import { redactStateForDisplay } from "../display/redact";
@@ -17,9 +18,24 @@ const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]) });
 
 export function liveRoutes(deps: AppDeps): Router {
   const router = Router();
-  const live = () => {
+  const running = () => {
     if (!deps.live) throw new HttpError(503, "live_unavailable", "the live pipeline is not running");
     return deps.live;
+  };
+  /** The runtime's refusals (server/runtime/ports.ts) as REST errors. */
+  const live = () => {
+    const runtime = running();
+    const wrap =
+      <A extends unknown[], R>(fn: (...args: A) => Promise<R>) =>
+      async (...args: A): Promise<R> => {
+        try {
+          return await fn(...args);
+        } catch (err) {
+          if (err instanceof LiveError) throw new HttpError(err.status, err.code, err.message, err.details);
+          throw err;
+        }
+      };
+    return { liveState: wrap(runtime.liveState), command: wrap(runtime.command), session: wrap(runtime.session) };
   };
 
   /** Signed in, or holding a live display link for this very layout. */

@@ -7,6 +7,7 @@
  */
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
+import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError } from "../../http/errors";
 import { CSV_COLUMNS } from "./service";
@@ -42,8 +43,8 @@ const engineInputSchema = z.union([
 const importedEventSchema = z
   .object({
     id: z.string().regex(/^\d{1,19}$/, "an event id").nullish(),
-    kind: z.enum(["pulse", "tick", "status", "shown", "command", "message"]),
-    status: z.enum(["accepted", "duplicate", "rejected"]),
+    kind: z.enum(EVENT_KINDS),
+    status: z.enum(EVENT_STATUSES),
     reason: z.string().max(2000).nullish(),
     node: z.string().max(64).nullish(),
     boot: z.string().max(64).nullish(),

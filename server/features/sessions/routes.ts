@@ -2,6 +2,7 @@ import { once } from "node:events";
 import { Router, type RequestHandler } from "express";
 import multer from "multer";
 import { z } from "zod";
+import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
@@ -17,8 +18,8 @@ const pageQuerySchema = z.object({
   format: z.literal("json"),
   after: z.string().regex(/^\d{1,19}$/, "an event id").default("0"),
   limit: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).default(100),
-  kind: z.enum(["pulse", "tick", "status", "shown", "command", "message"]).optional(),
-  status: z.enum(["accepted", "duplicate", "rejected"]).optional(),
+  kind: z.enum(EVENT_KINDS).optional(),
+  status: z.enum(EVENT_STATUSES).optional(),
   detector: idText.optional(),
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),

@@ -9,6 +9,7 @@ import { initialState, step, type EngineInput, type EngineState } from "../../..
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { AppDeps } from "../../deps";
 import { notFound } from "../../http/errors";
+import { acceptedInputs, latestSnapshot, NO_ID_LIMIT, sequelizeQuery } from "../../runtime/eventLog";
 
 export const EXPORT_PAGE_EVENTS = 1000;
 
@@ -157,42 +158,6 @@ export async function sessionEventPage(
   return { events: await withChanges(deps, page), total: counted[0].n, next: more ? page[page.length - 1].id : null };
 }
 
-/** Accepted engine inputs are read in pages of this many. */
-const INPUT_PAGE = 5_000;
-/** Above every event id: "no upper bound". */
-const NO_ID_LIMIT = "9223372036854775807";
-
-interface InputRow {
-  id: string;
-  kind: string;
-  detector: string | null;
-  received_at: Date;
-  input: EngineInput | null;
-}
-
-/**
- * Accepted pulses, ticks and commands in the order the runner applied them, as it gave them
- * to the engine (a pulse at its receipt time, as `LayoutRunner.replayFrom` does too).
- */
-async function* acceptedInputs(deps: AppDeps, where: string, replacements: Record<string, unknown>, after = "0"): AsyncGenerator<EngineInput> {
-  for (;;) {
-    const rows = await deps.db.sequelize.query<InputRow>(
-      // `e.id`, not `id`: ORDER BY a bare name would sort the text column ("10" before "9").
-      `SELECT e.id::text AS id, e.kind, e.detector, e.received_at, e.input FROM events e
-        WHERE ${where} AND e.id > :after AND e.status = 'accepted' AND e.kind IN ('pulse','tick','command')
-        ORDER BY e.id LIMIT ${INPUT_PAGE}`,
-      { replacements: { ...replacements, after }, type: QueryTypes.SELECT },
-    );
-    for (const row of rows) {
-      const input: EngineInput | null =
-        row.kind === "pulse" ? { type: "pulse", detector: row.detector!, at: new Date(row.received_at).getTime() } : row.input;
-      if (input) yield input;
-    }
-    if (rows.length < INPUT_PAGE) return;
-    after = rows[rows.length - 1].id;
-  }
-}
-
 /**
  * The session's engine inputs in the order the runner applied them, and the engine state
  * just before the first. The live state carries over between sessions, so the start is
@@ -211,7 +176,8 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   const layoutId = session.layout_id;
   const version = session.rulebook_version;
   const inputs: EngineInput[] = [];
-  for await (const input of acceptedInputs(deps, "e.session_id = :sessionId", { sessionId })) inputs.push(input);
+  const query = sequelizeQuery(deps.db.sequelize);
+  for await (const input of acceptedInputs(query, { sessionId })) inputs.push(input);
 
   const rulebooks = await deps.db.sequelize.query<{ rulebook: Rulebook }>(
     `SELECT rulebook FROM rulebook_versions WHERE layout_id = :layoutId AND version = :version`,
@@ -224,16 +190,11 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
     return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, rulebookSwitches: [] };
   }
   const firstId = session.first_id ?? NO_ID_LIMIT;
-  const snapshots = await deps.db.sequelize.query<{ rulebook_version: number; last_event_id: string; state: { engine: EngineState } }>(
-    `SELECT rulebook_version, last_event_id::text, state FROM snapshots
-      WHERE layout_id = :layoutId AND last_event_id < :firstId ORDER BY last_event_id DESC, id DESC LIMIT 1`,
-    { replacements: { layoutId, firstId }, type: QueryTypes.SELECT },
-  );
-  const snapshot = snapshots[0];
+  const snapshot = await latestSnapshot(query, layoutId, firstId);
   let start: EngineState;
   if (snapshot && snapshot.rulebook_version === version) {
     start = snapshot.state.engine;
-    const before = acceptedInputs(deps, "e.layout_id = :layoutId AND e.id < :firstId AND NOT e.imported", { layoutId, firstId }, snapshot.last_event_id);
+    const before = acceptedInputs(query, { layoutId, beforeId: firstId }, snapshot.last_event_id);
     for await (const input of before) start = step(rulebook, start, input).state;
   } else {
     start = initialState(rulebook, new Date(session.opened_at).getTime());

@@ -1,10 +1,10 @@
 import { useId, useState, type FormEvent } from "react";
-import type { EventKind, EventStatus } from "../../../shared/contract/live";
+import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
 import type { SessionEventFilter } from "../../../shared/contract/sessions";
 import { Button } from "../ui/Button";
 
-const KINDS: EventKind[] = ["pulse", "tick", "command", "status", "shown", "message"];
-const STATUSES: EventStatus[] = ["accepted", "duplicate", "rejected"];
+const KINDS = EVENT_KINDS;
+const STATUSES = EVENT_STATUSES;
 
 interface EventLogFiltersProps {
   filter: SessionEventFilter;

@@ -13,6 +13,7 @@ const time = (iso: string) => {
 const STATUS_CLASS: Record<SessionEventDto["status"], string> = {
   accepted: "text-ink",
   duplicate: "text-aspect-caution",
+  late: "text-aspect-caution",
   rejected: "text-aspect-danger",
 };
 
