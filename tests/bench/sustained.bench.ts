@@ -2,15 +2,18 @@
  * `npm run bench -- sustained`: the real server as `npm start` runs it — the launcher as a
  * child process (its own PostgreSQL, the broker, the server with the alarm watchers, the
  * demo's fake layout playing Kestrel Bank) on a throwaway DATA_DIR and free ports — under
- * `SUSTAINED_SECONDS` at 500 pulses/s, then at 2,000/s, from several test boards doing the
- * board duties (sustainedBoards.ts), one of them with a chattering detector.
+ * `SUSTAINED_SECONDS` at 500 pulses/s, then at 2,000/s, from several reference boards
+ * (broker/referenceBoard.ts: CONTRACT.md §2's board duties, messages kept until `applied`),
+ * one of them with a chattering detector.
  *
  * The bench layout has 200 detectors (each pulsed at most 10 times a second: no chatter)
- * of which 20 toggle a signal each, plus one chattering detector (bursts with gaps of
- * 2–30 ms). Prints per rate committed/offered, pulse → aspect (at a board) and pulse →
- * socket.io update (at a signed-in browser) p50/p99/max, server CPU (% of one core) and
- * peak RSS; then the time for the server to go idle after the load, the alarms raised per
- * layout during the load, and the bare broker round trip.
+ * of which 20 toggle a signal each, one chattering detector (bursts with gaps of 2–30 ms),
+ * and a probe board whose detector flips a probe signal (sustainedProbe.ts): one probe in
+ * flight at a time, so pulse → aspect is measured exactly. Prints per rate
+ * committed/offered, pulse → aspect (at the probe board) p50/p99/max and its stages,
+ * pulse → socket.io update (at a signed-in browser) p50/p99/max, server CPU (% of one core)
+ * and peak RSS; then the time for the server to go idle after the load, the alarms raised
+ * per layout during the load, and the bare broker round trip.
  *
  * `BENCH_CPU_PROFILE=DIR` profiles the server process (V8 CPU profile, as `--cpu-prof` would,
  * through cpuProfilePreload.mjs), written to DIR when it stops, and prints its top functions
@@ -23,10 +26,11 @@ import path from "node:path";
 import mqtt from "mqtt";
 import pg from "pg";
 import { io as ioClient } from "socket.io-client";
+import { ReferenceBoard } from "../../broker/referenceBoard";
 import type { LiveUpdate } from "../../shared/contract/live";
 import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 import { freePort } from "../../server/db/embeddedPostgres";
-import { BenchBoard } from "./sustainedBoards";
+import { AspectProbe, PROBE_DETECTOR, PROBE_SIGNAL, probeRulebookPart, type ProbeSample } from "./sustainedProbe";
 
 type Report = (name: string, value: number, unit: string) => void;
 
@@ -36,6 +40,9 @@ const DETECTORS = 200;
 const TOGGLES = 20;
 const BOARDS = 4;
 const CHATTER_DETECTOR = "CH";
+const PROBE_NODE = "soak-probe";
+/** Messages a bench board keeps waiting for `applied` (more than a drain grace's worth). */
+const BOARD_OUTBOX = 200_000;
 const RATES = (process.env.BENCH_SUSTAINED_RATES ?? "500,2000").split(",").map(Number);
 const SUSTAINED_SECONDS = Number(process.env.BENCH_SUSTAINED_SECONDS ?? 60);
 const START_TIMEOUT_MS = 180_000;
@@ -54,26 +61,37 @@ const sorted = (xs: number[]) => Float64Array.from(xs).sort() as unknown as numb
 function soakLayout(): LayoutFile {
   const detectors = Array.from({ length: DETECTORS }, (_, i) => ({ id: `D${pad3(i)}`, name: `Soak detector ${pad3(i)}`, line: "soak", at: i }));
   const toggles = detectors.slice(0, TOGGLES).map((d, i) => ({ detector: d.id, signal: `S${pad3(i)}`, latch: `lit${pad3(i)}` }));
+  const probe = probeRulebookPart();
   return {
     format: LAYOUT_FORMAT,
     slug: SLUG,
     name: "Fernmoor soak bench",
     scale: { name: "G", ratio: 22.5 },
     lines: [{ id: "soak", name: "Soak bench" }],
-    detectors: [...detectors, { id: CHATTER_DETECTOR, name: "Bouncing contact", line: "soak", at: DETECTORS }],
-    signals: toggles.map((x, i) => ({ id: x.signal, name: `Soak signal ${pad3(i)}`, line: "soak", at: i + 0.5, aspects: ["danger", "clear"] })),
+    detectors: [
+      ...detectors,
+      { id: CHATTER_DETECTOR, name: "Bouncing contact", line: "soak", at: DETECTORS },
+      { id: PROBE_DETECTOR, name: "Probe contact", line: "soak", at: DETECTORS + 1 },
+    ],
+    signals: [
+      ...toggles.map((x, i) => ({ id: x.signal, name: `Soak signal ${pad3(i)}`, line: "soak", at: i + 0.5, aspects: ["danger", "clear"] })),
+      { id: PROBE_SIGNAL, name: "Probe signal", line: "soak", at: DETECTORS + 1.5, aspects: ["danger", "clear"] },
+    ],
     points: [],
     nodes: [],
     rulebook: {
       format: "blocklight.rulebook/1",
-      latches: Object.fromEntries(toggles.map((x) => [x.latch, false])),
+      latches: { ...Object.fromEntries(toggles.map((x) => [x.latch, false])), ...probe.latches },
       counters: {},
       selectors: {},
-      initial: Object.fromEntries(toggles.map((x) => [x.signal, "danger"])),
-      rules: toggles.flatMap((x) => [
-        { id: `on-${x.detector}`, on: { pass: x.detector }, if: { not: { latch: x.latch } }, do: [{ set: x.latch }, { show: x.signal, aspect: "clear" }] },
-        { id: `off-${x.detector}`, on: { pass: x.detector }, if: { latch: x.latch }, do: [{ clear: x.latch }, { show: x.signal, aspect: "danger" }] },
-      ]),
+      initial: { ...Object.fromEntries(toggles.map((x) => [x.signal, "danger"])), ...probe.initial },
+      rules: [
+        ...toggles.flatMap((x) => [
+          { id: `on-${x.detector}`, on: { pass: x.detector }, if: { not: { latch: x.latch } }, do: [{ set: x.latch }, { show: x.signal, aspect: "clear" }] },
+          { id: `off-${x.detector}`, on: { pass: x.detector }, if: { latch: x.latch }, do: [{ clear: x.latch }, { show: x.signal, aspect: "danger" }] },
+        ]),
+        ...probe.rules,
+      ],
     },
   } as LayoutFile;
 }
@@ -190,36 +208,44 @@ export async function run(report: Report): Promise<void> {
     const signalOf = new Map(detectorIds.slice(0, TOGGLES).map((d, i) => [d, `S${pad3(i)}`]));
     const nodeOfDetector = new Map<string, number>();
     const mqttUrl = `mqtt://127.0.0.1:${mqttPort}`;
-    const toAspect: number[] = [];
-    /** Server's publish stamp → board receipt: the broker hop of the aspect command alone. */
-    const aspectHop: number[] = [];
-    /** Per signal, toggle pulses not yet seen at the board, with the aspect each leads to. */
-    const pendingBySignal = new Map<string, { at: number; aspect: "clear" | "danger" }[]>();
-    const togglesOf = new Map<string, number>();
-    const boards: BenchBoard[] = [];
+    /** A bench board: a reference board, and its clock (`t` is ms since its boot). */
+    type Board = { node: string; board: ReferenceBoard; bootAt: number };
+    const connectBoard = async (node: string, name: string, detectors: string[], signals: string[], onAspect?: AspectProbe["onAspect"]): Promise<Board> => {
+      const res = await api(base, "POST", `/api/layouts/${SLUG}/nodes`, { id: node, name, detectors, signals }, engineer);
+      if (res.status !== 201) throw new Error(`registering ${node} failed: ${res.status}`);
+      const board = new ReferenceBoard({
+        url: mqttUrl,
+        layout: SLUG,
+        node,
+        secret: (res.body as { secret: string }).secret,
+        boot: `soak${node.slice(-1)}${Date.now().toString(36)}`,
+        fw: "bench-1",
+        signals,
+        announce: true,
+        outboxLimit: BOARD_OUTBOX,
+        onAspect,
+      });
+      const bootAt = performance.now();
+      await board.start();
+      return { node, board, bootAt };
+    };
+    const boards: Board[] = [];
     for (let k = 0; k < BOARDS; k++) {
       const detectors = detectorIds.filter((_, i) => i % BOARDS === k);
       if (k === 0) detectors.push(CHATTER_DETECTOR);
       for (const d of detectors) nodeOfDetector.set(d, k);
       const signals = detectors.map((d) => signalOf.get(d)).filter((s): s is string => !!s);
-      const node = `soak-board-${k}`;
-      const res = await api(base, "POST", `/api/layouts/${SLUG}/nodes`, { id: node, name: `Soak board ${k}`, detectors, signals }, engineer);
-      if (res.status !== 201) throw new Error(`registering ${node} failed: ${res.status}`);
-      const onAspect = (signal: string, aspect: string, at: number, publishedAt: number) => {
-        if (pendingBySignal.size > 0) aspectHop.push(performance.timeOrigin + at - publishedAt);
-        // Board 0 sees every aspect of the layout (signal/#): it times them all. Two toggles
-        // committed together publish nothing (the aspect did not change), so match the
-        // oldest pending toggle that leads to this aspect and drop the ones before it.
-        const pending = pendingBySignal.get(signal);
-        if (!pending) return;
-        const i = pending.findIndex((p) => p.aspect === aspect);
-        if (i === -1) return;
-        toAspect.push(at - pending[i].at);
-        pending.splice(0, i + 1);
-      };
-      boards.push(await BenchBoard.connect({ url: mqttUrl, layout: SLUG, node, secret: (res.body as { secret: string }).secret, boot: `soak${k}${Date.now().toString(36)}`, ...(k === 0 ? { onAspect } : {}) }));
+      boards.push(await connectBoard(`soak-board-${k}`, `Soak board ${k}`, detectors, signals));
     }
-    cleanups.push(() => Promise.all(boards.map((b) => b.end())));
+    const probe = new AspectProbe();
+    const probeBoard = await connectBoard(PROBE_NODE, "Probe board", [PROBE_DETECTOR], [PROBE_SIGNAL], probe.onAspect);
+    const everyBoard = [...boards, probeBoard];
+    /** One pulse at `happenedAt` (performance.now() time: the load's schedule); returns its seq. */
+    const pulse = (b: Board, detector: string, happenedAt: number): number => {
+      void b.board.pulse(detector, Math.max(0, Math.round(happenedAt - b.bootAt)));
+      return b.board.seq;
+    };
+    cleanups.push(() => Promise.all(everyBoard.map((b) => b.board.end())));
 
     // A signed-in browser on both layouts.
     const cookie = await signIn(base, "signaller");
@@ -258,10 +284,33 @@ export async function run(report: Report): Promise<void> {
         (
           await db.query<{ n: string }>(
             `SELECT count(*) AS n FROM events e JOIN layouts l ON l.id = e.layout_id WHERE l.slug = $1 AND e.kind = 'pulse' AND e.status = 'accepted' AND e.boot = ANY($2)`,
-            [SLUG, boards.map((b) => b.boot)],
+            [SLUG, everyBoard.map((b) => b.board.boot)],
           )
         ).rows[0].n,
       );
+    /**
+     * Each probe sample taken apart at the server's stamps (wall-clock ms): board → server
+     * receipt (`received_at`, so the broker hop in and the server's event-loop lag), receipt →
+     * the command's publish stamp (`at`: queue, engine, commit), publish → board (broker out).
+     */
+    const probeStages = async (samples: ProbeSample[]) => {
+      const rows = await db.query<{ seq: number; at: string }>(
+        `SELECT seq, (extract(epoch FROM received_at) * 1000)::float8 AS at FROM events e JOIN layouts l ON l.id = e.layout_id
+          WHERE l.slug = $1 AND e.boot = $2 AND e.seq = ANY($3)`,
+        [SLUG, probeBoard.board.boot, samples.map((x) => x.seq)],
+      );
+      const receivedAt = new Map(rows.rows.map((r) => [Number(r.seq), Number(r.at)]));
+      const wall = (t: number) => performance.timeOrigin + t;
+      const stages = { in: [] as number[], server: [] as number[], out: [] as number[] };
+      for (const x of samples) {
+        const at = receivedAt.get(x.seq);
+        if (at === undefined) continue;
+        stages.in.push(at - wall(x.sentAt));
+        stages.server.push(x.publishedAt - at);
+        stages.out.push(wall(x.receivedAt) - x.publishedAt);
+      }
+      return stages;
+    };
     await sleep(1_000);
     const loadStartedAt = new Date();
     let offeredTotal = 0;
@@ -271,11 +320,9 @@ export async function run(report: Report): Promise<void> {
 
     let lastSentAt = 0;
     for (const rate of RATES) {
-      toAspect.length = 0;
-      aspectHop.length = 0;
+      probe.reset();
       toSocket.length = 0;
       sentAt.clear();
-      pendingBySignal.clear();
       rss.length = 0;
       const committedBefore = await committedPulses();
       const cpuBefore = cpuSeconds(serverPid);
@@ -290,6 +337,12 @@ export async function run(report: Report): Promise<void> {
         const now = performance.now();
         const due = Math.min(total, Math.floor(((now - begin) / 1000) * rate) + 1);
         for (; sent < due; sent++) {
+          // The probe takes the place of a load pulse, so the offered rate stays the rate.
+          if (probe.due()) {
+            const at = performance.now();
+            probe.sent(pulse(probeBoard, PROBE_DETECTOR, at), at);
+            continue;
+          }
           let detector: string;
           if (burstLeft > 0 && performance.now() >= chatterAt) {
             detector = CHATTER_DETECTOR;
@@ -301,16 +354,8 @@ export async function run(report: Report): Promise<void> {
           }
           const k = nodeOfDetector.get(detector)!;
           const at = performance.now();
-          const seq = boards[k].pulse(detector, detector === CHATTER_DETECTOR ? at : begin + (sent * 1000) / rate);
+          const seq = pulse(boards[k], detector, detector === CHATTER_DETECTOR ? at : begin + (sent * 1000) / rate);
           sentAt.set(`soak-board-${k}:${seq}`, at);
-          const signal = signalOf.get(detector);
-          if (signal) {
-            const n = (togglesOf.get(signal) ?? 0) + 1;
-            togglesOf.set(signal, n);
-            const list = pendingBySignal.get(signal) ?? [];
-            list.push({ at, aspect: n % 2 === 1 ? "clear" : "danger" });
-            pendingBySignal.set(signal, list);
-          }
         }
         await sleep(1);
       }
@@ -323,7 +368,9 @@ export async function run(report: Report): Promise<void> {
         await sleep(100);
         committed = (await committedPulses()) - committedBefore;
       }
-      const a = sorted(toAspect);
+      const samples = probe.samples.slice();
+      const a = sorted(samples.map((x) => x.receivedAt - x.sentAt));
+      const stages = await probeStages(samples);
       const s = sorted(toSocket);
       report(`sustained.${rate}.offered`, total, "pulses");
       report(`sustained.${rate}.committed_over_offered`, committed / total, "fraction");
@@ -331,15 +378,18 @@ export async function run(report: Report): Promise<void> {
       report(`sustained.${rate}.aspect_p99_ms`, pct(a, 99), "ms");
       report(`sustained.${rate}.aspect_max_ms`, a.length ? a[a.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.aspect_samples`, a.length, "count");
-      const hop = sorted(aspectHop);
-      report(`sustained.${rate}.aspect_server_to_board_p50_ms`, pct(hop, 50), "ms");
-      report(`sustained.${rate}.aspect_server_to_board_p99_ms`, pct(hop, 99), "ms");
+      report(`sustained.${rate}.aspect_probes_lost`, probe.lost, "count");
+      for (const [stage, values] of Object.entries(stages)) {
+        const v = sorted(values);
+        report(`sustained.${rate}.aspect_stage_${stage}_p50_ms`, pct(v, 50), "ms");
+        report(`sustained.${rate}.aspect_stage_${stage}_p99_ms`, pct(v, 99), "ms");
+      }
       report(`sustained.${rate}.socket_p50_ms`, pct(s, 50), "ms");
       report(`sustained.${rate}.socket_p99_ms`, pct(s, 99), "ms");
       report(`sustained.${rate}.socket_max_ms`, s.length ? s[s.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.server_cpu_pct`, (100 * cpuDuring) / seconds, "% of one core");
       report(`sustained.${rate}.server_rss_peak_mb`, Math.max(...rss, rssMb(serverPid)), "MB");
-      report(`sustained.${rate}.board_uncovered_at_end`, boards.reduce((n, b) => n + b.uncoveredCount(), 0), "messages");
+      report(`sustained.${rate}.board_uncovered_at_end`, everyBoard.reduce((n, b) => n + b.board.uncovered, 0), "messages");
     }
 
     // Idle: the server's CPU over a short window falls below IDLE_CPU_PCT of a core.
