@@ -262,15 +262,20 @@ export async function run(report: Report): Promise<void> {
     const sentAt = new Map<string, number>();
     const toSocket: number[] = [];
     let socketUpdates = 0;
+    let socketSteps = 0;
     const onUpdate = (update: LiveUpdate) => {
       socketUpdates++;
-      const e = update.event;
-      if (update.slug !== SLUG || e?.kind !== "pulse" || !e.node) return;
-      const key = `${e.node}:${e.seq}`;
-      const at = sentAt.get(key);
-      if (at !== undefined) {
-        toSocket.push(performance.now() - at);
-        sentAt.delete(key);
+      socketSteps += update.steps.length;
+      if (update.slug !== SLUG) return;
+      const now = performance.now();
+      for (const { event: e } of update.steps) {
+        if (e?.kind !== "pulse" || !e.node) continue;
+        const key = `${e.node}:${e.seq}`;
+        const at = sentAt.get(key);
+        if (at !== undefined) {
+          toSocket.push(now - at);
+          sentAt.delete(key);
+        }
       }
     };
     socket.on("live:update", onUpdate);
@@ -408,6 +413,7 @@ export async function run(report: Report): Promise<void> {
     report("sustained.idle_after_load_s", Math.max(0, (idleAt - lastSentAt) / 1000), "s");
     report("sustained.committed_equals_offered", (await committedPulses()) === offeredTotal ? 1 : 0, "bool");
     report("sustained.socket_updates_received", socketUpdates, "messages");
+    report("sustained.socket_steps_received", socketSteps, "steps");
 
     const alarms = await db.query<{ slug: string; kind: string; rows: string; occurrences: string }>(
       `SELECT l.slug, a.kind, count(*) AS rows, sum(a.occurrences) AS occurrences FROM alarms a JOIN layouts l ON l.id = a.layout_id

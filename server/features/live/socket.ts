@@ -1,8 +1,8 @@
 /**
  * Live pushes over socket.io, attached to the HTTP server. One room per layout. A socket is
  * let in by the session cookie (a signed-in user) or by a display link's token; `live:join`
- * answers with the full LiveState, then `live:update` follows every committed step with a
- * version one higher than the last (a client that sees a gap joins again).
+ * answers with the full LiveState, then one `live:update` per commit batch carries that
+ * batch's steps, numbered on from the last (a client that sees a gap joins again).
  */
 import type http from "node:http";
 import { Server, type Socket } from "socket.io";
