@@ -23,6 +23,7 @@ import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import { monitorEventLoopDelay } from "node:perf_hooks";
 import mqtt from "mqtt";
 import pg from "pg";
 import { io as ioClient } from "socket.io-client";
@@ -331,6 +332,10 @@ export async function run(report: Report): Promise<void> {
       rss.length = 0;
       const committedBefore = await committedPulses();
       const cpuBefore = cpuSeconds(serverPid);
+      // The bench's own lag: every figure it times includes it.
+      const benchCpuBefore = process.cpuUsage();
+      const benchLoop = monitorEventLoopDelay({ resolution: 5 });
+      benchLoop.enable();
       const begin = performance.now();
       const total = Math.round(rate * SUSTAINED_SECONDS);
       let sent = 0;
@@ -368,6 +373,8 @@ export async function run(report: Report): Promise<void> {
       offeredTotal += total;
       const seconds = (lastSentAt - begin) / 1000;
       const cpuDuring = cpuSeconds(serverPid) - cpuBefore;
+      const benchCpu = process.cpuUsage(benchCpuBefore);
+      benchLoop.disable();
       let committed = (await committedPulses()) - committedBefore;
       while (committed < total && performance.now() - lastSentAt < DRAIN_GRACE_MS) {
         await sleep(100);
@@ -393,6 +400,8 @@ export async function run(report: Report): Promise<void> {
       report(`sustained.${rate}.socket_p99_ms`, pct(s, 99), "ms");
       report(`sustained.${rate}.socket_max_ms`, s.length ? s[s.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.server_cpu_pct`, (100 * cpuDuring) / seconds, "% of one core");
+      report(`sustained.${rate}.bench_cpu_pct`, (benchCpu.user + benchCpu.system) / 1e4 / seconds, "% of one core");
+      report(`sustained.${rate}.bench_loop_delay_p99_ms`, benchLoop.percentile(99) / 1e6, "ms");
       report(`sustained.${rate}.server_rss_peak_mb`, Math.max(...rss, rssMb(serverPid)), "MB");
       report(`sustained.${rate}.board_uncovered_at_end`, everyBoard.reduce((n, b) => n + b.board.uncovered, 0), "messages");
     }
