@@ -89,9 +89,11 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
     });
   });
 
+  // Nobody in a room: no encoding, no redaction (socket.io would encode for an empty room too).
+  const occupied = (name: string) => (io.sockets.adapter.rooms.get(name)?.size ?? 0) > 0;
   const onUpdate = (update: LiveUpdate) => {
-    io.to(room(update.slug)).emit("live:update", update);
-    io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
+    if (occupied(room(update.slug))) io.to(room(update.slug)).emit("live:update", update);
+    if (occupied(displayRoom(update.slug))) io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
   };
   const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number; created?: boolean }) => {
     const { layoutId: _layoutId, created: _created, ...dto } = alarm;
