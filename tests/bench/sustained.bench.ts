@@ -15,9 +15,9 @@
  * and peak RSS; then the time for the server to go idle after the load, the alarms raised
  * per layout during the load, and the bare broker round trip.
  *
- * `BENCH_CPU_PROFILE=DIR` profiles the server process (V8 CPU profile, as `--cpu-prof` would,
- * through cpuProfilePreload.mjs), written to DIR when it stops, and prints its top functions
- * by self time.
+ * `BENCH_CPU_PROFILE=DIR` profiles the server process from the start of the load (V8 CPU
+ * profile, as `--cpu-prof` would, through cpuProfilePreload.mjs), written to DIR when it stops,
+ * and prints per rate its top five functions by self time, as a share of its busy samples.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
@@ -138,26 +138,39 @@ async function signIn(base: string, who: string): Promise<string> {
   return res.cookie;
 }
 
-/** The top functions of a V8 CPU profile by self time. */
-export function topFunctions(file: string, n = 5): { name: string; selfPct: number }[] {
+/**
+ * The top functions of a V8 CPU profile by self time, as a share of the samples where the
+ * process was busy (not idle), within `window` (seconds from the profile's start) if given.
+ */
+export function topFunctions(file: string, n = 5, window?: [number, number]): { busyPct: number; top: { name: string; selfPct: number }[] } {
   const profile = JSON.parse(fs.readFileSync(file, "utf8")) as {
     nodes: { id: number; callFrame: { functionName: string; url: string; lineNumber: number } }[];
     samples: number[];
+    timeDeltas: number[];
+    startTime: number;
   };
   const byId = new Map(profile.nodes.map((node) => [node.id, node]));
   const counts = new Map<string, number>();
-  for (const id of profile.samples) {
+  let inWindow = 0;
+  let busy = 0;
+  let at = profile.startTime;
+  profile.samples.forEach((id, i) => {
+    at += profile.timeDeltas[i];
+    const second = (at - profile.startTime) / 1e6;
+    if (window && (second < window[0] || second > window[1])) return;
+    inWindow++;
     const frame = byId.get(id)!.callFrame;
+    if (frame.functionName === "(idle)" || frame.functionName === "(program)") return;
+    busy++;
     const where = frame.url ? `${path.relative(ROOT, frame.url.replace(/^file:\/\//, ""))}:${frame.lineNumber + 1}` : "";
     const name = `${frame.functionName || "(anonymous)"}${where ? ` ${where}` : ""}`;
     counts.set(name, (counts.get(name) ?? 0) + 1);
-  }
-  const total = profile.samples.length;
-  return [...counts.entries()]
-    .filter(([name]) => !name.startsWith("(idle)") && !name.startsWith("(program)"))
+  });
+  const top = [...counts.entries()]
     .sort((a, b) => b[1] - a[1])
     .slice(0, n)
-    .map(([name, count]) => ({ name, selfPct: (100 * count) / total }));
+    .map(([name, count]) => ({ name, selfPct: (100 * count) / Math.max(1, busy) }));
+  return { busyPct: (100 * busy) / Math.max(1, inWindow), top };
 }
 
 export async function run(report: Report): Promise<void> {
@@ -174,7 +187,11 @@ export async function run(report: Report): Promise<void> {
     LOG_LEVEL: "warn",
     DEMO: "on",
     ...(profileDir
-      ? { NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --import ${path.join(ROOT, "tests/bench/cpuProfilePreload.mjs")}`.trim(), BENCH_CPU_PROFILE_DIR: profileDir }
+      ? {
+          NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --import ${path.join(ROOT, "tests/bench/cpuProfilePreload.mjs")}`.trim(),
+          BENCH_CPU_PROFILE_DIR: profileDir,
+          BENCH_CPU_PROFILE_ON: "signal",
+        }
       : {}),
   };
   delete env.DATABASE_URL;
@@ -184,6 +201,9 @@ export async function run(report: Report): Promise<void> {
   const exited = new Promise<void>((resolve) => launcher.once("exit", () => resolve()));
   const cleanups: (() => Promise<unknown> | unknown)[] = [];
   let serverPid: number | null = null;
+  /** Each rate's load, in seconds from the start of the server's profile. */
+  const profileWindows: { rate: number; window: [number, number] }[] = [];
+  let profileStartedAt = 0;
   try {
     const base = `http://127.0.0.1:${port}`;
     const started = Date.now();
@@ -324,6 +344,10 @@ export async function run(report: Report): Promise<void> {
     const rssTimer = setInterval(() => serverPid && rss.push(rssMb(serverPid)), 1_000);
     cleanups.push(() => clearInterval(rssTimer));
 
+    if (profileDir) {
+      profileStartedAt = performance.now();
+      process.kill(serverPid, "SIGUSR2");
+    }
     let lastSentAt = 0;
     for (const rate of RATES) {
       probe.reset();
@@ -370,6 +394,7 @@ export async function run(report: Report): Promise<void> {
         await sleep(1);
       }
       lastSentAt = performance.now();
+      profileWindows.push({ rate, window: [(begin - profileStartedAt) / 1000, (lastSentAt - profileStartedAt) / 1000] });
       offeredTotal += total;
       const seconds = (lastSentAt - begin) / 1000;
       const cpuDuring = cpuSeconds(serverPid) - cpuBefore;
@@ -468,8 +493,12 @@ export async function run(report: Report): Promise<void> {
     if (profileDir && serverPid) {
       const file = fs.readdirSync(profileDir).find((f) => f.includes(`.${serverPid}.`) && f.endsWith(".cpuprofile"));
       if (file) {
-        process.stdout.write(`# server profile: ${path.join(profileDir, file)}\n`);
-        for (const [i, f] of topFunctions(path.join(profileDir, file)).entries()) process.stdout.write(`# top ${i + 1}: ${f.selfPct.toFixed(1)} % self  ${f.name}\n`);
+        process.stdout.write(`# server profile: ${path.join(profileDir, file)} (from the start of the load)\n`);
+        for (const { rate, window } of profileWindows) {
+          const { busyPct, top } = topFunctions(path.join(profileDir, file), 5, window);
+          process.stdout.write(`# ${rate}/s: busy in ${busyPct.toFixed(1)} % of samples; top five by self time, % of busy samples:\n`);
+          for (const [i, f] of top.entries()) process.stdout.write(`#   ${i + 1}. ${f.selfPct.toFixed(1)} %  ${f.name}\n`);
+        }
       }
     }
     fs.rmSync(dataDir, { recursive: true, force: true });
