@@ -5,7 +5,9 @@
  * mailbox and are taken in batches: each input goes through `apply`, the batch's rows are
  * written in ONE transaction, and only after COMMIT does the shell run the effects: aspect
  * commands, `applied` confirmations, PUBACKs, alarms, and ONE push to browsers per batch
- * (a burst of 2,000 pulses a second is a few dozen pushes, not 2,000).
+ * (a burst of 2,000 pulses a second is a few dozen pushes, not 2,000). Boards come first: the
+ * push waits for the next turn of the event loop, after mqtt.js has written the batch's
+ * commands (it writes on the next tick), so no number of browsers delays a signal.
  *
  * Fail-safe: danger needs no commit. When the engine throws, or a commit has been failing or
  * hanging for `failsafeAfterMs` (FAILSAFE_AFTER_MS), every signal is commanded to danger at
@@ -77,6 +79,9 @@ export class LayoutRunner {
   private lastOkAt = 0;
   private alarmChain: Promise<void> = Promise.resolve();
   private idleWaiters: (() => void)[] = [];
+  /** Committed pushes waiting for their turn (after the MQTT writes), in order. */
+  private pushes: { update: LiveUpdate; patches: LivePatch[] }[] = [];
+  private pushTimer: NodeJS.Immediate | null = null;
   private committed: Omit<LiveState, "alarms"> | null = null;
   private alarmsSeen: AlarmDto[] = [];
 
@@ -168,7 +173,7 @@ export class LayoutRunner {
 
   /** Resolves when the mailbox is empty and nothing is being committed (tests, clean stop). */
   idle(): Promise<void> {
-    if (!this.busy && this.mailbox.size === 0) return Promise.resolve();
+    if (this.quiet()) return Promise.resolve();
     return new Promise((resolve) => this.idleWaiters.push(resolve));
   }
 
@@ -186,8 +191,19 @@ export class LayoutRunner {
     this.link?.crash();
   }
 
+  /** Nothing queued, nothing being committed, nothing left to push. */
+  private quiet(): boolean {
+    return !this.busy && this.mailbox.size === 0 && this.pushes.length === 0;
+  }
+
+  private wakeIdle(): void {
+    if (this.quiet() || this.stopped) for (const waiter of this.idleWaiters.splice(0)) waiter();
+  }
+
   private halt(): void {
     this.stopped = true;
+    if (this.pushTimer) clearImmediate(this.pushTimer);
+    this.pushes = [];
     this.committer.stop();
     this.mailbox.clear();
     if (this.clockTimer) clearTimeout(this.clockTimer);
@@ -217,7 +233,7 @@ export class LayoutRunner {
       }
     } finally {
       this.busy = false;
-      if (this.mailbox.size === 0 || this.stopped) for (const waiter of this.idleWaiters.splice(0)) waiter();
+      if (this.mailbox.size === 0 || this.stopped) this.wakeIdle();
       else void this.drain();
     }
   }
@@ -350,10 +366,20 @@ export class LayoutRunner {
     };
   }
 
-  /** One push for a batch's steps (numbered already by `step`). */
+  /** One push for a batch's steps (numbered already by `step`), sent on the next turn. */
   private pushSteps(steps: LiveStep[], patches: LivePatch[], patch: LivePatch): void {
     if (steps.length === 0) return;
-    const update: LiveUpdate = { slug: this.slug, from: steps[0].version, version: steps[steps.length - 1].version, steps, patch };
+    this.pushes.push({ update: { slug: this.slug, from: steps[0].version, version: steps[steps.length - 1].version, steps, patch }, patches });
+    this.pushTimer ??= setImmediate(() => this.flushPushes());
+  }
+
+  private flushPushes(): void {
+    this.pushTimer = null;
+    for (const { update, patches } of this.pushes.splice(0)) this.emitUpdate(update, patches);
+    this.wakeIdle();
+  }
+
+  private emitUpdate(update: LiveUpdate, patches: LivePatch[]): void {
     try {
       this.deps.bus.emit("live.update", update, patches);
     } catch (err) {
