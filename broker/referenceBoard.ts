@@ -47,6 +47,8 @@ export interface ReferenceBoardOptions {
   onShown?: (signal: string, aspect: Aspect, rev: number) => void;
   /** Every aspect command heard, newest rev per signal. */
   onAspect?: (signal: string, payload: AspectPayload) => void;
+  /** An `applied` for this boot arrived (benches time pulse → applied with it). */
+  onApplied?: (seq: number) => void;
   now?: () => number;
 }
 
@@ -195,6 +197,7 @@ export class ReferenceBoard {
 
   /** Keeps an already numbered message (a player that counts seqs itself must count them in order). */
   keep(kind: "pulse" | "points", payload: Record<string, unknown> & { seq: number; boot: string }): Promise<void> {
+    if (payload.boot !== this.boot) this.reboot(payload.boot); // the player powered up anew
     this.seq = Math.max(this.seq, payload.seq);
     const topic = kind === "pulse" ? topics.pulse(this.options.layout, this.options.node) : topics.points(this.options.layout, this.options.node);
     return new Promise((resolve) => {
@@ -252,6 +255,7 @@ export class ReferenceBoard {
       const p = appliedPayloadSchema.safeParse(json);
       if (!p.success || p.data.boot !== this.boot) return;
       this.coveredSeq = Math.max(this.coveredSeq, p.data.seq);
+      this.options.onApplied?.(p.data.seq);
       for (const [seq, out] of this.outbox) {
         if (seq > this.coveredSeq) break; // kept in seq order
         out.done();

@@ -22,6 +22,8 @@ import { auditRoutes } from "./features/audit/routes";
 import { displayRoutes } from "./features/display/routes";
 import { mailRoutes } from "./features/mail/routes";
 import { memberRoutes } from "./features/members/routes";
+import { templateRoutes } from "./features/templates/routes";
+import { setupRoutes } from "./features/setup/routes";
 import { errorHandler, notFoundApi } from "./http/errors";
 
 /** Layout files with large schematics and simulator input lists stay well under this. */
@@ -44,6 +46,8 @@ export const API_ROUTERS: ApiRouterFactory[] = [
   displayRoutes,
   mailRoutes,
   memberRoutes,
+  templateRoutes,
+  setupRoutes,
 ];
 
 export function createApp(deps: AppDeps, extraRouters: ApiRouterFactory[] = []): Express {

@@ -8,6 +8,14 @@ import type { AlarmDto, LivePatch, LiveUpdate } from "../shared/contract/live";
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];
   "layout.nodes-changed": [{ layoutId: number; slug: string }];
+  /** The records (lines, detectors, signals, points, nodes, schematic) were saved. */
+  "layout.records-changed": [{ layoutId: number; slug: string; revision: number }];
+  /** An admin archived a layout: it must stop running live (the live runtime listens). */
+  "layout.archived": [{ layoutId: number; slug: string }];
+  /** An archived layout was restored: it runs live again if it has a published rulebook. */
+  "layout.restored": [{ layoutId: number; slug: string }];
+  /** A published version's proof was refuted (the alarm is raised when it is the live one). */
+  "rulebook.refuted": [{ layoutId: number; slug: string; version: number; live: boolean }];
   /**
    * A committed batch of a layout's live pipeline, to push to its room once; beside it each
    * step's own patch, in step order (for listeners that need a step's state, as the watchers).

@@ -23,4 +23,9 @@ export interface AppDeps {
   live?: LiveRuntime;
   /** Outgoing mail (SMTP_URL or the local fake server); without it mail is only recorded in the outbox. */
   mail?: Mailer;
+  /** Milliseconds since the epoch; tests pass their own to step past expiry without sleeping. */
+  clock?: () => number;
 }
+
+/** The time as the deps see it (the real clock unless a test injected one). */
+export const nowMs = (deps: Pick<AppDeps, "clock">): number => (deps.clock ? deps.clock() : Date.now());

@@ -18,6 +18,8 @@ import { closeProofJobs } from "./features/prove/service";
 import { startAlarmWatchers } from "./features/alarms/watchRunner";
 import { startAlarmMail } from "./features/mail/alarmMail";
 import { startMailer } from "./features/mail/service";
+import { setupBannerLines } from "./features/setup/announce";
+import { prepareSetupToken } from "./features/setup/service";
 import { createLogger } from "./logger";
 import { startLiveRuntime } from "./runtime/liveRuntime";
 import { runtimeDeps } from "./runtimeDeps";
@@ -115,7 +117,8 @@ async function main(): Promise<void> {
   logger.info({ url, startupMs: Date.now() - startedAt }, "Blocklight is up");
   // Under the launcher, the launcher prints the one banner people should read.
   if (!process.env.BLOCKLIGHT_SUPERVISED) {
-    process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n\n`);
+    const setup = setupBannerLines(url, await prepareSetupToken(deps), config.dataDir);
+    process.stdout.write(`\nBlocklight is running at ${url}  (started in ${((Date.now() - startedAt) / 1000).toFixed(1)} s; Ctrl-C stops it)\n${setup.map((l) => l + "\n").join("")}\n`);
   }
 }
 

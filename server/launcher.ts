@@ -25,6 +25,8 @@ import { configFromEnv, type AppConfig } from "./config";
 import { openDatabase } from "./db/database";
 import { startEmbeddedPostgres, type EmbeddedPostgres } from "./db/embeddedPostgres";
 import { DEMO_PASSWORD, demoEmail, issueDemoNodeSecrets, seedDemo } from "./db/seed/demo";
+import { setupBannerLines } from "./features/setup/announce";
+import { prepareSetupToken } from "./features/setup/service";
 import { createLogger } from "./logger";
 import { loadOrCreateSecret } from "./secrets";
 import { SupervisedChild } from "./supervisor";
@@ -46,6 +48,8 @@ const children: SupervisedChild[] = [];
 let pg: EmbeddedPostgres | null = null;
 let shuttingDown = false;
 let lockDir: string | null = null;
+/** Set while no account exists: the banner prints the setup link. */
+let setupToken: string | null = null;
 
 async function shutdown(reason: string, exitCode = 0): Promise<never> {
   if (shuttingDown) return new Promise<never>(() => {});
@@ -163,6 +167,7 @@ async function prepareDatabase(config: AppConfig): Promise<string> {
       say(`demo data ready (Fernmoor Garden Railway Society${added || "; already seeded"})`);
       if (issued.length) say(`demo board secrets issued for ${issued.join("; ")} → ${path.join(config.dataDir, "secrets", "nodes")}`);
     }
+    setupToken = await prepareSetupToken({ db, config });
   } finally {
     await db.close();
   }
@@ -253,6 +258,7 @@ async function main(): Promise<void> {
           `    password "${DEMO_PASSWORD}" (public: never run a real layout with them; DEMO=off starts a real install)`,
         ]
       : []),
+    ...setupBannerLines(url, setupToken, config.dataDir),
     "  Blocklight is an operating aid, not a certified interlocking: keep independent protection on passenger-carrying lines.",
     "",
   ];

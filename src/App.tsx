@@ -1,5 +1,6 @@
 import { lazy, Suspense } from "react";
 import { Route, Routes } from "react-router-dom";
+import { AdminOnly } from "./components/shell/AdminOnly";
 import { AppShell } from "./components/shell/AppShell";
 import { RequireAuth } from "./components/shell/RequireAuth";
 import { Loading } from "./components/ui/Status";
@@ -22,6 +23,10 @@ const InvitePage = lazy(() => import("./pages/InvitePage"));
 const PlacementPage = lazy(() => import("./pages/PlacementPage"));
 const SessionsPage = lazy(() => import("./pages/SessionsPage"));
 const ReplayPage = lazy(() => import("./pages/ReplayPage"));
+const SetupPage = lazy(() => import("./pages/SetupPage"));
+const AccountPage = lazy(() => import("./pages/AccountPage"));
+const ForgotPasswordPage = lazy(() => import("./pages/ForgotPasswordPage"));
+const ResetPasswordPage = lazy(() => import("./pages/ResetPasswordPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -32,6 +37,9 @@ export function App() {
         {/* Visitors hold a display link, not an account: no sign-in, no shell. */}
         <Route path="/display/:token" element={<DisplayPage />} />
         <Route path="/invite/:token" element={<InvitePage />} />
+        <Route path="/setup" element={<SetupPage />} />
+        <Route path="/forgot-password" element={<ForgotPasswordPage />} />
+        <Route path="/reset-password/:token" element={<ResetPasswordPage />} />
         <Route
           element={
             <RequireAuth>
@@ -49,9 +57,32 @@ export function App() {
           <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
           <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />
-          <Route path="layouts/:slug/display-links" element={<DisplayLinksPage />} />
-          <Route path="admin/outbox" element={<OutboxPage />} />
-          <Route path="admin/members" element={<MembersPage />} />
+          <Route path="account" element={<AccountPage />} />
+          {/* Admin pages show non-admins only "this page is for admins", and run none of their queries. */}
+          <Route
+            path="layouts/:slug/display-links"
+            element={
+              <AdminOnly action="display-links.manage">
+                <DisplayLinksPage />
+              </AdminOnly>
+            }
+          />
+          <Route
+            path="admin/outbox"
+            element={
+              <AdminOnly action="outbox.read">
+                <OutboxPage />
+              </AdminOnly>
+            }
+          />
+          <Route
+            path="admin/members"
+            element={
+              <AdminOnly action="members.manage">
+                <MembersPage />
+              </AdminOnly>
+            }
+          />
           <Route path="*" element={<NotFoundPage />} />
         </Route>
       </Routes>

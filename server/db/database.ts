@@ -8,6 +8,8 @@ import * as initial from "./migrations/001-initial";
 import * as live from "./migrations/002-live";
 import * as importedSessions from "./migrations/003-imported-sessions";
 import * as sequencing from "./migrations/004-sequencing";
+import * as accounts from "./migrations/006-accounts";
+import * as workbench from "./migrations/007-workbench";
 import * as groupedAlarms from "./migrations/009-grouped-alarms";
 import { defineModels, type Models } from "./models";
 
@@ -22,6 +24,8 @@ const MIGRATIONS = [
   { name: "002-live", ...live },
   { name: "003-imported-sessions", ...importedSessions },
   { name: "004-sequencing", ...sequencing },
+  { name: "006-accounts", ...accounts },
+  { name: "007-workbench", ...workbench },
   { name: "009-grouped-alarms", ...groupedAlarms },
 ];
 

@@ -112,9 +112,16 @@ export class Committer {
 
   /** After an uncertain failure: did the batch commit after all? Its event ids if so. */
   private async landed(batch: Batch): Promise<CommitResult | null> {
-    const rows = await eventIdsAfter(poolQuery(this.pool), this.layoutId, this.lastId);
-    if (rows.length === 0) return null;
-    if (rows.length !== batch.events.length) throw new Error(`the event log moved by ${rows.length} rows, not this batch's ${batch.events.length}`);
+    const after = await eventIdsAfter(poolQuery(this.pool), this.layoutId, this.lastId);
+    const rows = after.slice(-batch.events.length);
+    const same =
+      rows.length === batch.events.length &&
+      rows.every((r, i) => r.kind === batch.events[i].kind && r.node_id === batch.events[i].node && (r.seq === null ? null : Number(r.seq)) === batch.events[i].seq);
+    if (!same) {
+      // Not ours (rows another writer left, e.g. a runtime that crashed mid-commit): look after them next time.
+      if (after.length) this.lastId = after[after.length - 1].id;
+      return null;
+    }
     const sessionIds = new Map<number, number>();
     batch.events.forEach((event, i) => {
       if (event.session && "temp" in event.session && rows[i].session_id !== null) sessionIds.set(event.session.temp, rows[i].session_id);

@@ -104,7 +104,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     return runner;
   };
 
-  const { rows } = await pool.query<{ id: number; slug: string }>(`SELECT id, slug FROM layouts WHERE live_version IS NOT NULL ORDER BY id`);
+  const { rows } = await pool.query<{ id: number; slug: string }>(`SELECT id, slug FROM layouts WHERE live_version IS NOT NULL AND archived_at IS NULL ORDER BY id`);
   for (const layout of rows) await startRunner(layout);
 
   const onPublished = ({ layoutId, slug, version }: { layoutId: number; slug: string; version: number }) => {
@@ -126,8 +126,25 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     })();
   };
   const onNodes = ({ layoutId }: { layoutId: number }) => void byId.get(layoutId)?.reloadNodes().catch((err) => deps.logger.error({ err }, "could not reload nodes"));
+  // Seam for archive/restore (server/features/layouts/edit.ts): an archived layout stops at
+  // once with every signal at danger; a restored one starts again from its stored state.
+  const onArchived = ({ layoutId, slug }: { layoutId: number; slug: string }) => {
+    const runner = byId.get(layoutId);
+    if (!runner) return;
+    runners.delete(slug);
+    byId.delete(layoutId);
+    void runner.retire("the layout was archived").catch((err) => deps.logger.error({ err, slug }, "could not stop an archived layout"));
+  };
+  const onRestored = ({ layoutId, slug }: { layoutId: number; slug: string }) => {
+    void (async () => {
+      const { rows: live } = await pool.query<{ live_version: number | null }>(`SELECT live_version FROM layouts WHERE id = $1`, [layoutId]);
+      if (!byId.has(layoutId) && live[0]?.live_version != null) await startRunner({ id: layoutId, slug });
+    })().catch((err) => deps.logger.error({ err, slug }, "could not start a restored layout"));
+  };
   deps.bus.on("rulebook.published", onPublished);
   deps.bus.on("layout.nodes-changed", onNodes);
+  deps.bus.on("layout.archived", onArchived);
+  deps.bus.on("layout.restored", onRestored);
 
   const need = (slug: string) => {
     const runner = runners.get(slug);
@@ -137,6 +154,8 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
   const detach = () => {
     deps.bus.off("rulebook.published", onPublished);
     deps.bus.off("layout.nodes-changed", onNodes);
+    deps.bus.off("layout.archived", onArchived);
+    deps.bus.off("layout.restored", onRestored);
   };
   const links = () => [...runners.values()];
 

@@ -18,6 +18,7 @@ import type { AlarmDto, CommandBody, LivePatch, LiveState, LiveStep, LiveUpdate 
 import type { EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { commitBatch, emptyBatch, poolQuery, type Batch, type CommitResult, type PendingEvent } from "./eventLog";
+import { AlarmOutbox, type AlarmEffect } from "./alarmOutbox";
 import { Committer } from "./committer";
 import { appendStep, apply, declareOutage, endOutage, finishBatch, nextDue, type CommandUser, type CoreInput } from "./core/apply";
 import { currentBoots, waitingCount } from "./core/sequencer";
@@ -67,6 +68,7 @@ export class LayoutRunner {
   private link: LayoutLink | null = null;
   private readonly mailbox = new Mailbox<Item>();
   private readonly committer: Committer;
+  private readonly alarms: AlarmOutbox;
   /** Handles of board messages and callers, settled after their commit. */
   private readonly settles = new Map<number, Settle>();
   private nextRef = 0;
@@ -77,7 +79,6 @@ export class LayoutRunner {
   private clockTimer: NodeJS.Timeout | null = null;
   private watchdog: NodeJS.Timeout | null = null;
   private lastOkAt = 0;
-  private alarmChain: Promise<void> = Promise.resolve();
   private idleWaiters: (() => void)[] = [];
   /** Committed pushes waiting for their turn (after the MQTT writes), in order. */
   private pushes: { update: LiveUpdate; patches: LivePatch[] }[] = [];
@@ -94,6 +95,7 @@ export class LayoutRunner {
     this.layoutId = layout.id;
     this.slug = layout.slug;
     this.committer = new Committer(pool, layout.id, deps.logger, options.now);
+    this.alarms = new AlarmOutbox(deps, layout.id, layout.slug);
   }
 
   get rulebook(): Rulebook {
@@ -124,6 +126,10 @@ export class LayoutRunner {
   onConnect(): void {
     if (!this.core) return;
     this.publishAspects(true);
+    // Those revs are new: keep the stored reservation ahead of them (a restart never reuses a rev).
+    this.pool
+      .query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [this.layoutId, revReservation(this.core)])
+      .catch((err) => this.deps.logger.warn({ err, layout: this.slug }, "could not store the aspect rev"));
     for (const { node, boot, seq } of currentBoots(this.core.seqs)) if (seq > 0) this.link?.publishApplied(node, { boot, seq });
   }
 
@@ -180,9 +186,17 @@ export class LayoutRunner {
   /** Clean stop: finish what is queued, then the timers and the link. */
   async stop(): Promise<void> {
     await this.idle();
-    await this.alarmChain;
+    await this.alarms.flushed();
     this.halt();
     await this.link?.stop();
+  }
+
+  /** Taken out of service (the layout was archived): every signal to danger, then a clean stop. */
+  async retire(reason: string): Promise<void> {
+    await this.idle();
+    this.core.pipelineFault ??= { reason, at: this.options.now() };
+    this.failSafeNow();
+    await this.stop();
   }
 
   /** Crash: drop the mailbox and timers at once, acknowledging nothing more. */
@@ -293,7 +307,7 @@ export class LayoutRunner {
     const now = this.options.now();
     this.publishAspects();
     const coveredNow = new Map<string, { node: string; boot: string; seq: number }>();
-    const alarms: { effect: Extract<Effect, { type: "alarm" | "clear" }>; eventId: string | null }[] = [];
+    const alarms: AlarmEffect[] = [];
     const steps: LiveStep[] = [];
     const patches: LivePatch[] = [];
     const patch: LivePatch = {};
@@ -332,23 +346,8 @@ export class LayoutRunner {
       this.settles.delete(effect.ref);
       settle?.(effect.error);
     }
-    if (alarms.length) this.raiseAlarms(alarms);
+    if (alarms.length) this.alarms.send(alarms, core.session && "id" in core.session.ref ? core.session.ref.id : null);
     this.armClock(now);
-  }
-
-  private raiseAlarms(alarms: { effect: Extract<Effect, { type: "alarm" | "clear" }>; eventId: string | null }[]): void {
-    const sessionId = this.core.session && "id" in this.core.session.ref ? this.core.session.ref.id : null;
-    this.alarmChain = this.alarmChain.then(async () => {
-      for (const { effect, eventId } of alarms) {
-        try {
-          if (effect.type === "alarm") {
-            await this.deps.alarms.raise({ layoutId: this.layoutId, kind: effect.kind, subject: effect.subject, message: effect.message, eventId, sessionId });
-          } else await this.deps.alarms.clear(this.layoutId, effect.kind, effect.subject);
-        } catch (err) {
-          this.deps.logger.error({ err, layout: this.slug }, "could not store an alarm");
-        }
-      }
-    });
   }
 
   /** Commands every signal whose shown aspect differs from what its board was last told (all of them with `all`). */

@@ -6,6 +6,7 @@ import { z } from "zod";
 import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../layout/schema";
 import type { ProvingRoute } from "../rulebook/schema";
 import type { AlarmDto, AlarmKind } from "./live";
+import { passwordSchema } from "./accounts";
 import { roleSchema, type Role } from "./rest";
 
 export interface AuditEntryDto {
@@ -86,6 +87,7 @@ export interface InvitationDto {
   createdAt: string;
   expiresAt: string;
   acceptedAt: string | null;
+  revokedAt: string | null;
 }
 export interface MembersResponse {
   members: MemberDto[];
@@ -100,7 +102,7 @@ export type InvitationBody = z.infer<typeof invitationBodySchema>;
 
 export const acceptInvitationBodySchema = z.strictObject({
   name: z.string().trim().min(1, "give your name").max(120),
-  password: z.string().min(10, "use at least 10 characters").max(200),
+  password: passwordSchema,
 });
 export type AcceptInvitationBody = z.infer<typeof acceptInvitationBodySchema>;
 

@@ -28,6 +28,8 @@ export interface UserDto {
   email: string;
   name: string;
   role: Role;
+  /** Whether alarms are mailed to this member. */
+  alarmMail: boolean;
 }
 export interface MeResponse {
   user: UserDto;
@@ -55,6 +57,9 @@ export interface RulebookVersionSummary {
   author: string | null;
   note: string | null;
   createdAt: string;
+  /** The verdict of the version's last proof; null when it was never proved. */
+  verdict: "proved" | "refuted" | "unfinished" | null;
+  provedAt: string | null;
 }
 export interface RulebookVersionDetail extends RulebookVersionSummary {
   rulebook: Rulebook;
@@ -66,6 +71,8 @@ export interface LayoutSummary {
   name: string;
   scale: { name: string; ratio: number };
   liveVersion: number | null;
+  /** An archived layout does not run live and is read-only. */
+  archived: boolean;
   detectorCount: number;
   signalCount: number;
   nodeCount: number;
@@ -79,6 +86,7 @@ export interface NodeDto {
   name: string;
   detectors: string[];
   signals: string[];
+  points: string[];
 }
 
 export interface LayoutDetail {
@@ -92,6 +100,10 @@ export interface LayoutDetail {
   nodes: NodeDto[];
   schematic: Record<string, unknown> | null;
   versions: RulebookVersionSummary[];
+  /** Send this back with `PUT /api/layouts/:slug`; it grows by one with every save. */
+  revision: number;
+  liveVersion: number | null;
+  archivedAt: string | null;
 }
 export interface LayoutResponse {
   layout: LayoutDetail;
@@ -102,8 +114,10 @@ export const createNodeBodySchema = z.strictObject({
   name: z.string().min(1).max(120),
   detectors: z.array(idSchema).default([]),
   signals: z.array(idSchema).default([]),
+  points: z.array(idSchema).default([]),
 });
-export type CreateNodeBody = z.infer<typeof createNodeBodySchema>;
+/** What a client sends (lists may be left out); the server works on the parsed form. */
+export type CreateNodeBody = z.input<typeof createNodeBodySchema>;
 export interface CreateNodeResponse {
   id: string;
   /** Shown only in this response; stored hashed. */
@@ -139,7 +153,8 @@ export interface PublishResponse {
 export type ProofMoveDto =
   | { type: "arrive"; route: string; axles: number }
   | { type: "pulse"; detector: string; route: string; train: number }
-  | { type: "quiet"; rule: string };
+  | { type: "quiet"; rule: string }
+  | { type: "points"; points: string; lies: "normal" | "reverse" | "moving" };
 
 export interface ProofPropertyDto {
   id: string;

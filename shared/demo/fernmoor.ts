@@ -4,8 +4,8 @@
  * - Kestrel Bank Junction: the main line climbs the bank at 1 in 40 and the quarry branch
  *   joins it on the bank. Main-line trains have priority so they are never stopped on the
  *   gradient. Axle-counted converging junction (see `templates.ts`).
- * - Wrenfold Loop: a facing junction into a passing loop; the rulebook sends each train to
- *   the first free road and a points board follows the `road` selector.
+ * - Wrenfold Loop: a facing junction into a passing loop with power-worked points; the rulebook
+ *   sends each train to the first free road and throws the points, whose board reports them.
  *
  * Distances are metres of model track. Approach detectors sit about 10 m before their
  * signal, entry detectors level with it, exit detectors beyond the fouling point. The same
@@ -74,7 +74,7 @@ export function kestrelBankLayout(): LayoutFile {
   };
 }
 
-/** Wrenfold Loop: a facing junction into a passing loop, first free road. */
+/** Wrenfold Loop: a facing junction into a passing loop, power-worked points, first free road. */
 export function wrenfoldLoopLayout(): LayoutFile {
   return {
     format: LAYOUT_FORMAT,
@@ -94,10 +94,10 @@ export function wrenfoldLoopLayout(): LayoutFile {
       { id: "LZ", name: "Loop road end", line: "loop", at: 21.5 },
     ],
     signals: [{ id: "W1", name: "Wrenfold home", line: "main", at: 12.0, aspects: ["danger", "caution", "clear"] }],
-    points: [{ id: "P2", name: "Loop points", line: "main", at: 14.5 }],
+    points: [{ id: "P2", name: "Loop points", line: "main", at: 14.5, worked: "power" }],
     nodes: [
       { id: "wrenfold-home", name: "Home signal board", detectors: ["WA", "WE"], signals: ["W1"] },
-      { id: "loop-points", name: "Loop points board", detectors: ["TX", "LX"], signals: [] },
+      { id: "loop-points", name: "Loop points board", detectors: ["TX", "LX"], signals: [], points: ["P2"] },
       { id: "loop-end", name: "Loop end board", detectors: ["TZ", "LZ"], signals: [] },
     ],
     schematic: {
@@ -121,7 +121,7 @@ export function wrenfoldLoopLayout(): LayoutFile {
         { id: "through", exit: ["TX", "TZ"] },
         { id: "loop", exit: ["LX", "LZ"] },
       ],
-      choose: "first-free",
+      worked: "power",
       maxAxles: 2,
       maxTrainsPerRoute: 2,
     }),

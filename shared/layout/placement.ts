@@ -39,7 +39,12 @@ export function scaleSpeedFromTiming(distanceM: number, seconds: number, ratio: 
   return { modelMps, prototypeKmh: prototypeKmh(modelMps, ratio), prototypeMph: prototypeMph(modelMps, ratio) };
 }
 
-export type SpeedInput = { prototypeKmh: number } | { modelMps: number } | { distanceM: number; seconds: number };
+export type SpeedInput = { prototypeKmh: number } | { prototypeMph: number } | { modelMps: number } | { distanceM: number; seconds: number };
+
+/** Prototype miles per hour → model metres per second at the given scale ratio. */
+export function modelMpsFromMph(prototypeMph: number, ratio: number): number {
+  return (prototypeMph * METRES_PER_MILE) / SECONDS_PER_HOUR / ratio;
+}
 
 export interface ApproachInput {
   /** Scale ratio, e.g. 22.5 for 1:22.5. */
@@ -71,6 +76,7 @@ export interface ApproachResult {
 
 function modelSpeed(speed: SpeedInput, ratio: number): number {
   if ("prototypeKmh" in speed) return modelMpsFromKmh(speed.prototypeKmh, ratio);
+  if ("prototypeMph" in speed) return modelMpsFromMph(speed.prototypeMph, ratio);
   if ("modelMps" in speed) return speed.modelMps;
   return scaleSpeedFromTiming(speed.distanceM, speed.seconds, ratio).modelMps;
 }
@@ -123,7 +129,7 @@ export interface ClearanceInput {
 }
 
 /** Positions are measured, so differences below a micrometre are rounding, not distance. */
-const POSITION_TOLERANCE_M = 1e-6;
+export const POSITION_TOLERANCE_M = 1e-6;
 
 export interface ClearanceFinding {
   ok: boolean;

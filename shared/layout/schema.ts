@@ -25,30 +25,66 @@ export const signalSchema = z.strictObject({
   at: metres,
   aspects: z.array(aspectSchema).min(1),
 });
-export const pointsSchema = z.strictObject({ id: idSchema, name: nameText, line: idSchema, at: metres });
+/** How points are moved: by a board on the rulebook's `throw` ("power") or by a person ("hand"). */
+export const POINTS_WORKING = ["power", "hand"] as const;
+export const pointsWorkingSchema = z.enum(POINTS_WORKING);
+export const pointsSchema = z.strictObject({
+  id: idSchema,
+  name: nameText,
+  line: idSchema,
+  at: metres,
+  /** Absent in older `/1` files: such points are hand-worked (CONTRACT.md §3); see {@link pointsWorking}. */
+  worked: pointsWorkingSchema.optional(),
+});
 export const nodeSchema = z.strictObject({
   id: idSchema,
   name: nameText,
   detectors: z.array(idSchema).default([]),
   signals: z.array(idSchema).default([]),
+  /** Points whose position this board reports or which it drives (absent in older `/1` files = none). */
+  points: z.array(idSchema).optional(),
 });
 
-export const layoutFileSchema = z.strictObject({
+/** How a points is worked, `hand` when the file does not say (CONTRACT.md §3). */
+export function pointsWorking(points: { worked?: PointsWorking }): PointsWorking {
+  return points.worked ?? "hand";
+}
+export type PointsWorking = z.infer<typeof pointsWorkingSchema>;
+
+export const scaleSchema = z.strictObject({
+  name: z.string().min(1).max(40),
+  /** 1:ratio, e.g. 22.5 for G scale. */
+  ratio: z.number().positive().max(1000),
+});
+
+/** Every record list is bounded so one upload cannot ask for unbounded work. */
+export const MAX_RECORDS_PER_KIND = 500;
+
+/** The layout's records and schematic: everything of a layout file except its rulebook. */
+export const layoutRecordsSchema = z.strictObject({
   format: z.literal(LAYOUT_FORMAT),
   slug: slugSchema,
   name: nameText,
-  scale: z.strictObject({ name: z.string().min(1).max(40), ratio: z.number().positive() }),
-  lines: z.array(lineSchema).min(1),
-  detectors: z.array(detectorSchema).default([]),
-  signals: z.array(signalSchema).default([]),
-  points: z.array(pointsSchema).default([]),
-  nodes: z.array(nodeSchema).default([]),
-  /** Drawing coordinates for the mimic; free-form so the editor can grow. */
+  scale: scaleSchema,
+  /** A layout just created has no lines yet; a file to import needs at least one. */
+  lines: z.array(lineSchema).max(MAX_RECORDS_PER_KIND),
+  detectors: z.array(detectorSchema).max(MAX_RECORDS_PER_KIND).default([]),
+  signals: z.array(signalSchema).max(MAX_RECORDS_PER_KIND).default([]),
+  points: z.array(pointsSchema).max(MAX_RECORDS_PER_KIND).default([]),
+  nodes: z.array(nodeSchema).max(MAX_RECORDS_PER_KIND).default([]),
+  /** Drawing coordinates for the mimic; free-form so the editor can grow (docs/formats.md). */
   schematic: z.record(z.string(), z.unknown()).optional(),
+});
+
+export const layoutFileSchema = layoutRecordsSchema.extend({
+  lines: z.array(lineSchema).min(1).max(MAX_RECORDS_PER_KIND),
   rulebook: rulebookSchema,
 });
 
 export type LayoutFile = z.infer<typeof layoutFileSchema>;
+export type LayoutRecords = z.infer<typeof layoutRecordsSchema>;
+export type LayoutRecordsInput = z.input<typeof layoutRecordsSchema>;
+export type LayoutScale = z.infer<typeof scaleSchema>;
 export type LayoutFileInput = z.input<typeof layoutFileSchema>;
 export type LayoutLine = z.infer<typeof lineSchema>;
 export type LayoutDetector = z.infer<typeof detectorSchema>;

@@ -5,7 +5,8 @@
  * describeRule({ id: "main-approach", on: { pass: "MA" }, do: [{ add: "mainApproach", by: 1 }] });
  * // "When a wheelset passes MA: add 1 to mainApproach."
  */
-import type { Action, Comparison, Condition, Rule, Trigger } from "./schema";
+import { matchAction, matchCondition, matchTrigger } from "./kinds";
+import type { Action, Comparison, Condition, PointsLie, Rule, Trigger } from "./schema";
 
 const COMPARISON_WORDS: Record<Comparison, string> = {
   "==": "is",
@@ -30,44 +31,64 @@ function nested(condition: Condition): string {
 
 /** A condition as words, e.g. `junction is 0`, `shuntLock is set`, `M1 is showing clear`. */
 export function describeCondition(condition: Condition): string {
-  if ("latch" in condition) return `${condition.latch} is set`;
-  if ("count" in condition) return `${condition.count} ${COMPARISON_WORDS[condition.op]} ${condition.value}`;
-  if ("selector" in condition) return `${condition.selector} is ${condition.is}`;
-  if ("aspect" in condition) return `${condition.aspect} is asked to show ${condition.is}`;
-  if ("not" in condition) {
-    const inner = condition.not;
-    if ("latch" in inner) return `${inner.latch} is not set`;
-    if ("selector" in inner) return `${inner.selector} is not ${inner.is}`;
-    if ("aspect" in inner) return `${inner.aspect} is not asked to show ${inner.is}`;
-    return `it is not the case that ${nested(inner)}`;
-  }
-  if ("all" in condition) {
-    if (condition.all.length === 0) return "always";
-    return joinWords(condition.all.map(nested), "and");
-  }
-  if (condition.any.length === 0) return "never";
-  return joinWords(condition.any.map(nested), "or");
+  return matchCondition(condition, {
+    latch: (c) => `${c.latch} is set`,
+    count: (c) => `${c.count} ${COMPARISON_WORDS[c.op]} ${c.value}`,
+    selector: (c) => `${c.selector} is ${c.is}`,
+    aspect: (c) => `${c.aspect} is asked to show ${c.is}`,
+    points: (c) => (c.lies === "unknown" ? `where ${c.points} lie is not yet reported` : `${c.points} ${POINTS_LIE_WORDS[c.lies]}`),
+    not: ({ not: inner }) =>
+      matchCondition(inner, {
+        latch: (c) => `${c.latch} is not set`,
+        count: () => `it is not the case that ${nested(inner)}`,
+        selector: (c) => `${c.selector} is not ${c.is}`,
+        aspect: (c) => `${c.aspect} is not asked to show ${c.is}`,
+        points: (c) => (c.lies === "unknown" ? `where ${c.points} lie has been reported` : `${c.points} ${POINTS_NOT_LIE_WORDS[c.lies]}`),
+        not: () => `it is not the case that ${nested(inner)}`,
+        all: () => `it is not the case that ${nested(inner)}`,
+        any: () => `it is not the case that ${nested(inner)}`,
+      }),
+    all: (c) => (c.all.length === 0 ? "always" : joinWords(c.all.map(nested), "and")),
+    any: (c) => (c.any.length === 0 ? "never" : joinWords(c.any.map(nested), "or")),
+  });
 }
+
+const POINTS_LIE_WORDS: Record<PointsLie, string> = {
+  normal: "lie normal",
+  reverse: "lie reverse",
+  moving: "are moving",
+};
+const POINTS_NOT_LIE_WORDS: Record<PointsLie, string> = {
+  normal: "do not lie normal",
+  reverse: "do not lie reverse",
+  moving: "are not moving",
+};
 
 /** An action as words, e.g. `add 1 to mainApproach`, `show clear on M1`. */
 export function describeAction(action: Action): string {
-  if ("set" in action) return `set ${action.set}`;
-  if ("clear" in action) return `clear ${action.clear}`;
-  if ("add" in action) {
-    return action.by < 0 ? `take ${-action.by} from ${action.add}` : `add ${action.by} to ${action.add}`;
-  }
-  if ("zero" in action) return `set ${action.zero} to 0`;
-  if ("select" in action) return `set ${action.select} to ${action.value}`;
-  if ("show" in action) return `show ${action.aspect} on ${action.show}`;
-  return `raise the alarm "${action.alarm}"`;
+  return matchAction(action, {
+    set: (a) => `set ${a.set}`,
+    clear: (a) => `clear ${a.clear}`,
+    add: (a) => (a.by < 0 ? `take ${-a.by} from ${a.add}` : `add ${a.by} to ${a.add}`),
+    zero: (a) => `set ${a.zero} to 0`,
+    select: (a) => `set ${a.select} to ${a.value}`,
+    show: (a) => `show ${a.aspect} on ${a.show}`,
+    throw: (a) => `throw ${a.throw} ${a.to}`,
+    alarm: (a) => `raise the alarm "${a.alarm}"`,
+  });
 }
 
 function describeTrigger(trigger: Trigger): string {
-  if (trigger === "standing") return "Whenever";
-  if ("pass" in trigger) return `When a wheelset passes ${trigger.pass}`;
-  const seconds = trigger.ms / 1000;
-  const span = trigger.ms % 1000 === 0 ? `${seconds} s` : `${trigger.ms} ms`;
-  return `When ${trigger.quiet} has been quiet for ${span}`;
+  return matchTrigger(trigger, {
+    standing: () => "Whenever",
+    pass: (t) => `When a wheelset passes ${t.pass}`,
+    moved: (t) => `When ${t.moved} are reported lying otherwise`,
+    quiet: (t) => {
+      const seconds = t.ms / 1000;
+      const span = t.ms % 1000 === 0 ? `${seconds} s` : `${t.ms} ms`;
+      return `When ${t.quiet} has been quiet for ${span}`;
+    },
+  });
 }
 
 /** A trigger on its own, e.g. in a list of what changed: "When a wheelset passes MA". */

@@ -48,12 +48,15 @@
  *   by a show action, an aspect condition or a proving route, in order of first mention. A
  *   signal not in `initial` starts with wanted aspect danger.
  */
+import { matchAction, matchCondition, matchTrigger, unreachable } from "./kinds";
 import { signalsMentioned } from "./mentions";
-import type { Action, Aspect, Condition, Rule, Rulebook } from "./schema";
+import type { Action, Aspect, Condition, PointsLie, PointsPosition, Rule, Rulebook } from "./schema";
 
 export type EngineInput =
   | { type: "pulse"; detector: string; at: number }
   | { type: "tick"; at: number }
+  /** A board's report of where points lie (CONTRACT.md §2 `…/node/{node}/points`). */
+  | { type: "points"; points: string; lies: PointsLie; at: number }
   | { type: "command"; at: number; command: "hold" | "release"; signal: string; by?: string; reason?: string }
   | { type: "command"; at: number; command: "set" | "clear"; latch: string; by?: string; reason?: string }
   | { type: "command"; at: number; command: "zero"; counter: string; by?: string; reason?: string }
@@ -72,9 +75,18 @@ export interface EngineState {
   /** Armed quiet triggers: rule id → deadline (ms). */
   quiet: Record<string, number>;
   faulted: null | { reason: string; at: number };
+  /** Where each points lie as last reported (absent: `unknown`, no report yet). */
+  points: Record<string, PointsLie>;
+  /** Where the rules last threw each power-worked points (absent: never thrown). */
+  thrown: Record<string, PointsPosition>;
 }
 
-export type ChangeKind = "latch" | "counter" | "selector" | "wanted" | "held" | "quiet" | "fault" | "alarm" | "shown";
+/**
+ * `points`: a report recorded where points lie (from → to). `throw`: the rules threw power-worked
+ * points (from = where last thrown or null, to = the new position): the effect a live runner
+ * publishes on `…/points/{id}/set`.
+ */
+export type ChangeKind = "latch" | "counter" | "selector" | "wanted" | "held" | "quiet" | "fault" | "alarm" | "shown" | "points" | "throw";
 
 export type Change = {
   kind: ChangeKind;
@@ -110,6 +122,8 @@ interface Work {
   held: string[];
   quiet: Record<string, number>;
   faulted: EngineState["faulted"];
+  points: Record<string, PointsLie>;
+  thrown: Record<string, PointsPosition>;
   ownLatches: boolean;
   ownCounters: boolean;
   ownSelectors: boolean;
@@ -132,6 +146,9 @@ function startWork(state: EngineState): Work {
     held: state.held,
     quiet: state.quiet,
     faulted: state.faulted,
+    // Older saved states (before rulebook /2) have no points fields.
+    points: state.points ?? NO_POINTS,
+    thrown: state.thrown ?? NO_THROWS,
     ownLatches: false,
     ownCounters: false,
     ownSelectors: false,
@@ -154,8 +171,13 @@ function finishWork(work: Work): EngineState {
     held: work.held,
     quiet: work.quiet,
     faulted: work.faulted,
+    points: work.points,
+    thrown: work.thrown,
   };
 }
+
+const NO_POINTS: Record<string, PointsLie> = Object.freeze({}) as Record<string, PointsLie>;
+const NO_THROWS: Record<string, PointsPosition> = Object.freeze({}) as Record<string, PointsPosition>;
 
 function emit(work: Work, kind: ChangeKind, name: string, from: unknown, to: unknown, detail?: string): void {
   const change: Change =
@@ -223,6 +245,20 @@ function writeWanted(work: Work, signal: string, aspect: Aspect, reportShown = t
   if (reportShown && work.faulted === null && !isHeld(work, signal)) emit(work, "shown", signal, from, aspect);
 }
 
+function writePoints(work: Work, points: string, lies: PointsLie): void {
+  const from = work.points[points] ?? "unknown";
+  if (from === lies) return;
+  work.points = { ...work.points, [points]: lies };
+  emit(work, "points", points, from, lies);
+}
+
+function writeThrown(work: Work, points: string, to: PointsPosition): void {
+  const from = work.thrown[points] ?? null;
+  if (from === to) return;
+  work.thrown = { ...work.thrown, [points]: to };
+  emit(work, "throw", points, from, to);
+}
+
 function writeQuiet(work: Work, ruleId: string, deadline: number | null): void {
   const from = work.quiet[ruleId];
   if (deadline === null ? from === undefined : from === deadline) return;
@@ -255,6 +291,7 @@ interface CompiledRule {
 export interface CompiledRulebook {
   rules: CompiledRule[];
   passRules: Map<string, CompiledRule[]>;
+  movedRules: Map<string, CompiledRule[]>;
   quietRules: CompiledRule[];
   quietByDetector: Map<string, CompiledRule[]>;
   standing: CompiledRule[];
@@ -268,96 +305,71 @@ const ALWAYS: Test = () => true;
 /** Turns a condition into a closure over the working state. */
 function compileCondition(condition: Condition | undefined): Test {
   if (condition === undefined) return ALWAYS;
-  if ("latch" in condition) {
-    const latch = condition.latch;
-    return (work) => work.latches[latch] === true;
-  }
-  if ("count" in condition) {
-    const counter = condition.count;
-    const value = condition.value;
-    switch (condition.op) {
-      case "==":
-        return (work) => (work.counters[counter] ?? 0) === value;
-      case "!=":
-        return (work) => (work.counters[counter] ?? 0) !== value;
-      case ">":
-        return (work) => (work.counters[counter] ?? 0) > value;
-      case ">=":
-        return (work) => (work.counters[counter] ?? 0) >= value;
-      case "<":
-        return (work) => (work.counters[counter] ?? 0) < value;
-      case "<=":
-        return (work) => (work.counters[counter] ?? 0) <= value;
-    }
-  }
-  if ("selector" in condition) {
-    const selector = condition.selector;
-    const value = condition.is;
-    return (work) => work.selectors[selector] === value;
-  }
-  if ("aspect" in condition) {
-    const signal = condition.aspect;
-    const aspect = condition.is;
-    return (work) => (work.wanted[signal] ?? "danger") === aspect;
-  }
-  if ("not" in condition) {
-    const inner = compileCondition(condition.not);
-    return (work) => !inner(work);
-  }
-  if ("all" in condition) {
-    const parts = condition.all.map(compileCondition);
-    if (parts.length === 1) return parts[0];
-    if (parts.length === 2) {
-      const [a, b] = parts;
-      return (work) => a(work) && b(work);
-    }
-    if (parts.length === 3) {
-      const [a, b, c] = parts;
-      return (work) => a(work) && b(work) && c(work);
-    }
-    return (work) => {
-      for (let i = 0; i < parts.length; i++) if (!parts[i](work)) return false;
-      return true;
-    };
-  }
-  const parts = condition.any.map(compileCondition);
-  if (parts.length === 1) return parts[0];
-  return (work) => {
-    for (let i = 0; i < parts.length; i++) if (parts[i](work)) return true;
-    return false;
-  };
+  return matchCondition<Test>(condition, {
+    latch: ({ latch }) => (work) => work.latches[latch] === true,
+    count: ({ count: counter, op, value }) => {
+      switch (op) {
+        case "==":
+          return (work) => (work.counters[counter] ?? 0) === value;
+        case "!=":
+          return (work) => (work.counters[counter] ?? 0) !== value;
+        case ">":
+          return (work) => (work.counters[counter] ?? 0) > value;
+        case ">=":
+          return (work) => (work.counters[counter] ?? 0) >= value;
+        case "<":
+          return (work) => (work.counters[counter] ?? 0) < value;
+        case "<=":
+          return (work) => (work.counters[counter] ?? 0) <= value;
+        default:
+          return unreachable(op);
+      }
+    },
+    selector: ({ selector, is: value }) => (work) => work.selectors[selector] === value,
+    aspect: ({ aspect: signal, is: aspect }) => (work) => (work.wanted[signal] ?? "danger") === aspect,
+    points: ({ points, lies }) => (work) => (work.points[points] ?? "unknown") === lies,
+    not: (c) => {
+      const inner = compileCondition(c.not);
+      return (work) => !inner(work);
+    },
+    all: (c) => {
+      const parts = c.all.map(compileCondition);
+      if (parts.length === 1) return parts[0];
+      if (parts.length === 2) {
+        const [a, b] = parts;
+        return (work) => a(work) && b(work);
+      }
+      if (parts.length === 3) {
+        const [a, b, d] = parts;
+        return (work) => a(work) && b(work) && d(work);
+      }
+      return (work) => {
+        for (let i = 0; i < parts.length; i++) if (!parts[i](work)) return false;
+        return true;
+      };
+    },
+    any: (c) => {
+      const parts = c.any.map(compileCondition);
+      if (parts.length === 1) return parts[0];
+      return (work) => {
+        for (let i = 0; i < parts.length; i++) if (parts[i](work)) return true;
+        return false;
+      };
+    },
+  });
 }
 
 function compileAction(action: Action, ruleId: string): Effect {
-  if ("set" in action) {
-    const latch = action.set;
-    return (work) => writeLatch(work, latch, true);
-  }
-  if ("clear" in action) {
-    const latch = action.clear;
-    return (work) => writeLatch(work, latch, false);
-  }
-  if ("add" in action) {
-    const counter = action.add;
-    const by = action.by;
-    return (work) => writeCounter(work, counter, (work.counters[counter] ?? 0) + by);
-  }
-  if ("zero" in action) {
-    const counter = action.zero;
-    return (work) => writeCounter(work, counter, 0);
-  }
-  if ("select" in action) {
-    const selector = action.select;
-    const value = action.value;
-    return (work) => writeSelector(work, selector, value);
-  }
-  if ("show" in action) {
-    const signal = action.show;
-    const aspect = action.aspect;
-    return (work) => writeWanted(work, signal, aspect);
-  }
-  const text = action.alarm;
-  return (work) => emit(work, "alarm", ruleId, null, "rule-alarm", text);
+  return matchAction<Effect>(action, {
+    set: ({ set: latch }) => (work) => writeLatch(work, latch, true),
+    clear: ({ clear: latch }) => (work) => writeLatch(work, latch, false),
+    add: ({ add: counter, by }) => (work) => writeCounter(work, counter, (work.counters[counter] ?? 0) + by),
+    zero: ({ zero: counter }) => (work) => writeCounter(work, counter, 0),
+    select: ({ select: selector, value }) => (work) => writeSelector(work, selector, value),
+    show: ({ show: signal, aspect }) => (work) => writeWanted(work, signal, aspect),
+    throw: ({ throw: points, to }) => (work) => writeThrown(work, points, to),
+    alarm: ({ alarm: text }) => (work) => emit(work, "alarm", ruleId, null, "rule-alarm", text),
+  });
 }
 
 /** Net effect of an action list, judged without running it (for settle). */
@@ -366,13 +378,19 @@ function compileWouldChange(actions: readonly Action[]): Test {
   const counterOps = new Map<string, { zero: boolean; by: number }[]>();
   const selectorFinal = new Map<string, string>();
   const wantedFinal = new Map<string, Aspect>();
+  const thrownFinal = new Map<string, PointsPosition>();
   for (const action of actions) {
-    if ("set" in action) latchFinal.set(action.set, true);
-    else if ("clear" in action) latchFinal.set(action.clear, false);
-    else if ("add" in action) counterOps.set(action.add, [...(counterOps.get(action.add) ?? []), { zero: false, by: action.by }]);
-    else if ("zero" in action) counterOps.set(action.zero, [...(counterOps.get(action.zero) ?? []), { zero: true, by: 0 }]);
-    else if ("select" in action) selectorFinal.set(action.select, action.value);
-    else if ("show" in action) wantedFinal.set(action.show, action.aspect);
+    matchAction<unknown>(action, {
+      set: (a) => latchFinal.set(a.set, true),
+      clear: (a) => latchFinal.set(a.clear, false),
+      add: (a) => counterOps.set(a.add, [...(counterOps.get(a.add) ?? []), { zero: false, by: a.by }]),
+      zero: (a) => counterOps.set(a.zero, [...(counterOps.get(a.zero) ?? []), { zero: true, by: 0 }]),
+      select: (a) => selectorFinal.set(a.select, a.value),
+      show: (a) => wantedFinal.set(a.show, a.aspect),
+      throw: (a) => thrownFinal.set(a.throw, a.to),
+      // An alarm changes no state (standing rules cannot have one).
+      alarm: () => undefined,
+    });
   }
   const checks: Test[] = [];
   for (const [latch, value] of latchFinal) checks.push((work) => (work.latches[latch] === true) !== value);
@@ -392,6 +410,7 @@ function compileWouldChange(actions: readonly Action[]): Test {
   }
   for (const [selector, value] of selectorFinal) checks.push((work) => work.selectors[selector] !== value);
   for (const [signal, aspect] of wantedFinal) checks.push((work) => (work.wanted[signal] ?? "danger") !== aspect);
+  for (const [points, to] of thrownFinal) checks.push((work) => work.thrown[points] !== to);
   if (checks.length === 0) return () => false;
   if (checks.length === 1) return checks[0];
   if (checks.length === 2) {
@@ -426,28 +445,33 @@ export function compileRulebook(rulebook: Rulebook): CompiledRulebook {
     quietMs: rule.on !== "standing" && "quiet" in rule.on ? rule.on.ms : 0,
   }));
   const passRules = new Map<string, CompiledRule[]>();
+  const movedRules = new Map<string, CompiledRule[]>();
   const quietByDetector = new Map<string, CompiledRule[]>();
   const quietRules: CompiledRule[] = [];
   const standing: CompiledRule[] = [];
   let widest = 0;
+  const addTo = (map: Map<string, CompiledRule[]>, key: string, rule: CompiledRule): number => {
+    const list = map.get(key) ?? [];
+    list.push(rule);
+    map.set(key, list);
+    return list.length;
+  };
   rulebook.rules.forEach((rule, index) => {
     const compiled = rules[index];
-    if (rule.on === "standing") standing.push(compiled);
-    else if ("pass" in rule.on) {
-      const list = passRules.get(rule.on.pass) ?? [];
-      list.push(compiled);
-      passRules.set(rule.on.pass, list);
-      widest = Math.max(widest, list.length);
-    } else {
-      quietRules.push(compiled);
-      const list = quietByDetector.get(rule.on.quiet) ?? [];
-      list.push(compiled);
-      quietByDetector.set(rule.on.quiet, list);
-    }
+    matchTrigger<unknown>(rule.on, {
+      standing: () => standing.push(compiled),
+      pass: (t) => (widest = Math.max(widest, addTo(passRules, t.pass, compiled))),
+      moved: (t) => (widest = Math.max(widest, addTo(movedRules, t.moved, compiled))),
+      quiet: (t) => {
+        quietRules.push(compiled);
+        addTo(quietByDetector, t.quiet, compiled);
+      },
+    });
   });
   const compiled: CompiledRulebook = {
     rules,
     passRules,
+    movedRules,
     quietRules,
     quietByDetector,
     standing,
@@ -521,19 +545,43 @@ function fireDueQuiet(compiled: CompiledRulebook, work: Work): void {
   }
 }
 
-function pulse(compiled: CompiledRulebook, work: Work, detector: string, at: number): void {
-  const rules = compiled.passRules.get(detector);
-  if (rules !== undefined) {
-    if (rules.length === 1) {
-      if (rules[0].test(work)) runRule(work, rules[0]);
-    } else {
-      // Select on the state before the pulse, then run: an earlier rule must not change
-      // whether a later one was selected.
-      const selected = compiled.selected;
-      for (let i = 0; i < rules.length; i++) selected[i] = rules[i].test(work) ? 1 : 0;
-      for (let i = 0; i < rules.length; i++) if (selected[i] === 1) runRule(work, rules[i]);
-    }
+/**
+ * Selects `rules` on the state as it is now, then (after `record`, if any) runs the selected
+ * ones in rule order: an earlier rule must not change whether a later one was selected.
+ */
+function selectThenRun(compiled: CompiledRulebook, work: Work, rules: CompiledRule[] | undefined, record?: () => void): void {
+  if (rules === undefined) {
+    record?.();
+    return;
   }
+  if (rules.length === 1 && record === undefined) {
+    if (rules[0].test(work)) runRule(work, rules[0]);
+    return;
+  }
+  const selected = compiled.selected;
+  for (let i = 0; i < rules.length; i++) selected[i] = rules[i].test(work) ? 1 : 0;
+  record?.();
+  for (let i = 0; i < rules.length; i++) if (selected[i] === 1) runRule(work, rules[i]);
+}
+
+/**
+ * A points report (§4 step 2): `moved` rules are selected only when the points now lie
+ * otherwise than last reported, on the state before the report; the new position is recorded
+ * after the selection, then the selected rules run.
+ */
+function pointsReport(compiled: CompiledRulebook, work: Work, points: string, lies: PointsLie): void {
+  if ((work.points[points] ?? "unknown") === lies) return;
+  work.rule = undefined;
+  selectThenRun(compiled, work, compiled.movedRules.get(points), () => {
+    const rule = work.rule;
+    work.rule = undefined;
+    writePoints(work, points, lies);
+    work.rule = rule;
+  });
+}
+
+function pulse(compiled: CompiledRulebook, work: Work, detector: string, at: number): void {
+  selectThenRun(compiled, work, compiled.passRules.get(detector));
   const quiet = compiled.quietByDetector.get(detector);
   if (quiet !== undefined) {
     for (const rule of quiet) {
@@ -616,8 +664,12 @@ export function step(rulebook: Rulebook, state: EngineState, input: EngineInput)
   work.rule = undefined;
   if (input.type === "command") {
     command(rulebook, compiled, work, input);
+  } else if (input.type === "points" && work.faulted !== null) {
+    // Where the points lie is a fact worth keeping even while no rules run.
+    writePoints(work, input.points, input.lies);
   } else if (work.faulted === null) {
     if (input.type === "pulse") pulse(compiled, work, input.detector, input.at);
+    else if (input.type === "points") pointsReport(compiled, work, input.points, input.lies);
     settle(compiled, work);
   }
   return { state: finishWork(work), changes: work.changes };
@@ -639,6 +691,8 @@ export function initialStep(rulebook: Rulebook, at = 0): StepResult {
     held: [],
     quiet: {},
     faulted: null,
+    points: {},
+    thrown: {},
   };
   const work = startWork(start);
   // The start objects are fresh, so the first settle may write to them in place.

@@ -19,6 +19,8 @@
  * const pml = toPromela(rulebook);
  * // spin -a model.pml && gcc -DSAFETY -o pan pan.c && ./pan -c0 -e -E
  */
+import { matchAction, matchCondition } from "./kinds";
+import { pointsMentioned, signalsMentioned } from "./mentions";
 import type { Action, Condition, Rulebook } from "./schema";
 
 export const SPIN_PROPERTIES = [
@@ -33,6 +35,8 @@ export type SpinProperty = (typeof SPIN_PROPERTIES)[number];
 const MAX_SETTLE_RUNS = 64;
 
 const ASPECT_CODE = { danger: 0, caution: 1, clear: 2 } as const;
+/** Codes of where points lie (`unknown` = never reported) and where they were thrown (0 = never). */
+const LIE_CODE = { unknown: 0, normal: 1, reverse: 2, moving: 3 } as const;
 
 const label = (p: SpinProperty): string => p.replace(/-/g, "_");
 
@@ -82,17 +86,8 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   };
   Object.keys(rulebook.initial).forEach(addSignal);
   proving.routes.forEach((r) => addSignal(r.signal));
-  const walkCondition = (c: Condition | undefined): void => {
-    if (!c) return;
-    if ("aspect" in c) addSignal(c.aspect);
-    else if ("not" in c) walkCondition(c.not);
-    else if ("all" in c) c.all.forEach(walkCondition);
-    else if ("any" in c) c.any.forEach(walkCondition);
-  };
-  for (const rule of rulebook.rules) {
-    walkCondition(rule.if);
-    for (const a of rule.do) if ("show" in a) addSignal(a.show);
-  }
+  signalsMentioned(rulebook, { includeProving: false }).forEach(addSignal);
+  const pointsNames = pointsMentioned(rulebook).all;
   const quietRules = rulebook.rules.filter((r) => typeof r.on === "object" && "quiet" in r.on);
 
   const latch = (n: string): string => `${P}l_${latchNames.indexOf(n)}`;
@@ -102,34 +97,55 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
   const quiet = (ruleId: string): string => `${P}q_${quietRules.findIndex((r) => r.id === ruleId)}`;
   const comparison = (op: string): string => (op === "==" ? "==" : op === "!=" ? "!=" : op);
 
+  /** Where points lie as last reported (`pl_i`) and where last thrown (`pt_i`, 0 = never). */
+  const pointsLie = (n: string): string => `${P}pl_${pointsNames.indexOf(n)}`;
+  const pointsThrown = (n: string): string => `${P}pt_${pointsNames.indexOf(n)}`;
+
   const cond = (c: Condition | undefined): string => {
     if (!c) return "1";
-    if ("latch" in c) return latch(c.latch);
-    if ("count" in c) return `(${counter(c.count)} ${comparison(c.op)} ${c.value})`;
-    if ("selector" in c) {
-      const i = rulebook.selectors[c.selector]?.values.indexOf(c.is) ?? -1;
-      return i < 0 ? "0" : `(${selector(c.selector)} == ${i})`;
-    }
-    if ("aspect" in c) return `(${wanted(c.aspect)} == ${ASPECT_CODE[c.is]})`;
-    if ("not" in c) return `!(${cond(c.not)})`;
-    if ("all" in c) return c.all.length ? `(${c.all.map(cond).join(" && ")})` : "1";
-    return c.any.length ? `(${c.any.map(cond).join(" || ")})` : "0";
+    return matchCondition(c, {
+      latch: (c) => latch(c.latch),
+      count: (c) => `(${counter(c.count)} ${comparison(c.op)} ${c.value})`,
+      selector: (c) => {
+        const i = rulebook.selectors[c.selector]?.values.indexOf(c.is) ?? -1;
+        return i < 0 ? "0" : `(${selector(c.selector)} == ${i})`;
+      },
+      aspect: (c) => `(${wanted(c.aspect)} == ${ASPECT_CODE[c.is]})`,
+      points: (c) => `(${pointsLie(c.points)} == ${LIE_CODE[c.lies]})`,
+      not: (c) => `!(${cond(c.not)})`,
+      all: (c) => (c.all.length ? `(${c.all.map(cond).join(" && ")})` : "1"),
+      any: (c) => (c.any.length ? `(${c.any.map(cond).join(" || ")})` : "0"),
+    });
   };
 
-  const action = (a: Action): string => {
-    if ("set" in a) return `${latch(a.set)} = 1`;
-    if ("clear" in a) return `${latch(a.clear)} = 0`;
-    if ("add" in a) {
-      const c = counter(a.add);
-      if (a.by >= 0) return `${c} = ${c} + ${a.by}`;
-      // §4 step 4: an add that would go below zero sets 0 and raises the underflow alarm.
-      return `if :: (${c} + ${a.by} < 0) -> ${c} = 0; ${P}uf = 1 :: else -> ${c} = ${c} + ${a.by} fi`;
-    }
-    if ("zero" in a) return `${counter(a.zero)} = 0`;
-    if ("select" in a) return `${selector(a.select)} = ${rulebook.selectors[a.select].values.indexOf(a.value)}`;
-    if ("show" in a) return `${wanted(a.show)} = ${ASPECT_CODE[a.aspect]}`;
-    return "skip /* alarm: no state change */";
-  };
+  const action = (a: Action): string =>
+    matchAction(a, {
+      set: (a) => `${latch(a.set)} = 1`,
+      clear: (a) => `${latch(a.clear)} = 0`,
+      add: (a) => {
+        const c = counter(a.add);
+        if (a.by >= 0) return `${c} = ${c} + ${a.by}`;
+        // §4 step 4: an add that would go below zero sets 0 and raises the underflow alarm.
+        return `if :: (${c} + ${a.by} < 0) -> ${c} = 0; ${P}uf = 1 :: else -> ${c} = ${c} + ${a.by} fi`;
+      },
+      zero: (a) => `${counter(a.zero)} = 0`,
+      select: (a) => `${selector(a.select)} = ${rulebook.selectors[a.select].values.indexOf(a.value)}`,
+      show: (a) => `${wanted(a.show)} = ${ASPECT_CODE[a.aspect]}`,
+      throw: (a) => `${pointsThrown(a.throw)} = ${LIE_CODE[a.to]}`,
+      alarm: () => "skip /* alarm: no state change */",
+    });
+  /** The state variables an action writes (to judge "would change the state" in settle). */
+  const writes = (a: Action): string[] =>
+    matchAction(a, {
+      set: (a) => [latch(a.set)],
+      clear: (a) => [latch(a.clear)],
+      add: (a) => [counter(a.add)],
+      zero: (a) => [counter(a.zero)],
+      select: (a) => [selector(a.select)],
+      show: (a) => [wanted(a.show)],
+      throw: (a) => [pointsThrown(a.throw)],
+      alarm: () => [],
+    });
   const actions = (list: Action[]): string => (list.length ? list.map(action).join("; ") : "skip");
 
   const stateVars = [
@@ -137,6 +153,7 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
     ...counterNames.map(counter),
     ...selectorNames.map(selector),
     ...signalNames.map(wanted),
+    ...pointsNames.map(pointsThrown),
   ];
 
   const emit = (line = ""): void => {
@@ -186,10 +203,7 @@ function emitModel(rulebook: Rulebook, P: string, out: string[]): void {
     // Only what the actions write can change: snapshot just that (keeps pan.c small).
     const written = [
       ...new Set(
-        rule.do.flatMap((a) =>
-          "set" in a ? [latch(a.set)] : "clear" in a ? [latch(a.clear)] : "add" in a ? [counter(a.add)] : "zero" in a ? [counter(a.zero)]
-          : "select" in a ? [selector(a.select)] : "show" in a ? [wanted(a.show)] : [],
-        ),
+        rule.do.flatMap(writes),
       ),
     ];
     emit(`      ${written.map((v) => `${P}old_${v} = ${v}`).join("; ") || "skip"};`);

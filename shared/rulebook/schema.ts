@@ -1,5 +1,7 @@
 /**
- * The rulebook file format `blocklight.rulebook/1` (CONTRACT.md §4) as zod schemas.
+ * The rulebook file formats `blocklight.rulebook/1` and `/2` (CONTRACT.md §4) as zod schemas.
+ * `/2` is `/1` plus the `moved` trigger, the `points` condition, the `throw` action and the
+ * points a proving route needs; every `/1` file is a valid `/2` file and runs the same.
  *
  * This is the single source of truth for the shape of a rulebook: the server's import,
  * the client's editor and the engine all read these types. Shape checks live here;
@@ -24,11 +26,21 @@ export type ShownAspect = Aspect | "dark";
 export const COMPARISONS = ["==", "!=", ">", ">=", "<", "<="] as const;
 export type Comparison = (typeof COMPARISONS)[number];
 
+/** Where points lie as a board reports it; `unknown` until the first report. */
+export const POINTS_LIES = ["normal", "reverse", "moving"] as const;
+export type PointsLie = (typeof POINTS_LIES)[number];
+export const POINTS_CONDITION_LIES = [...POINTS_LIES, "unknown"] as const;
+export type PointsConditionLie = (typeof POINTS_CONDITION_LIES)[number];
+/** Where points can be thrown to (and lie when still). */
+export const POINTS_POSITIONS = ["normal", "reverse"] as const;
+export type PointsPosition = (typeof POINTS_POSITIONS)[number];
+
 export type Condition =
   | { latch: string }
   | { count: string; op: Comparison; value: number }
   | { selector: string; is: string }
   | { aspect: string; is: Aspect }
+  | { points: string; lies: PointsConditionLie }
   | { not: Condition }
   | { all: Condition[] }
   | { any: Condition[] };
@@ -39,6 +51,7 @@ export const conditionSchema: z.ZodType<Condition> = z.lazy(() =>
     z.strictObject({ count: nameSchema, op: z.enum(COMPARISONS), value: z.number().int() }),
     z.strictObject({ selector: nameSchema, is: nameSchema }),
     z.strictObject({ aspect: idSchema, is: aspectSchema }),
+    z.strictObject({ points: idSchema, lies: z.enum(POINTS_CONDITION_LIES) }),
     z.strictObject({ not: conditionSchema }),
     z.strictObject({ all: z.array(conditionSchema) }),
     z.strictObject({ any: z.array(conditionSchema) }),
@@ -52,6 +65,7 @@ export const actionSchema = z.union([
   z.strictObject({ zero: nameSchema }),
   z.strictObject({ select: nameSchema, value: nameSchema }),
   z.strictObject({ show: idSchema, aspect: aspectSchema }),
+  z.strictObject({ throw: idSchema, to: z.enum(POINTS_POSITIONS) }),
   z.strictObject({ alarm: z.string().min(1).max(200) }),
 ]);
 export type Action = z.infer<typeof actionSchema>;
@@ -59,6 +73,7 @@ export type Action = z.infer<typeof actionSchema>;
 export const triggerSchema = z.union([
   z.literal("standing"),
   z.strictObject({ pass: idSchema }),
+  z.strictObject({ moved: idSchema }),
   z.strictObject({ quiet: idSchema, ms: z.number().int().positive() }),
 ]);
 export type Trigger = z.infer<typeof triggerSchema>;
@@ -79,6 +94,8 @@ export const provingRouteSchema = z.strictObject({
   approach: z.array(idSchema).min(1, "a route needs at least one approach detector"),
   entry: idSchema,
   exit: z.array(idSchema).min(1, "a route needs at least one exit detector"),
+  /** `/2`: where points must lie for this route (a facing junction), e.g. `{ "P1": "reverse" }`. */
+  points: z.record(idSchema, z.enum(POINTS_POSITIONS)).optional(),
 });
 export type ProvingRoute = z.infer<typeof provingRouteSchema>;
 
@@ -91,10 +108,15 @@ export const provingSchema = z.strictObject({
 });
 export type Proving = z.infer<typeof provingSchema>;
 
-export const RULEBOOK_FORMAT = "blocklight.rulebook/1";
+export const RULEBOOK_FORMAT_1 = "blocklight.rulebook/1";
+export const RULEBOOK_FORMAT_2 = "blocklight.rulebook/2";
+/** The format a rulebook without points names (files name the lowest format they need). */
+export const RULEBOOK_FORMAT = RULEBOOK_FORMAT_1;
+export const RULEBOOK_FORMATS = [RULEBOOK_FORMAT_1, RULEBOOK_FORMAT_2] as const;
+export type RulebookFormat = (typeof RULEBOOK_FORMATS)[number];
 
 export const rulebookSchema = z.strictObject({
-  format: z.literal(RULEBOOK_FORMAT),
+  format: z.enum(RULEBOOK_FORMATS),
   latches: z.record(nameSchema, z.boolean()).default({}),
   counters: z.record(nameSchema, z.number().int().min(0)).default({}),
   selectors: z

@@ -20,20 +20,23 @@
  * - An axle crossing an entry while its route is not set raises an alarm (a train passed a
  *   signal at danger); the counts are still kept.
  *
- * ## Facing junction
- * One signal before facing points leading to two or more roads (a passing loop). Each road
- * is counted from the entry detector to its last exit; the throat (signal to the first exit
- * detector of the road, beyond the fouling point) is protected by the latch `throat`. The
- * selector `road` names the road the points must lie for while a train is given the signal:
- * - `choose: "points"`: the points are set by hand; the latch `<points>Reverse` (set by the
- *   signaller with the set/clear commands, or by a points board) says they lie for the second
- *   road. The signal clears only if that road is free; moving the points under a cleared
- *   signal puts it back to danger. Exactly two roads.
- * - `choose: "first-free"`: the rulebook picks the first road whose count is 0; a points
- *   board follows the selector `road`.
+ * ## Facing junction (rulebook /2)
+ * One signal before facing points leading to two roads (a passing loop): the first road is the
+ * points' normal position, the second reverse. Each road is counted from the entry detector to
+ * its last exit; `throat` counts the axles over the points (signal to the road's first exit
+ * detector), so it is 0 only when no train is on them. The selector `road` names the road a
+ * train is given; the signal clears only while the points are *reported* lying for that road,
+ * and goes back to danger if they are reported moving or lying otherwise before the train
+ * reaches them. The routes name the points they need, so the prover fixes each train's road by
+ * where the points lie when it passes the signal (CONTRACT.md §5).
+ * - §5 makes the two roads conflict (their sections share the points and run to each road's
+ *   end), so a train is given a road only while both roads are empty.
+ * - `worked: "power"`: trains take the roads in turn; the rulebook throws the points for the
+ *   road only while no train is on the points and the signal is at danger.
+ * - `worked: "hand"`: the signaller sets the points; the road they lie for is given if it is free.
  */
 import type { Action, Condition, Proving, Rule, Rulebook } from "./schema";
-import { RULEBOOK_FORMAT } from "./schema";
+import { RULEBOOK_FORMAT, RULEBOOK_FORMAT_2 } from "./schema";
 
 export interface ConvergingRoute {
   /** Route id, also the value of the `route` selector. Must not be `none`. */
@@ -221,42 +224,49 @@ export interface FacingJunctionOptions {
   approach: string[];
   /** Detector level with the signal. */
   entry: string;
-  /** The facing points' id (names the `<points>Reverse` latch in `choose: "points"`). */
+  /** The facing points: the first road is their normal position, the second reverse. */
   points: string;
+  /** Exactly two roads. */
   roads: FacingRoad[];
-  choose: "points" | "first-free";
+  /**
+   * `power`: the rulebook sends each train to the first free road and throws the points;
+   * `hand`: a person sets the points and the signal clears for the road they lie for.
+   */
+  worked: "power" | "hand";
   maxAxles?: number;
   maxTrainsPerRoute?: number;
 }
 
 const roadCounter = (roadId: string): string => `${roadId}Road`;
+const POSITIONS = ["normal", "reverse"] as const;
 
 /**
- * A facing junction into two or more roads (e.g. a passing loop); see the module notes.
+ * A facing junction into two roads (e.g. a passing loop), rulebook `/2`; see the module notes.
  *
  * @example
- * facingJunction({ signal: "W1", approach: ["WA"], entry: "WE", points: "P1", choose: "first-free",
+ * facingJunction({ signal: "W1", approach: ["WA"], entry: "WE", points: "P1", worked: "power",
  *   roads: [{ id: "through", exit: ["TX", "TZ"] }, { id: "loop", exit: ["LX", "LZ"] }] });
  */
 export function facingJunction(options: FacingJunctionOptions): Rulebook {
-  const { signal, approach, entry, points, roads, choose } = options;
+  const { signal, approach, entry, points, roads, worked } = options;
   checkIds(
     roads.map((road) => road.id),
     "road",
   );
+  assertTemplate(roads.length === 2, "a facing junction has exactly two roads (normal and reverse)");
   assertTemplate(approach.length > 0, "the junction needs an approach detector");
   assertTemplate(roads.every((road) => road.exit.length > 0), "each road needs at least one exit detector");
-  assertTemplate(choose === "first-free" || roads.length === 2, 'choose: "points" needs exactly two roads');
   const roadDetectors = roads.flatMap((road) => road.exit);
   assertTemplate(new Set(roadDetectors).size === roadDetectors.length, "roads cannot share exit detectors");
   assertTemplate(!roadDetectors.includes(entry) && !roadDetectors.includes(approach[0]), "entry and approach must not be on a road");
 
   const approachCount = `${signal}Approach`;
-  const reverse = `${points}Reverse`;
-  const counters: Record<string, number> = { [approachCount]: 0 };
+  // Axles between the signal and the roads' first detectors (over the points). Axles of a train
+  // are closer together than two detectors, so it is 0 only when no train is on the points.
+  const throat = "throat";
+  const counters: Record<string, number> = { [approachCount]: 0, [throat]: 0 };
   for (const road of roads) counters[roadCounter(road.id)] = 0;
-  const latches: Record<string, boolean> = { throat: false };
-  if (choose === "points") latches[reverse] = false;
+  const lieFor = (index: number) => POSITIONS[index];
 
   const rules: Rule[] = [
     {
@@ -274,8 +284,10 @@ export function facingJunction(options: FacingJunctionOptions): Rulebook {
       if: isRoute("road", road.id),
       do: [
         { add: approachCount, by: -1 },
+        { add: throat, by: 1 },
         { add: roadCounter(road.id), by: 1 },
-        { set: "throat" },
+        { set: "entered" },
+        ...(worked === "power" ? [roads.indexOf(road) === 0 ? { set: "useSecond" } : { clear: "useSecond" }] : []),
         { show: signal, aspect: "danger" },
       ],
     });
@@ -290,12 +302,9 @@ export function facingJunction(options: FacingJunctionOptions): Rulebook {
   for (const road of roads) {
     rules.push({
       id: `clear-of-points-${road.id}`,
-      note: `The train is clear of the points on the ${road.id} road.`,
+      note: `An axle is past the points on the ${road.id} road.`,
       on: { pass: road.exit[0] },
-      // Only while this road is set: a trailing axle of an earlier train reaching its road's
-      // first detector must not free the throat under the next train.
-      if: isRoute("road", road.id),
-      do: [{ clear: "throat" }],
+      do: [{ add: throat, by: -1 }],
     });
     rules.push({
       id: `leaves-${road.id}`,
@@ -304,61 +313,77 @@ export function facingJunction(options: FacingJunctionOptions): Rulebook {
       do: [{ add: roadCounter(road.id), by: -1 }],
     });
   }
-  if (choose === "points") {
-    roads.forEach((road, index) => {
-      rules.push({
-        id: `points-moved-${road.id}`,
-        note: `The points were moved away from the ${road.id} road under a cleared signal.`,
-        on: "standing",
-        if: {
-          all: [isRoute("road", road.id), { aspect: signal, is: "clear" }, index === 0 ? { latch: reverse } : { not: { latch: reverse } }],
-        },
-        do: [
-          { show: signal, aspect: "danger" },
-          { select: "road", value: NONE },
-        ],
-      });
-    });
-  }
+  rules.push({
+    id: "points-moved",
+    note: `The points were reported moving, or lying otherwise, before the train reached them: ${signal} back to danger.`,
+    on: { moved: points },
+    if: { all: [{ not: isRoute("road", NONE) }, countIs(throat, "==", 0)] },
+    do: [
+      { show: signal, aspect: "danger" },
+      { select: "road", value: NONE },
+      { clear: "entered" },
+    ],
+  });
   rules.push({
     id: "road-released",
     note: "The last train is clear of the points: the road can be chosen again.",
     on: "standing",
-    if: { all: [{ not: isRoute("road", NONE) }, { not: { latch: "throat" } }, { aspect: signal, is: "danger" }] },
-    do: [{ select: "road", value: NONE }],
+    if: { all: [{ not: isRoute("road", NONE) }, { latch: "entered" }, countIs(throat, "==", 0)] },
+    do: [{ select: "road", value: NONE }, { clear: "entered" }],
   });
   roads.forEach((road, index) => {
-    const conditions: Condition[] = [
-      isRoute("road", NONE),
-      { not: { latch: "throat" } },
-      countIs(approachCount, ">", 0),
-      countIs(roadCounter(road.id), "==", 0),
-    ];
-    if (choose === "points") conditions.push(index === 0 ? { not: { latch: reverse } } : { latch: reverse });
+    // §5: the roads of one facing group conflict (their sections share the points), so a train
+    // is let in only while both roads are empty.
+    const free: Condition[] = [isRoute("road", NONE), countIs(throat, "==", 0), countIs(approachCount, ">", 0), ...roads.map((r) => countIs(roadCounter(r.id), "==", 0))];
+    if (worked === "power") {
+      // Trains take the roads in turn, so both are used and the points are exercised.
+      free.push(index === 0 ? { not: { latch: "useSecond" } } : { latch: "useSecond" });
+      rules.push({
+        id: `give-${road.id}`,
+        note: `The ${road.id} road's turn: set the road and throw the points ${lieFor(index)}.`,
+        on: "standing",
+        if: { all: free },
+        do: [
+          { select: "road", value: road.id },
+          { throw: points, to: lieFor(index) },
+        ],
+      });
+    } else {
+      free.push({ points, lies: lieFor(index) });
+      rules.push({
+        id: `give-${road.id}`,
+        note: `The points lie for the ${road.id} road and it is free: set the road.`,
+        on: "standing",
+        if: { all: free },
+        do: [{ select: "road", value: road.id }],
+      });
+    }
     rules.push({
-      id: `give-${road.id}`,
-      note:
-        choose === "points"
-          ? `The points lie for the ${road.id} road and it is free: clear ${signal}.`
-          : `The ${road.id} road is the first free one: set the road and clear ${signal}.`,
+      id: `clear-${road.id}`,
+      note: `The points lie ${lieFor(index)} for the ${road.id} road: clear ${signal}.`,
       on: "standing",
-      if: { all: conditions },
-      do: [
-        { select: "road", value: road.id },
-        { show: signal, aspect: "clear" },
-      ],
+      if: { all: [isRoute("road", road.id), countIs(throat, "==", 0), countIs(approachCount, ">", 0), { points, lies: lieFor(index) }] },
+      do: [{ show: signal, aspect: "clear" }],
     });
   });
 
   const proving: Proving = {
-    routes: roads.map((road) => ({ id: road.id, signal, approach: [...approach], entry, exit: [...road.exit] })),
+    routes: roads.map((road, index) => ({
+      id: road.id,
+      signal,
+      approach: [...approach],
+      entry,
+      exit: [...road.exit],
+      points: { [points]: lieFor(index) },
+    })),
     conflicts: [],
     maxAxles: options.maxAxles ?? 2,
     maxTrainsPerRoute: options.maxTrainsPerRoute ?? 2,
   };
   return {
-    format: RULEBOOK_FORMAT,
-    latches,
+    format: RULEBOOK_FORMAT_2,
+    // `entered`: the train given the current road has passed the signal.
+    latches: worked === "power" ? { entered: false, useSecond: false } : { entered: false },
     counters,
     selectors: { road: { values: [NONE, ...roads.map((road) => road.id)], initial: NONE } },
     initial: { [signal]: "danger" },

@@ -12,9 +12,10 @@
  * if (!result.ok) for (const e of result.errors) console.log(`${e.path}: ${e.message}`);
  */
 import type { z } from "zod";
-import { LAYOUT_FORMAT, layoutFileSchema, type LayoutFile } from "../layout/schema";
+import { LAYOUT_FORMAT, layoutFileSchema, layoutRecordsSchema, pointsWorking, type LayoutFile, type LayoutRecords } from "../layout/schema";
 import { signalsMentioned } from "./mentions";
-import { ID_PATTERN, RULEBOOK_FORMAT, rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
+import { ACTION_KINDS, CONDITION_KINDS, TRIGGER_KINDS, matchAction, matchCondition, matchTrigger } from "./kinds";
+import { ID_PATTERN, RULEBOOK_FORMAT, RULEBOOK_FORMAT_1, RULEBOOK_FORMAT_2, rulebookSchema, type Aspect, type Condition, type Rulebook } from "./schema";
 
 export interface ValidationError {
   /** JSONPath from the root of the validated file, `$` being the root. */
@@ -23,12 +24,17 @@ export interface ValidationError {
 }
 
 export type LayoutValidation = { ok: true; layout: LayoutFile } | { ok: false; errors: ValidationError[] };
+export type LayoutRecordsValidation = { ok: true; records: LayoutRecords } | { ok: false; errors: ValidationError[] };
 export type RulebookValidation = { ok: true; rulebook: Rulebook } | { ok: false; errors: ValidationError[] };
 
 /** What a rulebook can be checked against when it belongs to a known layout. */
 export interface RulebookContext {
   detectors: string[];
   signals: { id: string; aspects: Aspect[] }[];
+  /** The layout's points and how each is worked (absent: points are not checked). */
+  points?: { id: string; worked: "power" | "hand" }[];
+  /** Points some node reports (absent: not checked). */
+  reportedPoints?: string[];
 }
 
 const PLAIN_KEY = /^[A-Za-z_$][A-Za-z0-9_$]*$/;
@@ -57,9 +63,9 @@ function isRootIssue(issue: Issue): boolean {
 /** Name of the kind of thing a union sits at, for a readable message when no form fits. */
 function unionSubject(path: readonly PropertyKey[]): string {
   const last = [...path].reverse().find((segment) => typeof segment === "string");
-  if (last === "on") return "a trigger: \"standing\", { pass } or { quiet, ms }";
-  if (last === "do") return "an action: set, clear, add, zero, select, show or alarm";
-  return "a condition: latch, count, selector, aspect, not, all or any";
+  if (last === "on") return `a trigger: "standing", ${TRIGGER_KINDS.filter((k) => k !== "standing").map((k) => (k === "quiet" ? "{ quiet, ms }" : `{ ${k} }`)).join(", ")}`;
+  if (last === "do") return `an action: ${ACTION_KINDS.join(", ")}`;
+  return `a condition: ${CONDITION_KINDS.join(", ")}`;
 }
 
 function collectIssues(issues: readonly Issue[], prefix: readonly PropertyKey[], out: ValidationError[]): void {
@@ -223,6 +229,7 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
   const aspectsOf = new Map<string, Set<Aspect>>();
   if (context) for (const signal of context.signals) aspectsOf.set(signal.id, new Set(signal.aspects));
   const signals = context ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook, { includeProving: false });
+  const pointsOf = context?.points ? new Map(context.points.map((p) => [p.id, p.worked])) : undefined;
 
   const checkSignal = (signal: string, path: string): boolean => {
     if (signals.has(signal)) return true;
@@ -262,24 +269,42 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
     if (checkSignal(signal, path)) checkAspect(signal, aspect, path);
   }
 
-  const checkCondition = (condition: Condition, path: string): void => {
-    if ("latch" in condition) {
-      if (!latches.has(condition.latch)) errors.push({ path: `${path}.latch`, message: `undeclared latch "${condition.latch}"` });
-    } else if ("count" in condition) {
-      if (!counters.has(condition.count)) errors.push({ path: `${path}.count`, message: `undeclared counter "${condition.count}"` });
-    } else if ("selector" in condition) {
-      if (!(condition.selector in selectors)) {
-        errors.push({ path: `${path}.selector`, message: `undeclared selector "${condition.selector}"` });
-      } else checkSelectorValue(condition.selector, condition.is, `${path}.is`);
-    } else if ("aspect" in condition) {
-      if (checkSignal(condition.aspect, `${path}.aspect`)) checkAspect(condition.aspect, condition.is, `${path}.is`);
-    } else if ("not" in condition) {
-      checkCondition(condition.not, `${path}.not`);
-    } else if ("all" in condition) {
-      condition.all.forEach((inner, index) => checkCondition(inner, `${path}.all[${index}]`));
-    } else {
-      condition.any.forEach((inner, index) => checkCondition(inner, `${path}.any[${index}]`));
+  // A /1 file may not use what /2 added; say so where it is used.
+  const needsTwo = (path: string, what: string): void => {
+    if (rulebook.format === RULEBOOK_FORMAT_1) {
+      errors.push({ path, message: `${what} needs format "${RULEBOOK_FORMAT_2}" (this file says "${RULEBOOK_FORMAT_1}")` });
     }
+  };
+  const checkPoints = (points: string, path: string): boolean => {
+    if (pointsOf === undefined || pointsOf.has(points)) return true;
+    errors.push({ path, message: `unknown points "${points}"` });
+    return false;
+  };
+
+  const checkCondition = (condition: Condition, path: string): void => {
+    matchCondition(condition, {
+      latch: (c) => {
+        if (!latches.has(c.latch)) errors.push({ path: `${path}.latch`, message: `undeclared latch "${c.latch}"` });
+      },
+      count: (c) => {
+        if (!counters.has(c.count)) errors.push({ path: `${path}.count`, message: `undeclared counter "${c.count}"` });
+      },
+      selector: (c) => {
+        if (!(c.selector in selectors)) {
+          errors.push({ path: `${path}.selector`, message: `undeclared selector "${c.selector}"` });
+        } else checkSelectorValue(c.selector, c.is, `${path}.is`);
+      },
+      aspect: (c) => {
+        if (checkSignal(c.aspect, `${path}.aspect`)) checkAspect(c.aspect, c.is, `${path}.is`);
+      },
+      points: (c) => {
+        needsTwo(`${path}.points`, "a points condition");
+        checkPoints(c.points, `${path}.points`);
+      },
+      not: (c) => checkCondition(c.not, `${path}.not`),
+      all: (c) => c.all.forEach((inner, index) => checkCondition(inner, `${path}.all[${index}]`)),
+      any: (c) => c.any.forEach((inner, index) => checkCondition(inner, `${path}.any[${index}]`)),
+    });
   };
 
   const ruleIds = new Set<string>();
@@ -287,30 +312,51 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
     const rulePath = `${base}.rules[${ruleIndex}]`;
     if (ruleIds.has(rule.id)) errors.push({ path: `${rulePath}.id`, message: `duplicate rule id "${rule.id}"` });
     ruleIds.add(rule.id);
-    if (rule.on !== "standing") {
-      if ("pass" in rule.on) checkDetector(rule.on.pass, `${rulePath}.on.pass`);
-      else checkDetector(rule.on.quiet, `${rulePath}.on.quiet`);
-    }
+    matchTrigger(rule.on, {
+      standing: () => undefined,
+      pass: (t) => checkDetector(t.pass, `${rulePath}.on.pass`),
+      moved: (t) => {
+        needsTwo(`${rulePath}.on.moved`, "a moved trigger");
+        checkPoints(t.moved, `${rulePath}.on.moved`);
+      },
+      quiet: (t) => checkDetector(t.quiet, `${rulePath}.on.quiet`),
+    });
     if (rule.if) checkCondition(rule.if, `${rulePath}.if`);
     rule.do.forEach((action, actionIndex) => {
       const path = `${rulePath}.do[${actionIndex}]`;
-      if ("set" in action) {
-        if (!latches.has(action.set)) errors.push({ path: `${path}.set`, message: `undeclared latch "${action.set}"` });
-      } else if ("clear" in action) {
-        if (!latches.has(action.clear)) errors.push({ path: `${path}.clear`, message: `undeclared latch "${action.clear}"` });
-      } else if ("add" in action) {
-        if (!counters.has(action.add)) errors.push({ path: `${path}.add`, message: `undeclared counter "${action.add}"` });
-      } else if ("zero" in action) {
-        if (!counters.has(action.zero)) errors.push({ path: `${path}.zero`, message: `undeclared counter "${action.zero}"` });
-      } else if ("select" in action) {
-        if (!(action.select in selectors)) {
-          errors.push({ path: `${path}.select`, message: `undeclared selector "${action.select}"` });
-        } else checkSelectorValue(action.select, action.value, `${path}.value`);
-      } else if ("show" in action) {
-        if (checkSignal(action.show, `${path}.show`)) checkAspect(action.show, action.aspect, `${path}.aspect`);
-      } else if (rule.on === "standing") {
-        errors.push({ path: `${path}.alarm`, message: "a standing rule cannot raise an alarm (it would repeat on every settle)" });
-      }
+      matchAction(action, {
+        set: (a) => {
+          if (!latches.has(a.set)) errors.push({ path: `${path}.set`, message: `undeclared latch "${a.set}"` });
+        },
+        clear: (a) => {
+          if (!latches.has(a.clear)) errors.push({ path: `${path}.clear`, message: `undeclared latch "${a.clear}"` });
+        },
+        add: (a) => {
+          if (!counters.has(a.add)) errors.push({ path: `${path}.add`, message: `undeclared counter "${a.add}"` });
+        },
+        zero: (a) => {
+          if (!counters.has(a.zero)) errors.push({ path: `${path}.zero`, message: `undeclared counter "${a.zero}"` });
+        },
+        select: (a) => {
+          if (!(a.select in selectors)) {
+            errors.push({ path: `${path}.select`, message: `undeclared selector "${a.select}"` });
+          } else checkSelectorValue(a.select, a.value, `${path}.value`);
+        },
+        show: (a) => {
+          if (checkSignal(a.show, `${path}.show`)) checkAspect(a.show, a.aspect, `${path}.aspect`);
+        },
+        throw: (a) => {
+          needsTwo(`${path}.throw`, "a throw action");
+          if (checkPoints(a.throw, `${path}.throw`) && pointsOf?.get(a.throw) === "hand") {
+            errors.push({ path: `${path}.throw`, message: `points "${a.throw}" are worked by hand: only power-worked points can be thrown` });
+          }
+        },
+        alarm: () => {
+          if (rule.on === "standing") {
+            errors.push({ path: `${path}.alarm`, message: "a standing rule cannot raise an alarm (it would repeat on every settle)" });
+          }
+        },
+      });
     });
   });
 
@@ -324,6 +370,14 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
       route.approach.forEach((detector, i) => checkDetector(detector, `${path}.approach[${i}]`));
       checkDetector(route.entry, `${path}.entry`);
       route.exit.forEach((detector, i) => checkDetector(detector, `${path}.exit[${i}]`));
+      for (const id of Object.keys(route.points ?? {})) {
+        const at = `${path}.points${toJsonPath([id], "")}`;
+        needsTwo(at, "points on a proving route");
+        // The prover starts from a report of where they lie, so some board must report them.
+        if (checkPoints(id, at) && context?.reportedPoints && !context.reportedPoints.includes(id)) {
+          errors.push({ path: at, message: `no node reports where points "${id}" lie (add them to a node's points)` });
+        }
+      }
     });
     proving.conflicts.forEach((pair, index) => {
       pair.forEach((route, side) => {
@@ -338,11 +392,12 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
   }
 }
 
-function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
+/** The records' own cross-references: ids unique, lines known, nodes serving what exists. */
+function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
   const lines = duplicates(layout.lines, "$.lines", "line", errors);
   const detectors = duplicates(layout.detectors, "$.detectors", "detector", errors);
   const signals = duplicates(layout.signals, "$.signals", "signal", errors);
-  duplicates(layout.points, "$.points", "points", errors);
+  const pointsIds = duplicates(layout.points, "$.points", "points", errors);
   duplicates(layout.nodes, "$.nodes", "node", errors);
 
   const onLine = (items: readonly { line: string }[], base: string): void => {
@@ -376,15 +431,28 @@ function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
     node.signals.forEach((signal, index) => {
       if (!signals.has(signal)) errors.push({ path: `$.nodes[${nodeIndex}].signals[${index}]`, message: `unknown signal "${signal}"` });
     });
+    (node.points ?? []).forEach((id, index) => {
+      if (!pointsIds.has(id)) errors.push({ path: `$.nodes[${nodeIndex}].points[${index}]`, message: `unknown points "${id}"` });
+    });
   });
+}
 
+/** What a layout's records offer a rulebook to refer to. */
+export function rulebookContextOf(records: Pick<LayoutRecords, "detectors" | "signals"> & Partial<Pick<LayoutRecords, "points" | "nodes">>): RulebookContext {
+  return {
+    detectors: records.detectors.map((detector) => detector.id),
+    signals: records.signals.map((signal) => ({ id: signal.id, aspects: signal.aspects })),
+    points: records.points?.map((points) => ({ id: points.id, worked: pointsWorking(points) })),
+    reportedPoints: records.nodes?.flatMap((node) => node.points ?? []),
+  };
+}
+
+function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
+  checkRecords(layout, errors);
   checkRulebook(
     layout.rulebook,
     "$.rulebook",
-    {
-      detectors: layout.detectors.map((detector) => detector.id),
-      signals: layout.signals.map((signal) => ({ id: signal.id, aspects: signal.aspects })),
-    },
+    rulebookContextOf(layout),
     errors,
   );
 }
@@ -406,6 +474,24 @@ export function validateLayoutFile(input: unknown): LayoutValidation {
   const errors: ValidationError[] = [];
   checkLayout(parsed.data, errors);
   return errors.length > 0 ? { ok: false, errors } : { ok: true, layout: parsed.data };
+}
+
+/**
+ * Checks a layout's records (a layout file without its rulebook, as `PUT /api/layouts/:slug`
+ * sends them) and lists every error, the same way as {@link validateLayoutFile}.
+ */
+export function validateLayoutRecords(input: unknown): LayoutRecordsValidation {
+  const parsed = layoutRecordsSchema.safeParse(input);
+  if (!parsed.success) {
+    const errors = shapeErrors(parsed.error);
+    const table = Object.fromEntries(Object.entries(LAYOUT_PLACEHOLDERS).filter(([key]) => !key.startsWith("rulebook")));
+    const salvaged = salvage(input, parsed.error, table, layoutRecordsSchema);
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (records, out) => checkRecords(records, out), errors));
+    return { ok: false, errors };
+  }
+  const errors: ValidationError[] = [];
+  checkRecords(parsed.data, errors);
+  return errors.length > 0 ? { ok: false, errors } : { ok: true, records: parsed.data };
 }
 
 /**

@@ -101,4 +101,6 @@ export async function request<T>(path: string, options: RequestOptions = {}): Pr
 export const http = {
   get: <T>(path: string, signal?: AbortSignal) => request<T>(path, { method: "GET", signal }),
   post: <T>(path: string, body?: unknown) => request<T>(path, { method: "POST", body: body ?? {} }),
+  patch: <T>(path: string, body: unknown) => request<T>(path, { method: "PATCH", body }),
+  delete: <T>(path: string) => request<T>(path, { method: "DELETE" }),
 };

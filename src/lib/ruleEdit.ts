@@ -7,12 +7,15 @@
  * rule's `if`, e.g. `["all", 1, "not"]` for `$.rules[3].if.all[1].not`, so an error's path
  * and a form control meet without translation.
  */
+import { ACTION_KINDS, type ActionKind, type ConditionKind } from "../../shared/rulebook/kinds";
 import type { Action, Aspect, Condition, Rule, Rulebook } from "../../shared/rulebook/schema";
+
+export { ACTION_KINDS, type ActionKind };
 
 export type ConditionPath = readonly (string | number)[];
 
-/** The kinds of leaf condition the form offers, in the order they are listed. */
-export type LeafKind = "latch" | "count" | "selector" | "aspect";
+/** The kinds of leaf condition the form offers (every condition kind that is not a group or a not). */
+export type LeafKind = Exclude<ConditionKind, "not" | "all" | "any">;
 export type GroupKind = "all" | "any";
 
 /** The condition at `path`, or undefined when there is none. */
@@ -98,6 +101,8 @@ export interface Declared {
   selectors: { name: string; values: string[] }[];
   signals: { id: string; aspects: Aspect[] }[];
   detectors: string[];
+  /** The layout's points; only power-worked ones can be thrown. */
+  points: { id: string; worked: "power" | "hand" }[];
 }
 
 /** A new leaf condition of `kind`, filled with the first declared names. */
@@ -113,11 +118,11 @@ export function defaultLeaf(kind: LeafKind, declared: Declared): Condition {
     }
     case "aspect":
       return { aspect: declared.signals[0]?.id ?? "", is: "danger" };
+    case "points":
+      return { points: declared.points[0]?.id ?? "", lies: "normal" };
   }
 }
 
-export const ACTION_KINDS = ["set", "clear", "add", "zero", "select", "show", "alarm"] as const;
-export type ActionKind = (typeof ACTION_KINDS)[number];
 
 /** The kind of an action, or null for a shape the form does not know. */
 export function actionKind(action: unknown): ActionKind | null {
@@ -144,6 +149,8 @@ export function defaultAction(kind: ActionKind, declared: Declared): Action {
       const signal = declared.signals[0];
       return { show: signal?.id ?? "", aspect: signal?.aspects[0] ?? "danger" };
     }
+    case "throw":
+      return { throw: declared.points.find((p) => p.worked === "power")?.id ?? "", to: "normal" };
     case "alarm":
       return { alarm: "Check the junction" };
   }

@@ -5,7 +5,7 @@
  */
 import { initialStep, step, type Change, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
 import { replayCounterexample, type Move, type TrainView } from "../../shared/rulebook/prove";
-import type { ProvingRoute } from "../../shared/rulebook/schema";
+import { POINTS_LIES, type PointsLie, type ProvingRoute } from "../../shared/rulebook/schema";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { formatClock } from "./format";
 
@@ -39,6 +39,8 @@ export function describeInput(input: EngineInput): string {
       return `Pulse at ${input.detector} (${at})`;
     case "tick":
       return `Clock to ${at}`;
+    case "points":
+      return `Points ${input.points} reported ${input.lies} (${at})`;
     case "command":
       switch (input.command) {
         case "hold":
@@ -63,6 +65,8 @@ function describeMove(move: Move): string {
       return `Train ${move.train} (route ${move.route}) pulses ${move.detector}`;
     case "quiet":
       return `Quiet trigger ${move.rule} fires`;
+    case "points":
+      return `Points ${move.points} reported ${move.lies}`;
   }
 }
 
@@ -73,12 +77,14 @@ function describeMove(move: Move): string {
 const isObject = (v: unknown): v is Record<string, unknown> => typeof v === "object" && v !== null && !Array.isArray(v);
 const isText = (v: unknown): v is string => typeof v === "string" && v.length > 0;
 const isTime = (v: unknown): v is number => typeof v === "number" && Number.isFinite(v) && v >= 0;
+const isPointsLie = (v: unknown): v is PointsLie => typeof v === "string" && (POINTS_LIES as readonly string[]).includes(v);
 
 function toEngineInput(item: unknown): EngineInput | null {
   if (!isObject(item) || !isTime(item.at)) return null;
   const reason = typeof item.reason === "string" ? item.reason : undefined;
   if (item.type === "pulse" && isText(item.detector)) return { type: "pulse", detector: item.detector, at: item.at };
   if (item.type === "tick") return { type: "tick", at: item.at };
+  if (item.type === "points" && isText(item.points) && isPointsLie(item.lies)) return { type: "points", points: item.points, lies: item.lies, at: item.at };
   if (item.type !== "command") return null;
   switch (item.command) {
     case "hold":
@@ -102,6 +108,7 @@ function toMove(item: unknown): Move | null {
   if (item.type === "pulse" && isText(item.detector) && isText(item.route) && typeof item.train === "number")
     return { type: "pulse", detector: item.detector, route: item.route, train: item.train };
   if (item.type === "quiet" && isText(item.rule)) return { type: "quiet", rule: item.rule };
+  if (item.type === "points" && isText(item.points) && isPointsLie(item.lies)) return { type: "points", points: item.points, lies: item.lies };
   return null;
 }
 
@@ -131,7 +138,7 @@ export function parseInputList(value: unknown): InputList {
     kind: "inputs",
     inputs: list.map((item, index) => {
       const input = toEngineInput(item);
-      if (!input) throw new Error(`Item ${index} is not a pulse, tick or command with a time "at": ${JSON.stringify(item)}`);
+      if (!input) throw new Error(`Item ${index} is not a pulse, tick, points report or command with a time "at": ${JSON.stringify(item)}`);
       return input;
     }),
   };
@@ -201,6 +208,10 @@ export function describeChange(change: Change): string {
       return `rulebook faulted${change.detail ? `: ${change.detail}` : ""}`;
     case "alarm":
       return `alarm ${show(change.to)} on ${change.name}${change.detail ? `: ${change.detail}` : ""}`;
+    case "points":
+      return `points ${change.name} lie ${show(change.to)} (were ${show(change.from)})`;
+    case "throw":
+      return `points ${change.name} thrown ${show(change.to)}`;
   }
 }
 

@@ -1,4 +1,5 @@
 import { useParams } from "react-router-dom";
+import { useSociety } from "../api/accounts";
 import { ApiError } from "../api/http";
 import { useConnection, useDisplay, useLiveState, usePulses } from "../api/live";
 import { Mimic } from "../components/mimic/Mimic";
@@ -20,6 +21,7 @@ export default function DisplayPage() {
   const connection = useConnection(slug ?? "");
   const pulses = usePulses(slug ?? "");
   const now = useNow();
+  const society = useSociety();
 
   const refused = connection.status === "refused";
   if (display.isError || refused) {
@@ -40,7 +42,10 @@ export default function DisplayPage() {
   return (
     <main className="flex min-h-screen flex-col bg-panel-950 px-[3vw] py-[2vh]" data-display="true">
       <header className="flex items-baseline justify-between gap-6">
-        <h1 className="text-[clamp(1.5rem,3.2vw,3.5rem)] font-bold leading-tight">{display.data?.name ?? "Blocklight"}</h1>
+        <div>
+          <h1 className="text-[clamp(1.5rem,3.2vw,3.5rem)] font-bold leading-tight">{display.data?.name ?? "Blocklight"}</h1>
+          {society.data ? <p className="text-[clamp(0.9rem,1.5vw,1.6rem)] text-ink-soft" data-society="true">{society.data}</p> : null}
+        </div>
         <p className="font-mono text-[clamp(1.5rem,3.2vw,3.5rem)] font-bold tabular-nums text-ink-soft" aria-label="Time now">
           {new Date(now).toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit", second: "2-digit" })}
         </p>

@@ -1,4 +1,5 @@
-import { Navigate, useLocation, useNavigate } from "react-router-dom";
+import { Link, Navigate, useLocation, useNavigate } from "react-router-dom";
+import { useSetupStatus, useSociety } from "../api/accounts";
 import type { LoginBody } from "../../shared/contract/rest";
 import { useLogin, useMe } from "../api/auth";
 import { ApiError } from "../api/http";
@@ -14,6 +15,8 @@ function destination(state: unknown): string {
 export default function LoginPage() {
   const me = useMe();
   const login = useLogin();
+  const setup = useSetupStatus();
+  const society = useSociety();
   const navigate = useNavigate();
   const location = useLocation();
 
@@ -44,8 +47,19 @@ export default function LoginPage() {
           <span aria-hidden="true" className="inline-block h-3 w-3 rounded-full bg-aspect-clear text-aspect-clear shadow-lamp" />
           Blocklight
         </h1>
-        <p className="mb-6 text-sm text-ink-soft">Sign in to your society's junctions.</p>
+        <p className="mb-6 text-sm text-ink-soft">{society.data ? `Sign in to ${society.data}'s junctions.` : "Sign in to your society's junctions."}</p>
+        {setup.data?.needed ? (
+          <p role="status" className="mb-4 rounded-md border border-brass/60 bg-brass/10 p-2 text-sm text-ink">
+            No account exists yet. Open the setup link that <code>npm start</code> printed (the token is also in <code>DATA_DIR/setup-token</code>) to name your society and make its
+            first admin.
+          </p>
+        ) : null}
         <LoginForm onSubmit={submit} serverError={serverError} />
+        <p className="mt-4 text-center text-sm">
+          <Link to="/forgot-password" className="text-ink-soft underline hover:text-ink">
+            Forgot password?
+          </Link>
+        </p>
       </main>
       <p className="mt-6 max-w-md text-center text-xs text-ink-faint">{SAFETY_TEXT}</p>
     </div>

@@ -1,33 +1,35 @@
+import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { ROLES, type Role } from "../../shared/contract/rest";
-import type { InvitationBody, MemberDto } from "../../shared/contract/controlRoom";
+import { ROLES } from "../../shared/contract/rest";
+import { invitationBodySchema, type InvitationBody } from "../../shared/contract/controlRoom";
+import { useSociety } from "../api/accounts";
 import { useInviteMutation, useMembers } from "../api/admin";
+import { AccountAudit } from "../components/members/AccountAudit";
+import { InvitationList } from "../components/members/InvitationList";
+import { MemberTable } from "../components/members/MemberTable";
+import { SocietyName } from "../components/members/SocietyName";
 import { Button } from "../components/ui/Button";
-import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
-import { formatDateTime } from "../lib/format";
+import { useCurrentUser } from "../hooks/useCurrentUser";
 import { ROLE_LABELS } from "../lib/permissions";
+import { zodResolver } from "../lib/zodResolver";
 
-const col = columnsFor<MemberDto>();
-const columns = col.columns([
-  col.accessor("name", { header: "Name" }),
-  col.accessor("email", { header: "Email" }),
-  col.accessor("role", { header: "Role", cell: (info) => ROLE_LABELS[info.getValue()] }),
-  col.accessor("alarmMail", { header: "Alarm mail", cell: (info) => (info.getValue() ? "yes" : "no") }),
-]);
-
-/** Admins see the society's members and invite new ones by e-mail. */
+/** Admins see the society's members, change their roles, remove them, and invite new ones by e-mail. */
 export default function MembersPage() {
+  const user = useCurrentUser();
   const members = useMembers();
   const invite = useInviteMutation();
-  const form = useForm<InvitationBody>({ defaultValues: { email: "", role: "viewer" as Role } });
+  const society = useSociety();
+  const [changeError, setChangeError] = useState<string | null>(null);
+  const form = useForm<InvitationBody>({ resolver: zodResolver(invitationBodySchema), defaultValues: { email: "", role: "viewer" } });
 
   return (
     <div className="space-y-4">
       <h1 className="text-2xl font-bold">Members</h1>
       <Panel title="Invite a member">
         <form
+          noValidate
           className="flex flex-wrap items-end gap-3"
           onSubmit={form.handleSubmit((body) => invite.mutate(body, { onSuccess: () => form.reset({ email: "", role: body.role }) }))}
         >
@@ -35,7 +37,7 @@ export default function MembersPage() {
             <label htmlFor="invite-email" className="block text-sm text-ink-soft">
               Email
             </label>
-            <input id="invite-email" type="email" {...form.register("email", { required: "give an e-mail address" })} className="rounded-md border border-panel-600 bg-panel-950 px-2 py-1" />
+            <input id="invite-email" type="email" {...form.register("email")} className="rounded-md border border-panel-600 bg-panel-950 px-2 py-1" />
           </div>
           <div>
             <label htmlFor="invite-role" className="block text-sm text-ink-soft">
@@ -53,30 +55,33 @@ export default function MembersPage() {
             Send invitation
           </Button>
         </form>
+        <p className="mt-2 text-xs text-ink-faint">Inviting an address again replaces its earlier invitation: only the newest link works.</p>
         {form.formState.errors.email ? <p className="mt-2 text-sm text-notice-error">{form.formState.errors.email.message}</p> : null}
         {invite.isSuccess ? <p role="status" className="mt-2 text-sm text-notice-ok">Invitation sent.</p> : null}
         {invite.isError ? <p role="alert" className="mt-2 text-sm text-notice-error">{invite.error.message}</p> : null}
       </Panel>
+      {changeError ? (
+        <p role="alert" className="rounded-md border border-aspect-danger/60 bg-aspect-danger/10 p-3 text-notice-error">
+          {changeError}
+        </p>
+      ) : null}
       {members.isPending ? <Loading what="members" /> : null}
       {members.isError ? <LoadError error={members.error} what="members" /> : null}
       {members.data ? (
         <>
           <Panel title="Members">
-            <DataTable caption="Members" columns={columns} data={members.data.members} getRowId={(r) => String(r.id)} />
+            <MemberTable members={members.data.members} myId={user.id} onError={setChangeError} />
+            <p className="mt-2 text-xs text-ink-faint">A changed role applies from the member's next click. The society always keeps at least one admin.</p>
           </Panel>
           <Panel title="Invitations">
-            <ul className="space-y-1 text-sm">
-              {members.data.invitations.length === 0 ? <li className="text-ink-faint">No invitations.</li> : null}
-              {members.data.invitations.map((i) => (
-                <li key={i.id}>
-                  <span className="font-semibold">{i.email}</span> as {ROLE_LABELS[i.role]} · sent {formatDateTime(i.createdAt)} ·{" "}
-                  {i.acceptedAt ? `accepted ${formatDateTime(i.acceptedAt)}` : `open until ${formatDateTime(i.expiresAt)}`}
-                </li>
-              ))}
-            </ul>
+            <InvitationList invitations={members.data.invitations} onError={setChangeError} />
           </Panel>
         </>
       ) : null}
+      <Panel title="Society">{society.isSuccess ? <SocietyName name={society.data} /> : null}</Panel>
+      <Panel title="Account changes">
+        <AccountAudit />
+      </Panel>
     </div>
   );
 }

@@ -9,7 +9,7 @@ export default function OutboxPage() {
   return (
     <div className="space-y-4">
       <h1 className="text-2xl font-bold">Mail outbox</h1>
-      <p className="text-ink-soft">Alarm mails and invitations. With no SMTP server configured, mail stays here and is not delivered.</p>
+      <p className="text-ink-soft">Alarm mails, invitations and password-reset links. With no SMTP server configured, mail stays here and is not delivered.</p>
       {outbox.isPending ? <Loading what="the outbox" /> : null}
       {outbox.isError ? <LoadError error={outbox.error} what="the outbox" /> : null}
       {outbox.data && outbox.data.length === 0 ? <p className="text-ink-faint">No mail yet.</p> : null}

@@ -41,6 +41,8 @@ export default function RulebookPage() {
     () => ({
       detectors: layout.data?.detectors.map((d) => d.id) ?? [],
       signals: layout.data?.signals.map((s) => ({ id: s.id, aspects: s.aspects })) ?? [],
+      points: layout.data?.points.map((p) => ({ id: p.id, worked: p.worked ?? "hand" })) ?? [],
+      reportedPoints: layout.data?.nodes.flatMap((n) => (n as { points?: string[] }).points ?? []) ?? [],
     }),
     [layout.data],
   );

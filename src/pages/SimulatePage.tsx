@@ -144,7 +144,7 @@ export default function SimulatePage() {
               <Mimic
                 title={layout.data.name}
                 layout={layout.data}
-                state={{ shown, counters: current.state.counters, selectors: current.state.selectors, held: current.state.held }}
+                state={{ shown, counters: current.state.counters, selectors: current.state.selectors, held: current.state.held, points: current.state.points }}
                 routes={rulebook.proving?.routes}
                 pulses={pulsedDetector ? { [pulsedDetector]: sim.cursor } : undefined}
                 lastPulsed={pulsedDetector}

@@ -70,10 +70,12 @@ describe("layout files", () => {
     const text = JSON.stringify(exported.body);
     expect(text).not.toContain(node.body.secret);
     expect(text).not.toMatch(/secret/i);
+    // The export writes what a `/1` file leaves out: points hand-worked, boards reporting no points.
     const { nodes, ...rest } = exported.body;
     const { nodes: fileNodes, ...fileRest } = file;
-    expect(rest).toEqual(fileRest);
-    expect(nodes.slice(0, fileNodes.length)).toEqual(fileNodes);
+    expect(rest).toEqual({ ...fileRest, points: file.points.map((p) => ({ ...p, worked: "hand" })) });
+    expect(nodes.slice(0, fileNodes.length)).toEqual(fileNodes.map((n) => ({ ...n, points: [] })));
+    expect(Object.keys(exported.body)).toEqual(["format", "slug", "name", "scale", "lines", "detectors", "signals", "points", "nodes", "schematic", "rulebook"]);
 
     const stored = await t.deps.db.sequelize.query<{ secret_hash: string }>(
       "SELECT secret_hash FROM nodes WHERE node_id = 'spare-board'",
@@ -103,7 +105,10 @@ describe("layout files", () => {
     expect(bad.status).toBe(400);
     expect(bad.body.error.details[0].path).toMatch(/^\$\.rules\[0\]\.do\[0\]/);
 
-    expect((await engineer.post(`/api/layouts/kestrel-bank/rulebooks/${version}/publish`)).status).toBe(200);
+    // Never proved: publishing needs an explicit "without proof" with a reason.
+    expect((await engineer.post(`/api/layouts/kestrel-bank/rulebooks/${version}/publish`)).status).toBe(400);
+    const published = await engineer.post(`/api/layouts/kestrel-bank/rulebooks/${version}/publish`).send({ withoutProof: true, reason: "same rules as version 1" });
+    expect(published.status).toBe(200);
     const detail = await engineer.get("/api/layouts/kestrel-bank");
     expect(detail.body.layout.versions.find((v: { version: number }) => v.version === version)).toMatchObject({ status: "published", live: true });
   });

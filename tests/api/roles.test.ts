@@ -7,16 +7,20 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { allows, type Action } from "../../shared/contract/permissions";
 import { ROLES, type Role } from "../../shared/contract/rest";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { findTemplate } from "../../shared/rulebook/templateCatalog";
+import { DEMO_PASSWORD } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
+import { createLayout } from "../../server/features/layouts/edit";
 import { API_ROUTERS } from "../../server/app";
 import type { RouteGuard } from "../../server/features/auth/middleware";
 
-type Method = "get" | "post" | "delete";
+type Method = "get" | "post" | "put" | "patch" | "delete";
 interface RouteCase {
   method: Method;
-  path: string;
+  /** A function when the path names a row made in beforeAll. */
+  path: string | (() => string);
   /** The permission the route's guard names; the roles it allows come from the one table. */
   action: Action;
   /** A body that succeeds for an allowed role; may vary per role to stay unique. */
@@ -27,6 +31,17 @@ interface RouteCase {
 }
 
 const layoutCopy = (role: Role) => ({ ...kestrelBankLayout(), slug: `matrix-${role}` });
+const editBody = (revision: number) => ({
+  format: "blocklight.layout/1",
+  slug: "matrix-edit",
+  name: "Matrix edit",
+  scale: { name: "G", ratio: 22.5 },
+  lines: [{ id: "main", name: "Main line" }],
+  revision,
+});
+/** Rows the member-admin rows act on, made in beforeAll (never a demo account the other rows sign in as). */
+const spare = { memberId: 0, removableId: 0, invitationId: 0, revocableId: 0 };
+const pathOf = (path: RouteCase["path"]) => (typeof path === "string" ? path : path());
 
 const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/me", action: "read" },
@@ -46,7 +61,25 @@ const ROUTES: RouteCase[] = [
     body: () => ({ rulebook: kestrelBankLayout().rulebook, note: "matrix" }),
     okStatus: 201,
   },
-  { method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", action: "rulebooks.publish" },
+  {
+    method: "post", path: "/api/layouts/kestrel-bank/rulebooks/1/publish", action: "rulebooks.publish",
+    body: () => ({ withoutProof: true, reason: "matrix check" }),
+  },
+  // The workbench (beforeAll creates "matrix-edit" and "matrix-archive", both empty)
+  {
+    method: "post", path: "/api/layouts", action: "layouts.create",
+    body: (role) => ({ slug: `new-${role}`, name: `New layout of the ${role}`, scale: { name: "G", ratio: 22.5 } }),
+    okStatus: 201,
+  },
+  // Rows run in ROLES order (admin before engineer), each save moving the revision on by one.
+  { method: "put", path: "/api/layouts/matrix-edit", action: "layouts.edit", body: (role) => editBody(role === "admin" ? 1 : 2) },
+  { method: "post", path: "/api/layouts/matrix-archive/archive", action: "layouts.archive" },
+  { method: "post", path: "/api/layouts/matrix-archive/restore", action: "layouts.archive" },
+  { method: "get", path: "/api/templates", action: "templates.use" },
+  {
+    method: "post", path: "/api/templates/converging-junction", action: "templates.use",
+    body: () => ({ options: findTemplate("converging-junction")!.example }),
+  },
   {
     method: "post", path: "/api/simulate", action: "read",
     body: () => ({ layout: kestrelBankLayout(), events: [{ type: "pulse", detector: "MA", at: "2026-05-02T10:15:03.120Z" }] }),
@@ -87,9 +120,30 @@ const ROUTES: RouteCase[] = [
   { method: "post", path: "/api/layouts/kestrel-bank/display-links", action: "display-links.manage", body: () => ({ label: "matrix" }), okStatus: 201 },
   { method: "get", path: "/api/layouts/kestrel-bank/display-links", action: "display-links.manage" },
   { method: "delete", path: "/api/layouts/kestrel-bank/display-links/1", action: "display-links.manage", okStatus: 204 },
+  // Accounts (issue 11): one's own account, and the admin's members, invitations and account audit
+  { method: "patch", path: "/api/me", action: "read", body: (role) => ({ name: `Fernmoor ${role}`, currentPassword: DEMO_PASSWORD }) },
+  { method: "patch", path: "/api/me/preferences", action: "read", body: () => ({ alarmMail: false }) },
+  { method: "patch", path: () => `/api/admin/members/${spare.memberId}`, action: "members.manage", body: () => ({ alarmMail: true }) },
+  { method: "delete", path: () => `/api/admin/members/${spare.removableId}`, action: "members.manage", okStatus: 204 },
+  { method: "post", path: () => `/api/admin/invitations/${spare.invitationId}/resend`, action: "members.manage" },
+  { method: "delete", path: () => `/api/admin/invitations/${spare.revocableId}`, action: "members.manage", okStatus: 204 },
+  { method: "get", path: "/api/admin/audit", action: "members.manage" },
+  { method: "patch", path: "/api/society", action: "members.manage", body: () => ({ name: "Fernmoor Garden Railway Society" }) },
 ];
 
-type MethodName = Method | "put" | "patch";
+/** Routes for people without an account (yet): every caller gets the same answer. */
+const PUBLIC_ROUTES: { method: Method; path: string; body?: unknown; status: number }[] = [
+  { method: "get", path: "/api/health", status: 200 },
+  { method: "get", path: "/api/setup", status: 200 },
+  { method: "get", path: "/api/society", status: 200 },
+  // The demo has accounts, so setup is done whoever asks.
+  { method: "post", path: "/api/setup", body: { token: "x", society: "S", name: "N", email: "n@fernmoor.example", password: "long-enough-pw" }, status: 409 },
+  { method: "post", path: "/api/auth/reset", body: { email: "nobody@fernmoor.example" }, status: 202 },
+  { method: "post", path: "/api/auth/reset/not-a-token", body: { password: "long-enough-pw" }, status: 404 },
+  { method: "get", path: "/api/invitations/not-a-token", status: 404 },
+];
+
+type MethodName = Method;
 interface AppRoute {
   method: MethodName;
   path: string;
@@ -120,6 +174,14 @@ describe("route × role matrix", () => {
     await raiseAlarm(t.deps, { layoutId: layout!.id, kind: "node-offline", subject: "junction", message: "matrix alarm" });
     await live.runtime.session("kestrel-bank", "open", { id: 1, name: "matrix" });
     await agents.get("admin")!.post("/api/layouts/kestrel-bank/display-links").send({ label: "matrix link 1" });
+    const admin = await t.deps.db.models.User.findOne({ where: { role: "admin" } });
+    for (const slug of ["matrix-edit", "matrix-archive"]) await createLayout(t.deps, { slug, name: slug, scale: { name: "G", ratio: 22.5 } }, admin!.id);
+    const { User } = t.deps.db.models;
+    spare.memberId = (await User.create({ email: "spare.member@fernmoor.example", name: "Spare member", role: "viewer", passwordHash: "x" })).id;
+    spare.removableId = (await User.create({ email: "spare.leaver@fernmoor.example", name: "Spare leaver", role: "viewer", passwordHash: "x" })).id;
+    const invite = (email: string) => agents.get("admin")!.post("/api/invitations").send({ email, role: "viewer" });
+    spare.invitationId = (await invite("spare.invitee@fernmoor.example")).body.id;
+    spare.revocableId = (await invite("spare.revoked@fernmoor.example")).body.id;
   });
   afterAll(async () => {
     await live?.close();
@@ -131,9 +193,11 @@ describe("route × role matrix", () => {
     ...ROLES.map((role) => ({ route, role })),
   ]);
 
-  it.each(rows.map((r) => [`${r.route.method.toUpperCase()} ${r.route.path} as ${r.role}`, r] as const))("%s", async (_name, { route, role }) => {
+  // Lazy paths are named by their pattern: the ids exist only once beforeAll has run.
+  const shown = (path: RouteCase["path"]) => (typeof path === "string" ? path : path().replace(/\/0(\/|$)/, "/:id$1"));
+  it.each(rows.map((r) => [`${r.route.method.toUpperCase()} ${shown(r.route.path)} as ${r.role}`, r] as const))("%s", async (_name, { route, role }) => {
     const send = (agent: ReturnType<typeof request.agent> | ReturnType<typeof request>) => {
-      const req = agent[route.method](route.path);
+      const req = agent[route.method](pathOf(route.path));
       const body = route.body?.(role === "anonymous" ? "viewer" : role);
       return body === undefined ? req : req.send(body as object);
     };
@@ -162,7 +226,7 @@ describe("route × role matrix", () => {
       }
       if ("public" in route.guard) continue;
       const pattern = new RegExp(`^/api${route.path.replace(/:[A-Za-z]+/g, "[^/]+")}$`);
-      const rows = ROUTES.filter((row) => row.method === route.method && pattern.test(row.path.split("?")[0]));
+      const rows = ROUTES.filter((row) => row.method === route.method && pattern.test(pathOf(row.path).split("?")[0]));
       if (rows.length === 0) problems.push(`${label} (${route.guard.action}) has no row in the matrix`);
       for (const row of rows) {
         if (row.action !== route.guard.action) problems.push(`${label}: the guard says ${route.guard.action}, the row ${row.path} says ${row.action}`);
@@ -170,6 +234,16 @@ describe("route × role matrix", () => {
     }
     expect(problems).toEqual([]);
   });
+
+  it.each(PUBLIC_ROUTES.flatMap((route) => ["anonymous", ...ROLES].map((who) => [`${route.method.toUpperCase()} ${route.path} as ${who}`, route, who] as const)))(
+    "%s (public)",
+    async (_name, route, who) => {
+      const agent = who === "anonymous" ? request(t.app) : agents.get(who as Role)!;
+      const req = agent[route.method](route.path);
+      const res = await (route.body === undefined ? req : req.send(route.body as object));
+      expect(res.status, JSON.stringify(res.body)).toBe(route.status);
+    },
+  );
 
   it("health needs no sign-in and reports the database", async () => {
     const res = await request(t.app).get("/api/health");

@@ -28,7 +28,7 @@ import { configFromEnv } from "../../server/config";
 import { openDatabase } from "../../server/db/database";
 import { freePort, startEmbeddedPostgres } from "../../server/db/embeddedPostgres";
 import type { AppDeps } from "../../server/deps";
-import { signSession, hashSecret, SESSION_COOKIE } from "../../server/features/auth/service";
+import { startSession, hashSecret, SESSION_COOKIE } from "../../server/features/auth/service";
 import { importLayout, registerNode } from "../../server/features/layouts/service";
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { createApp } from "../../server/app";
@@ -164,7 +164,7 @@ export async function run(report: Report): Promise<void> {
     await board.subscribeAsync(`blocklight/v1/${SLUG}/signal/#`, { qos: 1 });
     const socket = ioClient(`http://127.0.0.1:${(server.address() as AddressInfo).port}`, {
       transports: ["websocket"],
-      extraHeaders: { cookie: `${SESSION_COOKIE}=${signSession({ id: user.id, role: "signaller" }, config.sessionSecret)}` },
+      extraHeaders: { cookie: `${SESSION_COOKIE}=${(await startSession(deps, user)).token}` },
     });
     await new Promise<void>((resolve, reject) => {
       socket.once("connect", () => resolve());

@@ -31,7 +31,7 @@ import { configFromEnv } from "../../server/config";
 import { openDatabase } from "../../server/db/database";
 import { freePort, startEmbeddedPostgres } from "../../server/db/embeddedPostgres";
 import type { AppDeps } from "../../server/deps";
-import { hashSecret, SESSION_COOKIE, signSession } from "../../server/features/auth/service";
+import { hashSecret, SESSION_COOKIE, startSession } from "../../server/features/auth/service";
 import { importLayout, registerNode } from "../../server/features/layouts/service";
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { createLogger } from "../../server/logger";
@@ -177,7 +177,7 @@ export async function run(report: Report): Promise<void> {
       await context.close();
       fs.rmSync(profile, { recursive: true, force: true });
     });
-    await context.addCookies([{ name: SESSION_COOKIE, value: signSession({ id: user.id, role: "signaller" }, config.sessionSecret), url: baseUrl }]);
+    await context.addCookies([{ name: SESSION_COOKIE, value: (await startSession(deps, user)).token, url: baseUrl }]);
     const page = await context.newPage();
     await page.goto(`${baseUrl}/layouts/${SLUG}/live`);
     await page.locator('[data-connection="live"]').first().waitFor({ timeout: 20_000 });
@@ -210,7 +210,7 @@ export async function run(report: Report): Promise<void> {
     report("ui-fps-idle", Math.round((((await page.evaluate("window.__frames")) as number) - idleStart) / 2), "frames/s");
 
     // The floor: the same pushes seen by a socket.io client in this process (no browser).
-    const probe = ioClient(baseUrl, { transports: ["websocket"], extraHeaders: { cookie: `${SESSION_COOKIE}=${signSession({ id: user.id, role: "signaller" }, config.sessionSecret)}` } });
+    const probe = ioClient(baseUrl, { transports: ["websocket"], extraHeaders: { cookie: `${SESSION_COOKIE}=${(await startSession(deps, user)).token}` } });
     cleanups.unshift(() => probe.close());
     await new Promise<void>((resolve, reject) => {
       probe.once("connect", () => resolve());

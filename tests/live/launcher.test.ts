@@ -97,6 +97,10 @@ describe("npm start's launcher", () => {
       });
       expect(health).toMatchObject({ db: "up" });
       expect(processesMentioning(path.join(dataDir, "pg")).length).toBeGreaterThan(0);
+      // A fresh install with DEMO off has no account: the banner prints the one-time setup link.
+      expect(await waitUntil(() => /\/setup\?token=[A-Za-z0-9_-]+/.test(output), 10_000), output).toBe(true);
+      const token = fs.readFileSync(path.join(dataDir, "setup-token"), "utf8").trim();
+      expect(output).toContain(`http://127.0.0.1:${port}/setup?token=${token}`);
 
       const exited = new Promise<number | null>((resolve) => launcher!.once("exit", (code) => resolve(code)));
       launcher.kill("SIGTERM");

@@ -15,7 +15,7 @@ import net from "node:net";
 import os from "node:os";
 import path from "node:path";
 import { fileURLToPath } from "node:url";
-import { ReferenceBoard } from "../../broker/referenceBoard";
+import { ReferenceBoard, type ReferenceBoardOptions } from "../../broker/referenceBoard";
 import { freePort } from "../../server/db/embeddedPostgres";
 import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 
@@ -52,7 +52,12 @@ export interface Child {
 }
 
 function spawnChild(file: string, env: NodeJS.ProcessEnv): Child {
-  const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, file)], { cwd: ROOT, env: { ...process.env, ...env }, stdio: ["ignore", "pipe", "pipe"] });
+  // A stdin pipe and BLOCKLIGHT_SUPERVISED (server/parentWatch.ts): the child stops when this process goes, however it goes.
+  const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, file)], {
+    cwd: ROOT,
+    env: { ...process.env, ...env, BLOCKLIGHT_SUPERVISED: "1" },
+    stdio: ["pipe", "pipe", "pipe"],
+  });
   const output: string[] = [];
   const keep = (chunk: Buffer) => {
     output.push(chunk.toString());
@@ -123,12 +128,14 @@ export class FaultRig {
   }
 
   async startBroker(): Promise<void> {
+    if (this.broker && this.broker.process.exitCode === null) throw new Error("a broker process is running already");
     this.mqttPort ||= await freePort();
     this.broker = spawnChild("broker/index.ts", this.env());
     await until("the broker to listen", () => portOpen(this.mqttPort), this.broker);
   }
 
   async startServer(): Promise<void> {
+    if (this.server && this.server.process.exitCode === null) throw new Error("a server process is running already");
     this.httpPort ||= await freePort();
     this.server = spawnChild("server/index.ts", this.env());
     await until(
@@ -152,13 +159,13 @@ export class FaultRig {
     const exited = new Promise((resolve) => child.process.once("exit", resolve));
     child.process.kill("SIGKILL");
     await exited;
-    this[which] = null;
+    if (this[which] === child) this[which] = null;
   }
 
-  board(node: string, boot?: string): ReferenceBoard {
+  board(node: string, extra: Partial<ReferenceBoardOptions> = {}): ReferenceBoard {
     const secret = this.options.secrets.get(node);
     if (!secret) throw new Error(`no secret for ${node}`);
-    return new ReferenceBoard({ url: this.mqttUrl, layout: RIG_SLUG, node, secret, boot, signals: node === "counter-1" ? ["S1"] : [], announce: true });
+    return new ReferenceBoard({ url: this.mqttUrl, layout: RIG_SLUG, node, secret, signals: node === "counter-1" ? ["S1"] : [], announce: true, ...extra });
   }
 
   async close(): Promise<void> {
@@ -191,10 +198,14 @@ export async function stream(
   const sent = boards.map(() => 0);
   const started = Date.now();
   const pending = [...hooks].sort((a, b) => a.atMs - b.atMs);
-  const running: Promise<void>[] = [];
+  // Hooks run one after another (a restart must not overtake the kill before it).
+  let chain: Promise<void> = Promise.resolve();
   for (;;) {
     const elapsed = Date.now() - started;
-    while (pending.length && pending[0].atMs <= elapsed) running.push(Promise.resolve(pending.shift()!.run()));
+    while (pending.length && pending[0].atMs <= elapsed) {
+      const hook = pending.shift()!;
+      chain = chain.then(() => hook.run());
+    }
     const due = Math.min(perBoard, Math.floor(((elapsed + TICK_MS) / 1000) * (perSecond / boards.length)));
     boards.forEach((b, i) => {
       for (; sent[i] < due; sent[i]++) void b.board.pulse(b.detector);
@@ -202,7 +213,7 @@ export async function stream(
     if (sent.every((n) => n >= perBoard) && pending.length === 0) break;
     await new Promise((resolve) => setTimeout(resolve, TICK_MS));
   }
-  await Promise.all(running);
+  await chain;
   return sent;
 }
 

@@ -30,6 +30,16 @@ describe("Mimic", () => {
     expect(screen.getByRole("img", { name: "Detector MA, Main approach" })).toBeTruthy();
   });
 
+  it.each([
+    ["reverse", "reverse"],
+    [undefined, "unknown"],
+  ] as const)("draws points with data-points and data-lies (%s)", (lies, drawn) => {
+    const { container } = render(<Mimic title="Kestrel" layout={kestrel} state={{ shown: {}, points: { P1: lies } }} />);
+    const el = container.querySelector('[data-points="P1"]');
+    expect(el?.getAttribute("data-lies")).toBe(drawn);
+    expect(screen.getByRole("img", { name: `Points P1, Bank points: ${lies ?? "not reported"}` })).toBe(el);
+  });
+
   it("has no buttons or form controls (the visitor display uses it as it is)", () => {
     const { container } = render(<Mimic title="Kestrel" layout={kestrel} state={{ shown: { M1: "clear" } }} routes={routes} />);
     expect(container.querySelectorAll("button, input, select, textarea")).toHaveLength(0);

@@ -12,7 +12,7 @@ afterEach(() => {
 });
 
 const file = kestrelBankLayout();
-const layout: LayoutDetail = { ...file, schematic: null, versions: [] };
+const layout: LayoutDetail = { ...file, schematic: null, versions: [], revision: 1, liveVersion: 1, archivedAt: null, nodes: file.nodes.map((n) => ({ ...n, points: n.points ?? [] })) };
 
 function renderWithServer(reply: { status: number; body: unknown }) {
   const fetchMock = vi.fn(async () => new Response(JSON.stringify(reply.body), { status: reply.status, headers: { "Content-Type": "application/json" } }));

@@ -8,6 +8,7 @@ import { describe, expect, it } from "vitest";
 import { shownAspects } from "../../shared/rulebook/engine";
 import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "../../shared/rulebook/prove";
 import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "../../shared/rulebook/schema";
+import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
@@ -85,6 +86,23 @@ const releaseRoute: Rule = {
   do: [{ select: "route", value: "none" }],
 };
 
+
+/** A facing junction at W1 (rulebook /2): `through` needs P1 normal, `loop` needs P1 reverse. */
+function facing(rules: Rule[], options: { throws?: boolean; loopOnly?: boolean } = {}): Rulebook {
+  const loop = { id: "loop", signal: "W1", approach: ["WA"], entry: "WE", exit: ["LX"], points: { P1: "reverse" as const } };
+  const through = { id: "through", signal: "W1", approach: ["WA"], entry: "WE", exit: ["TX"], points: { P1: "normal" as const } };
+  return rulebookSchema.parse({
+    format: "blocklight.rulebook/2",
+    counters: { waiting: 0 },
+    initial: { W1: "danger" },
+    rules,
+    proving: { routes: options.loopOnly ? [loop] : [through, loop], conflicts: [], maxAxles: 1, maxTrainsPerRoute: 1 },
+  });
+}
+const waitingCount: Rule = { id: "waiting", on: { pass: "WA" }, do: [{ add: "waiting", by: 1 }] };
+const entered: Rule = { id: "entered", on: { pass: "WE" }, do: [{ add: "waiting", by: -1 }, { show: "W1", aspect: "danger" }] };
+const clearOnApproach: Rule = { id: "clear", on: "standing", if: { count: "waiting", op: ">", value: 0 }, do: [{ show: "W1", aspect: "clear" }] };
+
 interface Broken {
   name: string;
   breaks: PropertyId;
@@ -92,6 +110,38 @@ interface Broken {
 }
 
 const BROKEN: Broken[] = [
+  // ---- points-set-for-train ---------------------------------------------------------
+  {
+    name: "the signal clears for the loop without throwing the points, which lie normal",
+    breaks: "points-set-for-train",
+    rulebook: facing([waitingCount, entered, clearOnApproach, { id: "never", on: { pass: "LX" }, do: [{ throw: "P1", to: "reverse" }] }], { loopOnly: true }),
+  },
+  {
+    name: "hand points may be moved while the signal is clear and the train has not reached it",
+    breaks: "points-set-for-train",
+    rulebook: facing([waitingCount, entered, clearOnApproach]),
+  },
+  // ---- points-locked ---------------------------------------------------------------
+  {
+    name: "the points are thrown and the signal cleared in one go",
+    breaks: "points-locked",
+    rulebook: facing([
+      waitingCount,
+      entered,
+      { id: "set-and-clear", on: "standing", if: { count: "waiting", op: ">", value: 0 }, do: [{ throw: "P1", to: "reverse" }, { show: "W1", aspect: "clear" }] },
+    ]),
+  },
+  {
+    name: "the points are thrown back for the next train as soon as the train passes the signal",
+    breaks: "points-locked",
+    rulebook: facing([
+      waitingCount,
+      { ...entered, do: [...entered.do, { throw: "P1", to: "normal" }] },
+      { id: "set", on: { pass: "WA" }, do: [{ throw: "P1", to: "reverse" }] },
+      { id: "clear-when-set", on: { moved: "P1" }, if: { all: [{ points: "P1", lies: "moving" }, { count: "waiting", op: ">", value: 0 }] }, do: [] },
+      { id: "clear", on: "standing", if: { all: [{ count: "waiting", op: ">", value: 0 }, { points: "P1", lies: "reverse" }] }, do: [{ show: "W1", aspect: "clear" }] },
+    ]),
+  },
   // ---- no-conflicting-proceeds -------------------------------------------------------
   {
     name: "each route clears its own signal on approach, ignoring the other route",
@@ -379,6 +429,20 @@ function assertReallyBroken(rulebook: Rulebook, property: PropertyId, moves: Non
       expect(clash).toBe(true);
       break;
     }
+    case "points-set-for-train": {
+      // The last move is a leading axle crossing entry, and no route of the group has its points.
+      const move = last!.move;
+      expect(move.type === "pulse" && routes.some((r) => r.entry === move.detector)).toBe(true);
+      const lies = state.points;
+      expect(routes.some((r) => Object.entries(r.points ?? {}).every(([p, want]) => lies[p] === want))).toBe(false);
+      break;
+    }
+    case "points-locked": {
+      // The last move starts power-worked points moving.
+      const move = last!.move;
+      expect(move.type === "points" && move.lies === "moving").toBe(true);
+      break;
+    }
     case "no-stuck-train":
     case "priority-unhindered": {
       // A train waits at its signal (leading axle over every approach detector, not entry) at danger.
@@ -460,23 +524,30 @@ describe("the prover proves sound rulebooks", () => {
     expect(result.verdict).toBe("proved");
   });
 
-  // Known gap, reported: in the §5 environment a train's road is chosen when it arrives, not by
-  // the points, so a train "for the loop" may follow a signal cleared for the through road and
-  // the road counts go wrong. Until the contract says how trains follow facing points, the
-  // facing template cannot be proved; this test flips (and must be changed) when it can.
-  it.fails("template: facing junction, first free road (not provable under §5 as written)", () => {
+  // §5 (/2): a train's road is fixed by where the points lie as it passes the signal.
+  it.each(["power", "hand"] as const)("template: facing junction, %s-worked points", (worked) => {
     const rulebook = facingJunction({
       signal: "W1",
       approach: ["WA"],
       entry: "WE",
       points: "P1",
-      choose: "first-free",
+      worked,
       roads: [
         { id: "through", exit: ["TX", "TZ"] },
         { id: "loop", exit: ["LX", "LZ"] },
       ],
+      maxAxles: 3,
     });
-    expect(prove(rulebook).verdict).toBe("proved");
+    const result = prove(rulebook, { points: { P1: worked } });
+    expect(result.properties.filter((p) => p.holds !== true)).toEqual([]);
+    expect(result.properties.map((p) => p.id)).toContain("points-locked");
+    expect(result.verdict).toBe("proved");
+  });
+
+  it("the Wrenfold Loop demo is proved (power-worked points, as its layout says)", () => {
+    const layout = wrenfoldLoopLayout();
+    const points = Object.fromEntries(layout.points.map((p) => [p.id, p.worked ?? "hand"]));
+    expect(prove(layout.rulebook, { points }).verdict).toBe("proved");
   });
 
   it("never says proved when it stops at a limit", () => {

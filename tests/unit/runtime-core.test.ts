@@ -138,6 +138,23 @@ describe("apply", () => {
     expect(step.core.state.counters.n).toBe(0);
   });
 
+  it("a points report shares its boot's seq with pulses and is stepped like one", () => {
+    let c = core();
+    const kinds: string[] = [];
+    let lastCovered = 0;
+    for (const [i, [suffix, payload]] of ([
+      ["points", { points: "P1", lies: "reverse", seq: 2, boot: "k" }],
+      ["pulse", { detector: "D1", seq: 1, boot: "k" }],
+    ] as const).entries()) {
+      const step = apply(c, message(suffix, payload, 100 + i), 100 + i);
+      c = step.core;
+      kinds.push(...step.rows.events.map((e) => `${e.kind}:${e.status}`));
+      for (const e of step.effects) if (e.type === "covered") lastCovered = e.seq;
+    }
+    expect(kinds).toEqual(["pulse:accepted", "points:accepted"]);
+    expect(lastCovered).toBe(2);
+  });
+
   it("a quiet trigger fires on the clock's tick; nextDue names its deadline", () => {
     let c = core();
     c = apply(c, message("pulse", { detector: "D1", seq: 1, boot: "k" }, 1000), 1000).core;

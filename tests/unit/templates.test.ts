@@ -17,7 +17,7 @@ const converging = (order: "priority" | "first-come", maxAxles = 2) =>
     maxTrainsPerRoute: 2,
   });
 
-const facing = (choose: "points" | "first-free") =>
+const facing = (worked: "power" | "hand") =>
   facingJunction({
     signal: "W1",
     approach: ["WA"],
@@ -27,7 +27,9 @@ const facing = (choose: "points" | "first-free") =>
       { id: "through", exit: ["TX", "TZ"] },
       { id: "loop", exit: ["LX", "LZ"] },
     ],
-    choose,
+    worked,
+    maxAxles: 2,
+    maxTrainsPerRoute: 2,
   });
 
 function run(rulebook: Rulebook, detectors: string[], from?: EngineState) {
@@ -40,8 +42,8 @@ describe("templates validate", () => {
   it.each([
     ["converging, priority", converging("priority")],
     ["converging, first-come", converging("first-come")],
-    ["facing, points", facing("points")],
-    ["facing, first-free", facing("first-free")],
+    ["facing, hand-worked", facing("hand")],
+    ["facing, power-worked", facing("power")],
   ])("%s", (_name, rulebook) => {
     const result = validateRulebookFile(JSON.parse(JSON.stringify(rulebook)));
     expect(result.ok ? [] : result.errors).toEqual([]);
@@ -62,8 +64,8 @@ describe("templates validate", () => {
         order: "first-come",
       })],
     ["an unknown priority route", () => convergingJunction({ routes: [{ id: "a", signal: "S", approach: ["A"], entry: "E", exit: ["X"] }], order: "priority", priority: "b" })],
-    ["points mode with three roads", () =>
-      facingJunction({ signal: "W1", approach: ["WA"], entry: "WE", points: "P", choose: "points", roads: [{ id: "a", exit: ["A"] }, { id: "b", exit: ["B"] }, { id: "c", exit: ["C"] }] })],
+    ["a facing junction with three roads", () =>
+      facingJunction({ signal: "W1", approach: ["WA"], entry: "WE", points: "P", worked: "hand", roads: [{ id: "a", exit: ["A"] }, { id: "b", exit: ["B"] }, { id: "c", exit: ["C"] }] })],
   ])("refuses %s", (_name, make) => {
     expect(make).toThrow(/template/);
   });
@@ -87,34 +89,35 @@ describe("converging junction traces", () => {
 });
 
 describe("facing junction traces", () => {
-  it("first-free: the first train takes the through road, the next the loop", () => {
-    const rulebook = facing("first-free");
-    const first = run(rulebook, ["WA", "WA"]);
-    expect(first.shown).toEqual({ W1: "clear" });
-    expect(first.state.selectors.road).toBe("through");
-    const second = run(rulebook, ["WE", "WE", "WA", "TX"], first.state);
-    expect(second.state.selectors.road).toBe("loop");
-    expect(second.shown).toEqual({ W1: "clear" });
-    const third = run(rulebook, ["TX", "WE", "WA", "LX"], second.state);
-    // Both roads occupied: the third train waits.
-    expect(third.shown).toEqual({ W1: "danger" });
-    expect(third.state.counters).toMatchObject({ throughRoad: 2, loopRoad: 1 });
-    // The through road empties: the third train gets it.
-    expect(run(rulebook, ["TZ", "TZ"], third.state).state.selectors.road).toBe("through");
+  const report = (rulebook: Rulebook, state: EngineState, lies: "normal" | "reverse" | "moving") =>
+    step(rulebook, state, { type: "points", points: "P2", lies, at: state.clock + 100 }).state;
+
+  it("power: throws the points for the road whose turn it is, clears only once they lie for it", () => {
+    const rulebook = facing("power");
+    let state = report(rulebook, initialState(rulebook), "normal");
+    state = run(rulebook, ["WA"], state).state;
+    expect(state.selectors.road).toBe("through");
+    expect(shownAspects(rulebook, state)).toEqual({ W1: "clear" });
+    // The train passes and leaves; the next train's turn is the loop: points thrown reverse.
+    state = run(rulebook, ["WE", "TX", "TZ", "WA"], state).state;
+    expect(state.selectors.road).toBe("loop");
+    expect(state.thrown).toEqual({ P2: "reverse" });
+    expect(shownAspects(rulebook, state)).toEqual({ W1: "danger" });
+    state = report(rulebook, report(rulebook, state, "moving"), "reverse");
+    expect(shownAspects(rulebook, state)).toEqual({ W1: "clear" });
   });
 
-  it("points: the signal clears for the road the points lie for, and not while it is occupied", () => {
-    const rulebook = facing("points");
-    const first = run(rulebook, ["WA"]);
-    expect(first.state.selectors.road).toBe("through");
-    let state = run(rulebook, ["WE", "TX", "WA"], first.state).state;
-    expect(shownAspects(rulebook, state)).toEqual({ W1: "danger" }); // through road occupied
-    state = step(rulebook, state, { type: "command", at: state.clock + 1, command: "set", latch: "P2Reverse" }).state;
+  it("hand: clears for the road the points lie for, and back to danger if they move first", () => {
+    const rulebook = facing("hand");
+    let state = report(rulebook, initialState(rulebook), "reverse");
+    state = run(rulebook, ["WA"], state).state;
     expect(state.selectors.road).toBe("loop");
     expect(shownAspects(rulebook, state)).toEqual({ W1: "clear" });
-    // Moving the points back under the cleared signal puts it to danger.
-    state = step(rulebook, state, { type: "command", at: state.clock + 1, command: "clear", latch: "P2Reverse" }).state;
+    state = report(rulebook, state, "moving");
     expect(shownAspects(rulebook, state)).toEqual({ W1: "danger" });
+    state = report(rulebook, state, "normal");
+    expect(state.selectors.road).toBe("through");
+    expect(shownAspects(rulebook, state)).toEqual({ W1: "clear" });
   });
 });
 
@@ -254,7 +257,7 @@ describe("converging junction against the proving environment (small model check
 });
 
 describe("demo layouts", () => {
-  it("Wrenfold Loop uses the facing template, first free road", () => {
-    expect(wrenfoldLoopLayout().rulebook).toEqual(facing("first-free"));
+  it("Wrenfold Loop uses the facing template with power-worked points", () => {
+    expect(wrenfoldLoopLayout().rulebook).toEqual(facing("power"));
   });
 });

@@ -11,10 +11,12 @@ import { kestrelBankLayout, wrenfoldLoopLayout } from "../../../shared/demo/fern
 import type { AppDeps } from "../../deps";
 import { hashSecret } from "../../features/auth/service";
 import { importLayout } from "../../features/layouts/service";
+import { setSocietyName, societyName } from "../../features/setup/society";
 
 /** Demo only: the README tells every society to change it. */
 export const DEMO_PASSWORD = "blocklight-demo";
 export const DEMO_DOMAIN = "fernmoor.example";
+export const DEMO_SOCIETY = "Fernmoor Garden Railway Society";
 
 export const DEMO_ACCOUNTS: { role: Role; name: string }[] = [
   { role: "admin", name: "Fernmoor Admin" },
@@ -32,6 +34,8 @@ export const demoEmail = (role: Role) => `${role}@${DEMO_DOMAIN}`;
 
 export async function seedDemo(deps: AppDeps): Promise<{ usersAdded: number; layoutsAdded: string[] }> {
   const { User, Layout } = deps.db.models;
+  // A society that renamed itself keeps its name.
+  if (!(await societyName(deps))) await setSocietyName(deps, DEMO_SOCIETY);
   let usersAdded = 0;
   const passwordHash = await hashSecret(DEMO_PASSWORD);
   for (const account of DEMO_ACCOUNTS) {

@@ -180,7 +180,7 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
 
   // Layouts already live are watched from the start, not only after their first pulse.
   void deps.db.sequelize
-    .query<{ slug: string }>(`SELECT slug FROM layouts WHERE live_version IS NOT NULL`, { type: QueryTypes.SELECT })
+    .query<{ slug: string }>(`SELECT slug FROM layouts WHERE live_version IS NOT NULL AND archived_at IS NULL`, { type: QueryTypes.SELECT })
     .then((rows) => {
       for (const { slug } of rows) if (!watched.has(slug)) void load(slug);
     })

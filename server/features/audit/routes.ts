@@ -2,7 +2,8 @@ import { Router } from "express";
 import { QueryTypes } from "sequelize";
 import type { AuditResponse } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
-import { requireSignedIn } from "../auth/middleware";
+import { requirePermission, requireSignedIn } from "../auth/middleware";
+import { listAccountAudit } from "./accounts";
 import { findLayout } from "../layouts/service";
 
 const AUDIT_LIMIT = 500;
@@ -20,6 +21,10 @@ export function auditRoutes(deps: AppDeps): Router {
     );
     const body: AuditResponse = { entries: rows.map((r) => ({ ...r, at: new Date(r.at).toISOString() })) };
     res.json(body);
+  });
+  // Account changes: setup, members, invitations, passwords (no layout).
+  router.get("/admin/audit", requirePermission("members.manage"), async (_req, res) => {
+    res.json(await listAccountAudit(deps));
   });
   return router;
 }

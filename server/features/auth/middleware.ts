@@ -1,27 +1,31 @@
 /**
  * Who is asking: reads the session cookie on every request, then `requirePermission(action)`
- * guards each route with the rule of shared/contract/permissions.ts. The role is re-read from the database so a changed role takes effect at once.
+ * guards each route with the rule of shared/contract/permissions.ts. The session row and the
+ * role are re-read from the database, so signing out, a changed role or a removed member
+ * takes effect at once.
  */
 import type { RequestHandler } from "express";
 import { allowedRoles, type Action } from "../../../shared/contract/permissions";
 import { ROLES, type Role, type UserDto } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { HttpError } from "../../http/errors";
-import { SESSION_COOKIE, readSession, toUserDto } from "./service";
+import { SESSION_COOKIE, resolveSession, toUserDto } from "./service";
 
 declare module "express-serve-static-core" {
   interface Request {
     user?: UserDto;
+    /** The `auth_sessions` row the cookie names, while signed in. */
+    sessionId?: string;
   }
 }
 
 export function loadUser(deps: AppDeps): RequestHandler {
   return async (req, _res, next) => {
     try {
-      const claims = readSession(req.cookies?.[SESSION_COOKIE], deps.config.sessionSecret);
-      if (claims) {
-        const user = await deps.db.models.User.findByPk(claims.sub);
-        if (user) req.user = toUserDto(user);
+      const session = await resolveSession(deps, req.cookies?.[SESSION_COOKIE]);
+      if (session) {
+        req.user = toUserDto(session.user);
+        req.sessionId = session.sessionId;
       }
       next();
     } catch (err) {

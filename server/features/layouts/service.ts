@@ -1,16 +1,24 @@
 /**
- * Layouts: import and export of layout files (CONTRACT.md §3), reading, and nodes.
+ * Layouts: import and export of layout files (CONTRACT.md §3), reading, and nodes. Creating
+ * and editing the records is in `edit.ts`.
  */
 import { randomBytes } from "node:crypto";
-import type { Transaction } from "sequelize";
 import { QueryTypes } from "sequelize";
-import type { LayoutDetail, LayoutSummary, NodeDto, RulebookVersionSummary } from "../../../shared/contract/rest";
-import { LAYOUT_FORMAT, type LayoutFile } from "../../../shared/layout/schema";
+import type { z } from "zod";
+import type { createNodeBodySchema, LayoutDetail, LayoutSummary, RulebookVersionSummary } from "../../../shared/contract/rest";
+import { canonicalLayout } from "../../../shared/layout/canonical";
+import { LAYOUT_FORMAT, type LayoutFile, type LayoutRecords } from "../../../shared/layout/schema";
+import { canonicalRulebook } from "../../../shared/rulebook/canonical";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict, notFound } from "../../http/errors";
 import { hashSecret } from "../auth/service";
 import type { Layout } from "../../db/models";
+import { readRecords, writeRecords, type RecordLists } from "./records";
+
+/** The parsed body of `POST …/nodes`; callers inside the server may leave `points` out. */
+type CreateNodeBodyParsed = Omit<z.output<typeof createNodeBodySchema>, "points"> & { points?: string[] };
+type Row = Record<string, unknown>;
 
 export async function findLayout(deps: AppDeps, slug: string): Promise<Layout> {
   const layout = await deps.db.models.Layout.findOne({ where: { slug } });
@@ -30,9 +38,9 @@ export async function importLayout(deps: AppDeps, input: unknown, authorId: numb
       { slug: file.slug, name: file.name, scaleName: file.scale.name, scaleRatio: file.scale.ratio, schematic: file.schematic ?? null, liveVersion: 1 },
       { transaction },
     );
-    await insertParts(deps, layout.id, file, transaction);
+    await writeRecords(deps, layout.id, file, transaction);
     await RulebookVersion.create(
-      { layoutId: layout.id, version: 1, status: "published", rulebook: file.rulebook, proof: null, note: "imported with the layout", authorId, publishedAt: new Date() },
+      { layoutId: layout.id, version: 1, status: "published", rulebook: canonicalRulebook(file.rulebook), proof: null, note: "imported with the layout", authorId, publishedAt: new Date() },
       { transaction },
     );
     return layout.id;
@@ -41,78 +49,38 @@ export async function importLayout(deps: AppDeps, input: unknown, authorId: numb
   return { slug: file.slug, layoutId };
 }
 
-async function insertParts(deps: AppDeps, layoutId: number, file: LayoutFile, transaction: Transaction): Promise<void> {
-  const q = (sql: string, rows: unknown[][]) =>
-    rows.length === 0
-      ? Promise.resolve()
-      : deps.db.sequelize.query(sql + " VALUES " + rows.map((r) => "(" + r.map(() => "?").join(",") + ")").join(","), {
-          replacements: rows.flat(),
-          transaction,
-        });
-  await q("INSERT INTO lines (layout_id, line_id, name, position)", file.lines.map((l, i) => [layoutId, l.id, l.name, i]));
-  await q(
-    "INSERT INTO detectors (layout_id, detector_id, name, line_id, at, position)",
-    file.detectors.map((d, i) => [layoutId, d.id, d.name, d.line, d.at, i]),
-  );
-  await q(
-    "INSERT INTO signals (layout_id, signal_id, name, line_id, at, aspects, position)",
-    file.signals.map((s, i) => [layoutId, s.id, s.name, s.line, s.at, JSON.stringify(s.aspects), i]),
-  );
-  await q(
-    "INSERT INTO points (layout_id, points_id, name, line_id, at, position)",
-    file.points.map((p, i) => [layoutId, p.id, p.name, p.line, p.at, i]),
-  );
-  await q(
-    "INSERT INTO nodes (layout_id, node_id, name, detectors, signals, position)",
-    file.nodes.map((n, i) => [layoutId, n.id, n.name, JSON.stringify(n.detectors), JSON.stringify(n.signals), i]),
-  );
-}
-
-type Row = Record<string, unknown>;
-
-async function readParts(deps: AppDeps, layoutId: number) {
-  const select = (sql: string) => deps.db.sequelize.query<Row>(sql, { replacements: { layoutId }, type: QueryTypes.SELECT });
-  const [lines, detectors, signals, points, nodes] = await Promise.all([
-    select("SELECT line_id AS id, name FROM lines WHERE layout_id = :layoutId ORDER BY position"),
-    select("SELECT detector_id AS id, name, line_id AS line, at FROM detectors WHERE layout_id = :layoutId ORDER BY position"),
-    select("SELECT signal_id AS id, name, line_id AS line, at, aspects FROM signals WHERE layout_id = :layoutId ORDER BY position"),
-    select("SELECT points_id AS id, name, line_id AS line, at FROM points WHERE layout_id = :layoutId ORDER BY position"),
-    select("SELECT node_id AS id, name, detectors, signals FROM nodes WHERE layout_id = :layoutId ORDER BY position"),
-  ]);
-  return {
-    lines: lines as unknown as LayoutFile["lines"],
-    detectors: detectors as unknown as LayoutFile["detectors"],
-    signals: signals as unknown as LayoutFile["signals"],
-    points: points as unknown as LayoutFile["points"],
-    nodes: nodes as unknown as NodeDto[],
-  };
-}
-
 export async function liveRulebookVersion(deps: AppDeps, layout: Layout) {
   if (layout.liveVersion === null) return null;
   return deps.db.models.RulebookVersion.findOne({ where: { layoutId: layout.id, version: layout.liveVersion } });
 }
 
-/** The layout file as it stands, with the live rulebook; node secrets never leave. */
-export async function exportLayout(deps: AppDeps, slug: string): Promise<LayoutFile> {
-  const layout = await findLayout(deps, slug);
-  const parts = await readParts(deps, layout.id);
-  const live = await liveRulebookVersion(deps, layout);
-  const file: LayoutFile = {
+/** The records as a layout file without rulebook, in canonical key order. */
+export async function layoutRecords(deps: AppDeps, layout: Layout): Promise<LayoutRecords & RecordLists> {
+  const parts = await readRecords(deps, layout.id);
+  return canonicalLayout({
     format: LAYOUT_FORMAT,
     slug: layout.slug,
     name: layout.name,
     scale: { name: layout.scaleName, ratio: layout.scaleRatio },
     ...parts,
     ...(layout.schematic ? { schematic: layout.schematic } : {}),
-    rulebook: live!.rulebook,
-  };
-  return file;
+  });
+}
+
+/**
+ * The layout file as it stands, with the live rulebook, in canonical key order; node secrets
+ * never leave. A layout with no published rulebook yet cannot be exported as a file (409).
+ */
+export async function exportLayout(deps: AppDeps, slug: string): Promise<LayoutFile> {
+  const layout = await findLayout(deps, slug);
+  const live = await liveRulebookVersion(deps, layout);
+  if (!live) throw conflict(`layout "${slug}" has no published rulebook yet, so it is not a complete layout file`);
+  return canonicalLayout({ ...(await layoutRecords(deps, layout)), rulebook: live.rulebook });
 }
 
 export async function listLayouts(deps: AppDeps): Promise<LayoutSummary[]> {
   const rows = await deps.db.sequelize.query<Row>(
-    `SELECT l.slug, l.name, l.scale_name, l.scale_ratio, l.live_version,
+    `SELECT l.slug, l.name, l.scale_name, l.scale_ratio, l.live_version, l.archived_at,
             (SELECT count(*) FROM detectors d WHERE d.layout_id = l.id)::int AS detector_count,
             (SELECT count(*) FROM signals s WHERE s.layout_id = l.id)::int AS signal_count,
             (SELECT count(*) FROM nodes n WHERE n.layout_id = l.id)::int AS node_count
@@ -124,6 +92,7 @@ export async function listLayouts(deps: AppDeps): Promise<LayoutSummary[]> {
     name: r.name as string,
     scale: { name: r.scale_name as string, ratio: Number(r.scale_ratio) },
     liveVersion: (r.live_version as number | null) ?? null,
+    archived: r.archived_at !== null,
     detectorCount: r.detector_count as number,
     signalCount: r.signal_count as number,
     nodeCount: r.node_count as number,
@@ -132,7 +101,8 @@ export async function listLayouts(deps: AppDeps): Promise<LayoutSummary[]> {
 
 export async function listVersions(deps: AppDeps, layout: Layout): Promise<RulebookVersionSummary[]> {
   const rows = await deps.db.sequelize.query<Row>(
-    `SELECT v.version, v.status, v.note, v.created_at, u.name AS author
+    `SELECT v.version, v.status, v.note, v.created_at, u.name AS author,
+            v.proof->>'verdict' AS verdict, v.proof->>'provedAt' AS proved_at
        FROM rulebook_versions v LEFT JOIN users u ON u.id = v.author_id
       WHERE v.layout_id = :layoutId ORDER BY v.version DESC`,
     { replacements: { layoutId: layout.id }, type: QueryTypes.SELECT },
@@ -144,12 +114,18 @@ export async function listVersions(deps: AppDeps, layout: Layout): Promise<Ruleb
     author: (r.author as string | null) ?? null,
     note: (r.note as string | null) ?? null,
     createdAt: new Date(r.created_at as string).toISOString(),
+    verdict: (r.verdict as RulebookVersionSummary["verdict"] | null) ?? null,
+    provedAt: r.proved_at ? new Date(r.proved_at as string).toISOString() : null,
   }));
 }
 
 export async function layoutDetail(deps: AppDeps, slug: string): Promise<LayoutDetail> {
   const layout = await findLayout(deps, slug);
-  const [parts, versions] = await Promise.all([readParts(deps, layout.id), listVersions(deps, layout)]);
+  return detailOf(deps, layout);
+}
+
+export async function detailOf(deps: AppDeps, layout: Layout): Promise<LayoutDetail> {
+  const [parts, versions] = await Promise.all([readRecords(deps, layout.id), listVersions(deps, layout)]);
   return {
     slug: layout.slug,
     name: layout.name,
@@ -157,6 +133,9 @@ export async function layoutDetail(deps: AppDeps, slug: string): Promise<LayoutD
     ...parts,
     schematic: layout.schematic,
     versions,
+    revision: layout.revision,
+    liveVersion: layout.liveVersion,
+    archivedAt: layout.archivedAt ? layout.archivedAt.toISOString() : null,
   };
 }
 
@@ -166,16 +145,14 @@ const SECRET_BYTES = 24;
  * Registers a board (or re-issues the secret of an existing one) and returns its MQTT
  * password once; only the bcrypt hash is kept.
  */
-export async function registerNode(
-  deps: AppDeps,
-  slug: string,
-  body: { id: string; name: string; detectors: string[]; signals: string[] },
-): Promise<{ id: string; secret: string }> {
+export async function registerNode(deps: AppDeps, slug: string, body: CreateNodeBodyParsed): Promise<{ id: string; secret: string }> {
   const layout = await findLayout(deps, slug);
-  const parts = await readParts(deps, layout.id);
+  refuseIfArchived(layout);
+  const parts = await readRecords(deps, layout.id);
   const errors: { path: string; message: string }[] = [];
   const detectorIds = new Set(parts.detectors.map((d) => d.id));
   const signalIds = new Set(parts.signals.map((s) => s.id));
+  const pointsIds = new Set(parts.points.map((p) => p.id));
   body.detectors.forEach((d, i) => {
     if (!detectorIds.has(d)) errors.push({ path: `$.detectors[${i}]`, message: `no detector "${d}" on this layout` });
     const other = parts.nodes.find((n) => n.id !== body.id && n.detectors.includes(d));
@@ -184,27 +161,30 @@ export async function registerNode(
   body.signals.forEach((s, i) => {
     if (!signalIds.has(s)) errors.push({ path: `$.signals[${i}]`, message: `no signal "${s}" on this layout` });
   });
+  const points = body.points ?? [];
+  points.forEach((p, i) => {
+    if (!pointsIds.has(p)) errors.push({ path: `$.points[${i}]`, message: `no points "${p}" on this layout` });
+  });
   if (errors.length) throw new HttpError(400, "invalid_node", "the node names things this layout does not have", errors);
 
   const secret = randomBytes(SECRET_BYTES).toString("base64url");
   const secretHash = await hashSecret(secret);
-  await deps.db.sequelize.query(
-    `INSERT INTO nodes (layout_id, node_id, name, detectors, signals, secret_hash, position)
-     VALUES (:layoutId, :id, :name, :detectors, :signals, :secretHash,
-             (SELECT coalesce(max(position) + 1, 0) FROM nodes WHERE layout_id = :layoutId))
-     ON CONFLICT (layout_id, node_id) DO UPDATE
-       SET name = EXCLUDED.name, detectors = EXCLUDED.detectors, signals = EXCLUDED.signals, secret_hash = EXCLUDED.secret_hash`,
-    {
-      replacements: {
-        layoutId: layout.id,
-        id: body.id,
-        name: body.name,
-        detectors: JSON.stringify(body.detectors),
-        signals: JSON.stringify(body.signals),
-        secretHash,
-      },
-    },
-  );
+  const { NodeRecord } = deps.db.models;
+  await deps.db.sequelize.transaction(async (transaction) => {
+    const values = { name: body.name, detectors: body.detectors, signals: body.signals, points, secretHash };
+    const row = await NodeRecord.findOne({ where: { layoutId: layout.id, nodeId: body.id }, transaction, lock: transaction.LOCK.UPDATE });
+    if (row) {
+      await row.update(values, { transaction });
+    } else {
+      const last = (await NodeRecord.max<number | null, InstanceType<typeof NodeRecord>>("position", { where: { layoutId: layout.id }, transaction })) ?? -1;
+      await NodeRecord.create({ layoutId: layout.id, nodeId: body.id, ...values, position: last + 1 }, { transaction });
+    }
+  });
   deps.bus.emit("layout.nodes-changed", { layoutId: layout.id, slug });
   return { id: body.id, secret };
+}
+
+/** An archived layout is read-only: every change is refused with 409. */
+export function refuseIfArchived(layout: Layout): void {
+  if (layout.archivedAt) throw new HttpError(409, "archived", `layout "${layout.slug}" is archived and read-only; an admin can restore it`);
 }

@@ -8,7 +8,7 @@ import type http from "node:http";
 import { Server, type Socket } from "socket.io";
 import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
-import { SESSION_COOKIE, readSession } from "../auth/service";
+import { SESSION_COOKIE, resolveSession } from "../auth/service";
 import { redactStateForDisplay, redactUpdateForDisplay } from "../display/redact";
 import { layoutOfDisplayToken } from "./displayLinks";
 
@@ -45,9 +45,8 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
 
   io.use(async (socket, next) => {
     try {
-      const claims = readSession(cookieValue(socket.handshake.headers.cookie, SESSION_COOKIE), deps.config.sessionSecret);
-      const user = claims ? await deps.db.models.User.findByPk(claims.sub) : null;
-      socket.data.userId = user?.id ?? null;
+      const session = await resolveSession(deps, cookieValue(socket.handshake.headers.cookie, SESSION_COOKIE));
+      socket.data.userId = session?.user.id ?? null;
       socket.data.displayHashes = new Map();
       next();
     } catch (err) {

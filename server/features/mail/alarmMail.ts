@@ -1,9 +1,11 @@
 /**
- * E-mails maintainers who asked for it (users.alarm_mail) when an alarm is raised.
+ * E-mails every member who asked for it (users.alarm_mail, chosen on the account page or by
+ * an admin) when an alarm is raised.
  */
 import { QueryTypes } from "sequelize";
 import type { AlarmDto } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
+import { mailSignature } from "../setup/society";
 import { appBaseUrl, mailerOf } from "./service";
 
 export function startAlarmMail(deps: AppDeps): { stop(): void } {
@@ -21,14 +23,15 @@ export function startAlarmMail(deps: AppDeps): { stop(): void } {
 export async function sendAlarmMail(deps: AppDeps, alarm: AlarmDto & { slug: string }): Promise<number> {
   const rows = await deps.db.sequelize.query<{ email: string; name: string; layout: string }>(
     `SELECT u.email, u.name, (SELECT name FROM layouts WHERE slug = :slug) AS layout
-       FROM users u WHERE u.alarm_mail AND u.role = 'maintainer' ORDER BY u.id`,
+       FROM users u WHERE u.alarm_mail ORDER BY u.id`,
     { replacements: { slug: alarm.slug }, type: QueryTypes.SELECT },
   );
   const mailer = mailerOf(deps);
+  const signature = rows.length ? await mailSignature(deps) : "Blocklight";
   for (const row of rows) {
     await mailer.send({
       to: row.email,
-      subject: `[Blocklight] ${row.layout ?? alarm.slug}: ${alarm.kind} alarm${alarm.subject ? ` (${alarm.subject})` : ""}`,
+      subject: `[${signature}] ${row.layout ?? alarm.slug}: ${alarm.kind} alarm${alarm.subject ? ` (${alarm.subject})` : ""}`,
       text: [
         `Hello ${row.name},`,
         "",
@@ -39,7 +42,9 @@ export async function sendAlarmMail(deps: AppDeps, alarm: AlarmDto & { slug: str
         `See and acknowledge it here: ${appBaseUrl(deps)}/layouts/${alarm.slug}/alarms`,
         "",
         "Blocklight is an operating aid, not a certified interlocking: follow your society's rules.",
-        "You get this mail because alarm mail is on for your account.",
+        "You get this mail because alarm mail is on for your account (turn it off on your account page).",
+        "",
+        signature,
       ].join("\n"),
     });
   }

@@ -60,6 +60,7 @@ export interface ProofRun {
 export interface ProofRunOptions {
   maxStates?: number;
   maxMs?: number;
+  points?: Record<string, "power" | "hand">;
   onStart?: () => void;
   onProgress?: (progress: ProofProgress) => void;
 }
@@ -103,6 +104,7 @@ export class ProofPool {
             rulebook,
             maxStates: options.maxStates ?? PROOF_MAX_STATES,
             maxMs: options.maxMs ?? PROOF_MAX_MS,
+            ...(options.points ? { points: options.points } : {}),
           };
           worker = new Worker(WORKER_BOOTSTRAP, {
             eval: true,

@@ -34,7 +34,7 @@ export function proveRoutes(deps: AppDeps): Router {
       if (!res.writableFinished) run.cancel();
     });
     try {
-      const body: ProofResultDto = toResultDto(await run.result);
+      const body: ProofResultDto = toResultDto(await run.result, checked.layout.rulebook);
       res.json(body);
     } catch (err) {
       if (err instanceof ProofCancelled) return;

@@ -21,6 +21,8 @@ import { PROPERTY_IDS, type ProofResult } from "../../../shared/rulebook/prove";
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
+import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
+import { raiseAlarm } from "../alarms/service";
 import { findLayout } from "../layouts/service";
 import { PROOF_MAX_MS, PROOF_MAX_STATES, PoolFull, ProofCancelled, ProofPool, type ProofRun } from "./pool";
 
@@ -43,8 +45,11 @@ interface Job {
   cancelledBy: string | null;
 }
 
-/** The result of a proof, as the REST contract shows it. */
-export function toResultDto(result: ProofResult): ProofResultDto {
+/**
+ * The result of a proof, as the REST contract shows it. With the rulebook, an unfinished
+ * proof's reason says which proving setting to reduce.
+ */
+export function toResultDto(result: ProofResult, rulebook?: Rulebook): ProofResultDto {
   return {
     verdict: result.verdict,
     properties: result.properties.map((p) => ({
@@ -54,13 +59,20 @@ export function toResultDto(result: ProofResult): ProofResultDto {
       ...(p.detail ? { detail: p.detail } : {}),
     })),
     stats: { states: result.stats.states, ms: Math.round(result.stats.ms), transitions: result.stats.transitions },
-    ...(result.reason ? { reason: result.reason } : {}),
+    ...(result.verdict === "unfinished" && rulebook
+      ? { reason: unfinishedReason(result.reason, rulebook.proving) }
+      : result.reason
+        ? { reason: result.reason }
+        : {}),
   };
 }
 
 /** The verdict of a proof stopped before it ended: nothing decided. */
 function cancelledResult(rulebook: Rulebook, progress: ProofProgressDto | null, ms: number, by: string | null): ProofResultDto {
-  const properties = PROPERTY_IDS.filter((id) => id !== "priority-unhindered" || rulebook.proving?.priority);
+  const routePoints = rulebook.proving?.routes.some((r) => Object.keys(r.points ?? {}).length > 0) ?? false;
+  const properties = PROPERTY_IDS.filter((id) =>
+    id === "priority-unhindered" ? rulebook.proving?.priority : id === "points-set-for-train" || id === "points-locked" ? routePoints : true,
+  );
   return {
     verdict: "unfinished",
     properties: properties.map((id) => ({ id, holds: null })),
@@ -122,7 +134,7 @@ export class ProofJobs extends EventEmitter<ProofJobEvents> {
     }
     this.jobs.set(jobId, job);
     job.run.result.then(
-      (result) => this.finish(job, layout.id, user, toResultDto(result)),
+      (result) => this.finish(job, layout.id, user, toResultDto(result, row.rulebook)),
       (err: unknown) => this.fail(job, err),
     );
     return jobId;
@@ -226,7 +238,7 @@ function ended(job: ProofJobDto): boolean {
  */
 export async function storeProof(deps: AppDeps, layoutId: number, version: number, user: UserDto, result: ProofResultDto): Promise<RulebookStatus> {
   const { RulebookVersion, AuditEntry } = deps.db.models;
-  return deps.db.sequelize.transaction(async (transaction) => {
+  const status = await deps.db.sequelize.transaction(async (transaction) => {
     const row = await RulebookVersion.findOne({ where: { layoutId, version }, transaction, lock: transaction.LOCK.UPDATE });
     if (!row) throw notFound(`rulebook version ${version}`);
     const before = row.status;
@@ -258,6 +270,29 @@ export async function storeProof(deps: AppDeps, layoutId: number, version: numbe
     );
     return status;
   });
+  if (status === "published" && result.verdict === "refuted") await announceRefutedPublished(deps, layoutId, version, result);
+  return status;
+}
+
+/**
+ * A published version was refuted: say so. The versions list shows the verdict beside the
+ * "published" status; when it is the version running live, an alarm is raised as well, so the
+ * signallers and maintainers on duty learn of it, not only the engineer who ran the proof.
+ */
+async function announceRefutedPublished(deps: AppDeps, layoutId: number, version: number, result: ProofResultDto): Promise<void> {
+  const layout = await deps.db.models.Layout.findByPk(layoutId);
+  if (!layout) return;
+  const live = layout.liveVersion === version && !layout.archivedAt;
+  const failed = result.properties.filter((p) => p.holds === false).map((p) => p.id);
+  if (live) {
+    await raiseAlarm(deps, {
+      layoutId,
+      kind: "rulebook",
+      subject: `version ${version}`,
+      message: `The live rulebook (version ${version}) was refuted: ${failed.join(", ")} can fail. Publish a proved version, or run only under the society's own rules until then.`,
+    });
+  }
+  deps.bus.emit("rulebook.refuted", { layoutId, slug: layout.slug, version, live });
 }
 
 const registry = new WeakMap<AppDeps, ProofJobs>();

@@ -13,6 +13,8 @@ export interface ProofWorkerInput {
   rulebook: Rulebook;
   maxStates: number;
   maxMs: number;
+  /** How each points is worked, from the layout (absent: inferred, see shared/rulebook/proving/model.ts). */
+  points?: Record<string, "power" | "hand">;
 }
 
 export interface ProofProgress {
@@ -29,6 +31,7 @@ const post = (message: ProofWorkerMessage) => parentPort!.postMessage(message);
 const result = prove(input.rulebook, {
   maxStates: input.maxStates,
   maxMs: input.maxMs,
+  points: input.points,
   now: () => performance.now(),
   onProgress: (p) => post({ type: "progress", ...p }),
 });

@@ -1,5 +1,6 @@
 import { Router } from "express";
 import { z } from "zod";
+import { publishBodySchema } from "../../../shared/contract/layoutEdit";
 import { saveDraftBodySchema } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
@@ -24,7 +25,8 @@ export function rulebookRoutes(deps: AppDeps): Router {
 
   router.post("/layouts/:slug/rulebooks/:version/publish", requirePermission("rulebooks.publish"), async (req, res) => {
     const version = parseWith(versionParam, req.params.version, "version number");
-    await publishVersion(deps, String(req.params.slug), version, req.user!.id);
+    const body = parseWith(publishBodySchema, req.body ?? {});
+    await publishVersion(deps, String(req.params.slug), version, body, req.user!.id);
     res.json({ version });
   });
 

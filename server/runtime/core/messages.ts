@@ -43,7 +43,8 @@ function baseEvent(core: Core, m: HeldMessage, status: PendingEvent["status"], r
     event.detector = r.payload.detector;
     event.boardT = r.payload.t ?? null;
   } else if (r.ok && r.kind === "points") {
-    event.input = r.payload;
+    // Stored as the engine input it is (recovery and replay read it back as such).
+    event.input = { type: "points", points: r.payload.points, lies: r.payload.lies, at: m.receivedAt };
     event.boardT = r.payload.t ?? null;
   } else if (!r.ok) {
     event.detector = r.detector ?? null;
@@ -151,11 +152,9 @@ function applyReleased(core: Core, m: HeldMessage, out: Step): number {
   ensureSession(core, m.receivedAt, null, out);
   if (core.pipelineFault) return record(out, baseEvent(core, m, "rejected", `not applied: ${core.pipelineFault.reason}`));
   if (r.kind === "points") {
-    // SEAM (points, blocklight.rulebook/2): the engine has no points-report input yet, so a
-    // report is stored (accepted, in seq order, its payload in `input`) and not stepped.
-    // When shared/rulebook/engine.ts gains `{ type: "points", points, lies, at }`, run it here
-    // through runEngine, and add 'points' to the kinds acceptedInputs() replays.
-    return record(out, baseEvent(core, m, "accepted", null));
+    // A points report is an engine input like a pulse (blocklight.rulebook/2: `moved`, `points … lies`).
+    const input: EngineInput = { type: "points", points: r.payload.points, lies: r.payload.lies, at: m.receivedAt };
+    return runEngine(core, input, baseEvent(core, m, "accepted", null), out);
   }
   if (r.kind !== "pulse") return record(out, baseEvent(core, m, "rejected", "not a numbered message"));
   const input: EngineInput = { type: "pulse", detector: r.payload.detector, at: m.receivedAt };

@@ -31,8 +31,8 @@ export type InputScope = { layoutId: number; beforeId?: string } | { sessionId: 
 
 /**
  * Accepted pulses, ticks and commands in the order the runner applied them (event id order),
- * as it gave them to the engine: a pulse at its receipt time. (Points reports are stored but
- * not yet engine inputs: see the seam in core/messages.ts.)
+ * as it gave them to the engine: a pulse at its receipt time; points reports, ticks and
+ * commands as the engine input stored with them.
  */
 export async function* acceptedInputs(query: Query, scope: InputScope, after = "0"): AsyncGenerator<EngineInput> {
   const where =
@@ -43,7 +43,7 @@ export async function* acceptedInputs(query: Query, scope: InputScope, after = "
     const rows = await query<{ id: string; kind: string; detector: string | null; received_at: Date; input: EngineInput | null }>(
       // `e.id`, not `id`: ORDER BY a bare name would sort the text column ("10" before "9").
       `SELECT e.id::text AS id, e.kind, e.detector, e.received_at, e.input FROM events e
-        WHERE ${where} AND e.id > $2::bigint AND e.status = 'accepted' AND e.kind IN ('pulse','tick','command')
+        WHERE ${where} AND e.id > $2::bigint AND e.status = 'accepted' AND e.kind IN ('pulse','points','tick','command')
         ORDER BY e.id LIMIT ${INPUT_PAGE}`,
       params,
     );
@@ -147,9 +147,13 @@ export async function lastEventId(query: Query, layoutId: number): Promise<strin
 }
 
 /** Live event ids after `afterId`, in order: tells whether a commit whose reply was lost went through. */
-export async function eventIdsAfter(query: Query, layoutId: number, afterId: string): Promise<{ id: string; session_id: number | null }[]> {
-  return query<{ id: string; session_id: number | null }>(
-    `SELECT id::text, session_id FROM events WHERE layout_id = $1 AND id > $2::bigint AND NOT imported ORDER BY id`,
+export async function eventIdsAfter(
+  query: Query,
+  layoutId: number,
+  afterId: string,
+): Promise<{ id: string; session_id: number | null; kind: string; node_id: string | null; seq: string | null }[]> {
+  return query<{ id: string; session_id: number | null; kind: string; node_id: string | null; seq: string | null }>(
+    `SELECT id::text, session_id, kind, node_id, seq::text FROM events WHERE layout_id = $1 AND id > $2::bigint AND NOT imported ORDER BY id`,
     [layoutId, afterId],
   );
 }

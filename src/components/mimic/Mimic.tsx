@@ -11,7 +11,13 @@ export interface MimicState {
   counters?: Record<string, number>;
   selectors?: Record<string, string>;
   held?: string[];
+  /** Where each points lie as last reported (absent: not yet reported). */
+  points?: Record<string, "normal" | "reverse" | "moving" | undefined>;
 }
+
+/** Points are drawn by the word for where they lie (N, R, moving), never by colour alone. */
+const POINTS_MARK = { normal: "N", reverse: "R", moving: "…" } as const;
+const POINTS_FILL = { normal: "#1c2835", reverse: "#1c2835", moving: "#4a3b12", unknown: "#11161d" } as const;
 
 export interface MimicProps {
   layout: MimicLayout;
@@ -166,14 +172,18 @@ export function Mimic({ layout, state, routes, pulses = NO_PULSES, lastPulsed, t
             {l.text}
           </text>
         ))}
+      </g>
+      <g>
         {layout.points.map((p) => {
           const at = geometry.points[p.id];
           if (!at) return null;
+          const lies = state.points?.[p.id] ?? "unknown";
           return (
-            <g key={p.id} transform={`translate(${at[0]} ${at[1]})`}>
-              <rect x={-5} y={-5} width={10} height={10} transform="rotate(45)" fill="#1c2835" stroke={INK_FAINT} strokeWidth={1.5} />
+            <g key={p.id} transform={`translate(${at[0]} ${at[1]})`} data-points={p.id} data-lies={lies} role="img" aria-label={`Points ${p.id}, ${p.name}: ${lies === "unknown" ? "not reported" : lies}`}>
+              <rect x={-5} y={-5} width={10} height={10} transform="rotate(45)" fill={POINTS_FILL[lies]} stroke={INK_FAINT} strokeWidth={1.5} />
               <text y={-12 * scale} textAnchor="middle" fill={INK_FAINT} fontSize={11 * scale}>
                 {p.id}
+                {lies === "unknown" ? "" : ` ${POINTS_MARK[lies]}`}
               </text>
             </g>
           );

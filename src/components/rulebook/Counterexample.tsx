@@ -26,7 +26,10 @@ export function describeProofMoves(moves: ProofMoveDto[], detectorNames: Record<
         return `An axle of train ${move.train} (${move.route} route) passes detector ${move.detector}${name ? ` (${name})` : ""}.`;
       }
       case "quiet":
-        return `The quiet trigger of rule "${move.rule}" fires (the prover does not trust timing, so this may happen at any moment).`;
+        return `The quiet trigger of rule "${move.rule}" fires (the prover does not trust timing, so this may happen at any moment).`;      case "points":
+        return move.lies === "moving"
+          ? `Points ${move.points} start to move (reported moving).`
+          : `Points ${move.points} are reported lying ${move.lies}.`;
     }
   });
 }

@@ -1,4 +1,5 @@
 import { NavLink, Outlet, useMatch, useNavigate } from "react-router-dom";
+import { useSociety } from "../../api/accounts";
 import { useLogout } from "../../api/auth";
 import { useCurrentUser } from "../../hooks/useCurrentUser";
 import { can, ROLE_LABELS } from "../../lib/permissions";
@@ -11,6 +12,7 @@ const linkClass = ({ isActive }: { isActive: boolean }) =>
 export function AppShell() {
   const user = useCurrentUser();
   const logout = useLogout();
+  const society = useSociety();
   const navigate = useNavigate();
   const layoutMatch = useMatch("/layouts/:slug/*");
   const slug = layoutMatch?.params.slug;
@@ -26,6 +28,7 @@ export function AppShell() {
           <NavLink to="/" className="flex items-center gap-2 text-xl font-bold tracking-tight text-ink">
             <span aria-hidden="true" className="inline-block h-3 w-3 rounded-full bg-aspect-clear shadow-lamp text-aspect-clear" />
             Blocklight
+            {society.data ? <span className="text-sm font-semibold tracking-normal text-ink-soft" data-society="true">{society.data}</span> : null}
           </NavLink>
           <nav aria-label="Main" className="flex flex-1 flex-wrap items-center gap-1">
             <NavLink to="/" end className={linkClass}>
@@ -69,7 +72,9 @@ export function AppShell() {
           </nav>
           <div className="flex items-center gap-3 text-sm">
             <span>
-              <span className="font-semibold text-ink">{user.name}</span>{" "}
+              <NavLink to="/account" className="font-semibold text-ink underline-offset-2 hover:underline" title="Your account: name, password, alarm mail">
+                {user.name}
+              </NavLink>{" "}
               <span className="rounded bg-panel-700 px-2 py-0.5 text-xs text-ink-soft" title="Your role">
                 {ROLE_LABELS[user.role]}
               </span>

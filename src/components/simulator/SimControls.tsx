@@ -1,5 +1,6 @@
 import { useId, useState } from "react";
 import type { EngineInput, EngineState } from "../../../shared/rulebook/engine";
+import { POINTS_LIES } from "../../../shared/rulebook/schema";
 import type { SignalPanelLayout } from "../mimic/SignalPanel";
 import { Button } from "../ui/Button";
 
@@ -7,7 +8,7 @@ import { Button } from "../ui/Button";
 const SIM_REASON = "simulator";
 
 interface SimControlsProps {
-  layout: SignalPanelLayout;
+  layout: SignalPanelLayout & { points?: { id: string; name: string }[] };
   state: EngineState;
   onInput: (input: EngineInput) => void;
 }
@@ -55,6 +56,24 @@ export function SimControls({ layout, state, onInput }: SimControlsProps) {
           />
         </div>
       </fieldset>
+
+      {layout.points?.length ? (
+        <fieldset className="space-y-2">
+          <legend className="text-sm font-semibold text-ink-soft">Report where points lie</legend>
+          {layout.points.map((points) => (
+            <div key={points.id} className="flex flex-wrap items-center gap-2 text-sm">
+              <span className="w-40 text-ink-soft">
+                {points.id} ({state.points?.[points.id] ?? "not reported"})
+              </span>
+              {POINTS_LIES.map((lies) => (
+                <Button key={lies} onClick={() => onInput({ type: "points", points: points.id, lies, at: state.clock + (gapMs ?? 0) })} disabled={gapMs === null}>
+                  {points.id} {lies}
+                </Button>
+              ))}
+            </div>
+          ))}
+        </fieldset>
+      ) : null}
 
       <fieldset className="flex flex-wrap items-center gap-2 text-sm">
         <legend className="mb-2 text-sm font-semibold text-ink-soft">Clock</legend>

@@ -1,5 +1,6 @@
-import { useState } from "react";
-import { ASPECTS, type Action, type Aspect } from "../../../../shared/rulebook/schema";
+import { useState, type ReactNode } from "react";
+import { matchAction } from "../../../../shared/rulebook/kinds";
+import { ASPECTS, POINTS_POSITIONS, type Action, type Aspect, type PointsPosition } from "../../../../shared/rulebook/schema";
 import type { ValidationError } from "../../../../shared/rulebook/validate";
 import { actionKind, defaultAction, moveItem, removeItem, replaceItem, type ActionKind, type Declared } from "../../../lib/ruleEdit";
 import { Button } from "../../ui/Button";
@@ -23,6 +24,7 @@ const KIND_LABELS: Record<ActionKind, string> = {
   zero: "zero a counter",
   select: "choose a selector value",
   show: "show an aspect on a signal",
+  throw: "throw power-worked points",
   alarm: "raise an alarm",
 };
 
@@ -33,20 +35,17 @@ function kindOptions(standing: boolean, current?: ActionKind) {
 }
 
 function ActionFields({ action, declared, bad, onChange }: { action: Action; declared: Declared; bad: (field: string) => boolean; onChange: (next: Action) => void }) {
-  if ("set" in action) return <SelectField label="Latch" value={action.set} options={namesWith(action.set, declared.latches)} invalid={bad("set")} onChange={(set) => onChange({ set })} />;
-  if ("clear" in action)
-    return <SelectField label="Latch" value={action.clear} options={namesWith(action.clear, declared.latches)} invalid={bad("clear")} onChange={(clear) => onChange({ clear })} />;
-  if ("add" in action)
-    return (
+  return matchAction<ReactNode>(action, {
+    set: (action) => <SelectField label="Latch" value={action.set} options={namesWith(action.set, declared.latches)} invalid={bad("set")} onChange={(set) => onChange({ set })} />,
+    clear: (action) => <SelectField label="Latch" value={action.clear} options={namesWith(action.clear, declared.latches)} invalid={bad("clear")} onChange={(clear) => onChange({ clear })} />,
+    add: (action) => (
       <>
         <SelectField label="Counter" value={action.add} options={namesWith(action.add, declared.counters)} invalid={bad("add")} onChange={(add) => onChange({ ...action, add })} />
         <NumberField label="By (negative takes away)" value={action.by} invalid={bad("by")} onChange={(by) => onChange({ ...action, by })} />
       </>
-    );
-  if ("zero" in action)
-    return <SelectField label="Counter" value={action.zero} options={namesWith(action.zero, declared.counters)} invalid={bad("zero")} onChange={(zero) => onChange({ zero })} />;
-  if ("select" in action)
-    return (
+    ),
+    zero: (action) => <SelectField label="Counter" value={action.zero} options={namesWith(action.zero, declared.counters)} invalid={bad("zero")} onChange={(zero) => onChange({ zero })} />,
+    select: (action) => (
       <>
         <SelectField
           label="Selector"
@@ -63,9 +62,8 @@ function ActionFields({ action, declared, bad, onChange }: { action: Action; dec
           onChange={(value) => onChange({ ...action, value })}
         />
       </>
-    );
-  if ("show" in action)
-    return (
+    ),
+    show: (action) => (
       <>
         <SelectField
           label="Signal"
@@ -82,8 +80,27 @@ function ActionFields({ action, declared, bad, onChange }: { action: Action; dec
           onChange={(aspect) => onChange({ ...action, aspect: aspect as Aspect })}
         />
       </>
-    );
-  return <TextField label="Alarm text" value={action.alarm} maxLength={200} invalid={bad("alarm")} onChange={(alarm) => onChange({ alarm })} className="min-w-64 flex-1" />;
+    ),
+    throw: (action) => (
+      <>
+        <SelectField
+          label="Points"
+          value={action.throw}
+          options={namesWith(action.throw, declared.points.filter((p) => p.worked === "power").map((p) => p.id), "not power-worked points here")}
+          invalid={bad("throw")}
+          onChange={(points) => onChange({ ...action, throw: points })}
+        />
+        <SelectField
+          label="To"
+          value={action.to}
+          options={POINTS_POSITIONS.map((to) => ({ value: to, label: to }))}
+          invalid={bad("to")}
+          onChange={(to) => onChange({ ...action, to: to as PointsPosition })}
+        />
+      </>
+    ),
+    alarm: (action) => <TextField label="Alarm text" value={action.alarm} maxLength={200} invalid={bad("alarm")} onChange={(alarm) => onChange({ alarm })} className="min-w-64 flex-1" />,
+  });
 }
 
 /** What a rule does, in order, each step chosen from the declared names. */

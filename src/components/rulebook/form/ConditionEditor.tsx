@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { ASPECTS, COMPARISONS, type Aspect, type Comparison, type Condition } from "../../../../shared/rulebook/schema";
+import { ASPECTS, COMPARISONS, POINTS_CONDITION_LIES, type Aspect, type Comparison, type Condition, type PointsConditionLie } from "../../../../shared/rulebook/schema";
 import { toJsonPath, type ValidationError } from "../../../../shared/rulebook/validate";
 import {
   addCondition,
@@ -25,12 +25,14 @@ interface ConditionEditorProps {
   onChange: (next: Condition | undefined) => void;
 }
 
-const LEAF_KINDS: { value: LeafKind; label: string }[] = [
-  { value: "latch", label: "a latch is set" },
-  { value: "count", label: "a counter compares" },
-  { value: "selector", label: "a selector is" },
-  { value: "aspect", label: "a signal is asked for" },
-];
+const LEAF_LABELS: Record<LeafKind, string> = {
+  latch: "a latch is set",
+  count: "a counter compares",
+  selector: "a selector is",
+  aspect: "a signal is asked for",
+  points: "points lie",
+};
+const LEAF_KINDS = (Object.keys(LEAF_LABELS) as LeafKind[]).map((value) => ({ value, label: LEAF_LABELS[value] }));
 
 const NEW_KINDS = [...LEAF_KINDS, { value: "all", label: "all of a group" }, { value: "any", label: "any of a group" }] as const;
 type NewKind = (typeof NEW_KINDS)[number]["value"];
@@ -177,6 +179,24 @@ const { condition, declared, errors, onChange } = ctx;
               options={namesWith(node.is, declared.selectors.find((s) => s.name === node.selector)?.values ?? [], "not a value")}
               invalid={bad("is")}
               onChange={(is) => replace({ ...node, is })}
+            />
+          </>
+        ) : null}
+        {"points" in node ? (
+          <>
+            <SelectField
+              label="Points"
+              value={node.points}
+              options={namesWith(node.points, declared.points.map((p) => p.id), "not points here")}
+              invalid={bad("points")}
+              onChange={(points) => replace({ ...node, points })}
+            />
+            <SelectField
+              label="Lie"
+              value={node.lies}
+              options={POINTS_CONDITION_LIES.map((lies) => ({ value: lies, label: lies === "unknown" ? "not yet reported" : lies }))}
+              invalid={bad("lies")}
+              onChange={(lies) => replace({ ...node, lies: lies as PointsConditionLie })}
             />
           </>
         ) : null}

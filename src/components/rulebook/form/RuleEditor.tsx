@@ -1,3 +1,4 @@
+import { TRIGGER_KINDS, type TriggerKind } from "../../../../shared/rulebook/kinds";
 import type { Rule, Trigger } from "../../../../shared/rulebook/schema";
 import type { ValidationError } from "../../../../shared/rulebook/validate";
 import { withField, type Declared } from "../../../lib/ruleEdit";
@@ -14,29 +15,37 @@ interface RuleEditorProps {
   onChange: (next: Rule) => void;
 }
 
-type TriggerKind = "standing" | "pass" | "quiet";
-
 const DEFAULT_QUIET_MS = 5000;
 
-function triggerKind(trigger: unknown): TriggerKind | null {
+const TRIGGER_LABELS: Record<TriggerKind, string> = {
+  standing: "whenever it holds (standing rule)",
+  pass: "when a wheelset passes",
+  moved: "when points are reported lying otherwise",
+  quiet: "when a detector has been quiet",
+};
+
+/** The trigger's kind, or null for a shape the form does not know (a draft may be anything). */
+function triggerKindOf(trigger: unknown): TriggerKind | null {
   if (trigger === "standing") return "standing";
-  if (trigger !== null && typeof trigger === "object") {
-    if ("pass" in trigger) return "pass";
-    if ("quiet" in trigger) return "quiet";
-  }
-  return null;
+  if (trigger === null || typeof trigger !== "object") return null;
+  return TRIGGER_KINDS.find((kind) => kind !== "standing" && kind in trigger) ?? null;
 }
 
 function TriggerFields({ trigger, rulePath, declared, errors, onChange }: { trigger: Trigger; rulePath: string; declared: Declared; errors: readonly ValidationError[]; onChange: (next: Trigger) => void }) {
-  const kind = triggerKind(trigger);
+  const kind = triggerKindOf(trigger);
   const here = `${rulePath}.on`;
   const problems = errorsUnder(errors, here);
-  const detector = trigger !== "standing" && trigger !== null && typeof trigger === "object" ? ("pass" in trigger ? trigger.pass : trigger.quiet) : "";
+  const detector = trigger !== "standing" && trigger !== null && typeof trigger === "object" ? ("pass" in trigger ? trigger.pass : "quiet" in trigger ? trigger.quiet : "") : "";
+  const points = trigger !== null && typeof trigger === "object" && "moved" in trigger ? trigger.moved : "";
   const firstDetector = detector || declared.detectors[0] || "";
   const change = (next: TriggerKind) => {
-    if (next === "standing") onChange("standing");
-    else if (next === "pass") onChange({ pass: firstDetector });
-    else onChange({ quiet: firstDetector, ms: DEFAULT_QUIET_MS });
+    const made: Record<TriggerKind, () => Trigger> = {
+      standing: () => "standing",
+      pass: () => ({ pass: firstDetector }),
+      moved: () => ({ moved: points || declared.points[0]?.id || "" }),
+      quiet: () => ({ quiet: firstDetector, ms: DEFAULT_QUIET_MS }),
+    };
+    onChange(made[next]());
   };
   return (
     <fieldset className="space-y-1">
@@ -47,9 +56,7 @@ function TriggerFields({ trigger, rulePath, declared, errors, onChange }: { trig
           value={kind ?? ""}
           options={[
             ...(kind === null ? [{ value: "", label: "(not understood: see JSON)" }] : []),
-            { value: "standing", label: "whenever it holds (standing rule)" },
-            { value: "pass", label: "when a wheelset passes" },
-            { value: "quiet", label: "when a detector has been quiet" },
+            ...TRIGGER_KINDS.map((value) => ({ value, label: TRIGGER_LABELS[value] })),
           ]}
           invalid={problems.length > 0}
           onChange={(value) => change(value as TriggerKind)}
@@ -61,6 +68,9 @@ function TriggerFields({ trigger, rulePath, declared, errors, onChange }: { trig
             options={namesWith(detector, declared.detectors, "not a detector here")}
             onChange={(id) => onChange(kind === "pass" ? { pass: id } : { quiet: id, ms: (trigger as { ms: number }).ms })}
           />
+        ) : null}
+        {kind === "moved" ? (
+          <SelectField label="Points" value={points} options={namesWith(points, declared.points.map((p) => p.id), "not points here")} onChange={(id) => onChange({ moved: id })} />
         ) : null}
         {kind === "quiet" && typeof trigger === "object" && "quiet" in trigger ? (
           <NumberField label="Quiet for (ms)" value={trigger.ms} min={1} onChange={(ms) => onChange({ ...trigger, ms })} />

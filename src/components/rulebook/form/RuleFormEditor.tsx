@@ -20,6 +20,7 @@ function triggerSummary(trigger: unknown): string {
   if (trigger === "standing") return "standing";
   if (trigger !== null && typeof trigger === "object") {
     if ("pass" in trigger) return `pass ${String(trigger.pass)}`;
+    if ("moved" in trigger) return `${String(trigger.moved)} moved`;
     if ("quiet" in trigger && "ms" in trigger) return `${String(trigger.quiet)} quiet ${String(trigger.ms)} ms`;
   }
   return "(see JSON)";
@@ -45,6 +46,7 @@ function declaredOf(rulebook: Rulebook, context: RulebookContext): Declared {
     selectors: Object.entries(rulebook.selectors).map(([name, s]) => ({ name, values: Array.isArray(s?.values) ? s.values : [] })),
     signals: context.signals,
     detectors: context.detectors,
+    points: context.points ?? [],
   };
 }
 

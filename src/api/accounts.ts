@@ -1,0 +1,119 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import type {
+  AccountAuditResponse,
+  PreferencesBody,
+  ResetPasswordBody,
+  ResetRequestBody,
+  SetupBody,
+  SetupStatus,
+  SocietyBody,
+  SocietyResponse,
+  UpdateMeBody,
+  UpdateMemberBody,
+} from "../../shared/contract/accounts";
+import type { MemberDto } from "../../shared/contract/controlRoom";
+import type { MeResponse } from "../../shared/contract/rest";
+import { adminKeys } from "./admin";
+import { authKeys } from "./auth";
+import { http } from "./http";
+
+export const accountKeys = {
+  setup: ["setup"] as const,
+  society: ["society"] as const,
+  audit: ["admin", "audit"] as const,
+};
+
+export function useSetupStatus() {
+  return useQuery({ queryKey: accountKeys.setup, queryFn: ({ signal }) => http.get<SetupStatus>("/api/setup", signal), retry: false });
+}
+
+export function useSetup() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: SetupBody) => http.post<{ ok: true }>("/api/setup", body),
+    onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.setup }).then(() => queryClient.invalidateQueries({ queryKey: accountKeys.society })),
+  });
+}
+
+/** The society's name for the header and the visitor display (null before setup). */
+export function useSociety() {
+  return useQuery({
+    queryKey: accountKeys.society,
+    queryFn: ({ signal }) => http.get<SocietyResponse>("/api/society", signal),
+    select: (body) => body.name,
+    staleTime: 5 * 60_000,
+  });
+}
+
+export function useRenameSociety() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: SocietyBody) => http.patch<SocietyResponse>("/api/society", body),
+    onSuccess: async (body) => {
+      queryClient.setQueryData(accountKeys.society, body);
+      await queryClient.invalidateQueries({ queryKey: accountKeys.audit });
+    },
+  });
+}
+
+export function useUpdateMe() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: UpdateMeBody) => http.patch<MeResponse>("/api/me", body),
+    onSuccess: (body) => queryClient.setQueryData(authKeys.me, body.user),
+  });
+}
+
+export function usePreferences() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: PreferencesBody) => http.patch<MeResponse>("/api/me/preferences", body),
+    onSuccess: (body) => queryClient.setQueryData(authKeys.me, body.user),
+  });
+}
+
+export function useRequestReset() {
+  return useMutation({ mutationFn: (body: ResetRequestBody) => http.post<{ ok: true }>("/api/auth/reset", body) });
+}
+
+export function useResetPassword(token: string) {
+  return useMutation({ mutationFn: (body: ResetPasswordBody) => http.post<{ ok: true }>(`/api/auth/reset/${encodeURIComponent(token)}`, body) });
+}
+
+/** After any change of members or invitations: the lists and the audit of account changes. */
+function useInvalidateMembers() {
+  const queryClient = useQueryClient();
+  return async () => {
+    await queryClient.invalidateQueries({ queryKey: adminKeys.members });
+    await queryClient.invalidateQueries({ queryKey: accountKeys.audit });
+    // An admin who changed their own role sees the navigation follow.
+    await queryClient.invalidateQueries({ queryKey: authKeys.me });
+  };
+}
+
+export function useUpdateMember() {
+  const invalidate = useInvalidateMembers();
+  return useMutation({
+    mutationFn: ({ id, ...body }: UpdateMemberBody & { id: number }) => http.patch<{ member: MemberDto }>(`/api/admin/members/${id}`, body),
+    onSettled: invalidate,
+  });
+}
+
+export function useRemoveMember() {
+  const invalidate = useInvalidateMembers();
+  return useMutation({ mutationFn: (id: number) => http.delete<unknown>(`/api/admin/members/${id}`), onSettled: invalidate });
+}
+
+export function useResendInvitation() {
+  const invalidate = useInvalidateMembers();
+  return useMutation({ mutationFn: (id: number) => http.post<{ id: number }>(`/api/admin/invitations/${id}/resend`), onSettled: invalidate });
+}
+
+export function useRevokeInvitation() {
+  const invalidate = useInvalidateMembers();
+  return useMutation({ mutationFn: (id: number) => http.delete<unknown>(`/api/admin/invitations/${id}`), onSettled: invalidate });
+}
+
+export function useAccountAudit() {
+  return useQuery({ queryKey: accountKeys.audit, queryFn: ({ signal }) => http.get<AccountAuditResponse>("/api/admin/audit", signal), select: (b) => b.entries });
+}
