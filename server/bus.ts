@@ -3,6 +3,7 @@
  * (e.g. publishing a rulebook tells the live runtime to load it).
  */
 import { EventEmitter } from "node:events";
+import type { AlarmSettings } from "../shared/contract/alarmSettings";
 import type { AlarmDto, LivePatch, LiveUpdate } from "../shared/contract/live";
 
 export interface BusEvents {
@@ -23,6 +24,8 @@ export interface BusEvents {
   "live.update": [LiveUpdate, LivePatch[]];
   /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
   "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
+  /** A layout's alarm settings changed (the watchers and the board roll call take them at once). */
+  "alarm-settings.changed": [{ layoutId: number; slug: string; settings: AlarmSettings }];
   /** A display link was revoked: sockets holding it are disconnected. */
   "display-link.revoked": [{ layoutId: number; tokenHash: string }];
 }

@@ -16,6 +16,8 @@ import { attachLiveSocket } from "./features/live/socket";
 import { attachProofSocket } from "./features/prove/socket";
 import { closeProofJobs } from "./features/prove/service";
 import { startAlarmWatchers } from "./features/alarms/watchRunner";
+import { startBoardRollCall } from "./features/alarms/boardRollCall";
+import { allStoredAlarmSettings } from "./features/alarms/settings";
 import { startAlarmMail } from "./features/mail/alarmMail";
 import { startMailer } from "./features/mail/service";
 import { setupBannerLines } from "./features/setup/announce";
@@ -93,8 +95,14 @@ async function main(): Promise<void> {
   cleanups.push(() => deps.mail!.close());
   logger.info({ mail: deps.mail.describe() }, "mail ready");
   const alarmMail = startAlarmMail(deps);
-  const watchers = startAlarmWatchers(deps);
+  // Each layout's alarm settings at start, and every change from the settings page at once.
+  const watchers = startAlarmWatchers(deps, { layoutSettings: await allStoredAlarmSettings(deps) });
+  const onSettings = ({ slug, settings }: { slug: string; settings: Parameters<typeof watchers.setSettings>[1] }) => watchers.setSettings(slug, settings);
+  deps.bus.on("alarm-settings.changed", onSettings);
+  const rollCall = startBoardRollCall(deps);
   cleanups.push(async () => {
+    deps.bus.off("alarm-settings.changed", onSettings);
+    rollCall.stop();
     await watchers.stop();
     alarmMail.stop();
   });

@@ -27,6 +27,8 @@ const SetupPage = lazy(() => import("./pages/SetupPage"));
 const AccountPage = lazy(() => import("./pages/AccountPage"));
 const ForgotPasswordPage = lazy(() => import("./pages/ForgotPasswordPage"));
 const ResetPasswordPage = lazy(() => import("./pages/ResetPasswordPage"));
+// Carries the charting library: loaded only when a report is opened.
+const ReportPage = lazy(() => import("./pages/ReportPage"));
 
 /** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
@@ -56,6 +58,7 @@ export function App() {
           <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
           <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
           <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
+          <Route path="layouts/:slug/sessions/:id/report" element={<ReportPage />} />
           <Route path="layouts/:slug/audit" element={<AuditPage />} />
           <Route path="account" element={<AccountPage />} />
           {/* Admin pages show non-admins only "this page is for admins", and run none of their queries. */}

@@ -11,6 +11,7 @@ import * as sequencing from "./migrations/004-sequencing";
 import * as accounts from "./migrations/006-accounts";
 import * as workbench from "./migrations/007-workbench";
 import * as groupedAlarms from "./migrations/009-grouped-alarms";
+import * as alarmSettings from "./migrations/010-alarm-settings";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -27,6 +28,7 @@ const MIGRATIONS = [
   { name: "006-accounts", ...accounts },
   { name: "007-workbench", ...workbench },
   { name: "009-grouped-alarms", ...groupedAlarms },
+  { name: "010-alarm-settings", ...alarmSettings },
 ];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {

@@ -98,6 +98,14 @@ export class Invitation extends Model<InferAttributes<Invitation>, InferCreation
   declare revokedAt: CreationOptional<Date | null>;
 }
 
+/** Alarm settings a layout's engineer changed (see migration 010); absent keys take the defaults. */
+export class AlarmSettingsRecord extends Model<InferAttributes<AlarmSettingsRecord>, InferCreationAttributes<AlarmSettingsRecord>> {
+  declare layoutId: number;
+  declare settings: Record<string, number>;
+  declare updatedBy: number | null;
+  declare updatedAt: CreationOptional<Date>;
+}
+
 export interface Models extends RecordModels {
   User: typeof User;
   Layout: typeof Layout;
@@ -107,6 +115,7 @@ export interface Models extends RecordModels {
   AuthSession: typeof AuthSession;
   PasswordReset: typeof PasswordReset;
   Invitation: typeof Invitation;
+  AlarmSettingsRecord: typeof AlarmSettingsRecord;
 }
 
 export function defineModels(sequelize: Sequelize): Models {
@@ -170,6 +179,15 @@ export function defineModels(sequelize: Sequelize): Models {
     },
     { sequelize, tableName: "audit_entries" },
   );
+  AlarmSettingsRecord.init(
+    {
+      layoutId: { type: DataTypes.INTEGER, primaryKey: true },
+      settings: { type: DataTypes.JSONB, allowNull: false, defaultValue: {} },
+      updatedBy: { type: DataTypes.INTEGER },
+      updatedAt: { type: DataTypes.DATE, defaultValue: DataTypes.NOW },
+    },
+    { sequelize, tableName: "alarm_settings" },
+  );
   const records = defineRecordModels(sequelize, Layout);
   Society.init(
     {
@@ -214,5 +232,5 @@ export function defineModels(sequelize: Sequelize): Models {
     { sequelize, tableName: "invitations" },
   );
   AuthSession.belongsTo(User, { foreignKey: "userId", as: "user" });
-  return { User, Layout, RulebookVersion, AuditEntry, Society, AuthSession, PasswordReset, Invitation, ...records };
+  return { User, Layout, RulebookVersion, AuditEntry, Society, AuthSession, PasswordReset, Invitation, AlarmSettingsRecord, ...records };
 }

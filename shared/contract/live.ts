@@ -166,6 +166,9 @@ export interface AlarmDto {
   occurrences: number;
   /** When it last happened. */
   lastSeenAt: string;
+  /** The session it was raised in and the event that raised it (links to the log), when known. */
+  sessionId?: number | null;
+  eventId?: string | null;
 }
 
 export interface NodeLiveDto {

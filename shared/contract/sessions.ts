@@ -11,6 +11,11 @@ export interface SessionSummaryDto extends SessionDto {
   /** The uploaded file's name when the session was imported from an exported log; null for a live session. */
   importedFrom: string | null;
   eventCount: number;
+  /** Who started and who ended it (null when the layout did it: the first pulse, a restart). */
+  openedBy: string | null;
+  closedBy: string | null;
+  /** The signallers' notes on starting and ending it, one per line. */
+  note: string | null;
 }
 
 /** `GET /api/layouts/:slug/sessions` */
@@ -59,6 +64,8 @@ export interface SessionInputsResponse {
   /** The engine state just before the session's first event (state carries over between sessions). */
   start: EngineState;
   inputs: EngineInput[];
+  /** The event id of each input (same order): the row of the event log it came from. */
+  eventIds: string[];
   /** Versions published while the session ran: the live state restarted from their initial values. */
   rulebookSwitches: number[];
 }

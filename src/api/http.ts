@@ -103,4 +103,5 @@ export const http = {
   post: <T>(path: string, body?: unknown) => request<T>(path, { method: "POST", body: body ?? {} }),
   patch: <T>(path: string, body: unknown) => request<T>(path, { method: "PATCH", body }),
   delete: <T>(path: string) => request<T>(path, { method: "DELETE" }),
+  put: <T>(path: string, body: unknown) => request<T>(path, { method: "PUT", body }),
 };

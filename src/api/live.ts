@@ -78,3 +78,16 @@ export function useDisplay(token: string | undefined) {
     retry: 3,
   });
 }
+
+/** Starts or ends the running day (signaller, admin), with an optional note; the live state and session list follow. */
+export function useSessionControlMutation(slug: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (body: { action: "open" | "close"; note?: string }) => http.post<LiveState>(`/api/layouts/${encodeURIComponent(slug)}/sessions`, body),
+    onSuccess: (state) => {
+      const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
+      if (!current || current.version <= state.version) queryClient.setQueryData(liveKeys.state(slug), state);
+      void queryClient.invalidateQueries({ queryKey: ["sessions", "list", slug] });
+    },
+  });
+}

@@ -21,3 +21,9 @@ export function formatTime(iso: string | number): string {
   if (Number.isNaN(date.getTime())) return String(iso);
   return TIME_OF_DAY.format(date);
 }
+
+/** A measured duration given in seconds: "18.5 s" under a minute, else as {@link formatDuration}. */
+export function formatSeconds(seconds: number): string {
+  if (seconds < 60) return `${Number(seconds.toFixed(1))} s`;
+  return formatDuration(seconds * 1000);
+}

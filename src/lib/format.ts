@@ -15,3 +15,11 @@ export function formatDateTime(iso: string): string {
 export function formatClock(ms: number): string {
   return `${(ms / 1000).toFixed(3)} s`;
 }
+
+/** Local date and time with seconds, e.g. "2 May 2026, 11:15:03". */
+export function formatDateTimeSeconds(iso: string): string {
+  const date = new Date(iso);
+  if (Number.isNaN(date.getTime())) return iso;
+  return date.toLocaleString("en-GB", { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit", second: "2-digit" });
+}
+

@@ -5,19 +5,23 @@
  */
 import { initialState, shownAspects, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
+import { formatTime } from "./duration";
 import { applyInput, describeInput, type SimEntry } from "./simulation";
 
 /**
- * The session's steps: its start state, then one entry per input. Labels give the time since
- * the session's first input, since a wall-clock time in ms would read as a long number.
+ * The session's steps: its start state, then one entry per input. Labels give the input's event
+ * number and clock time (as the event log shows them) and the time since the first input.
  */
-export function runSession(rulebook: Rulebook, start: EngineState, inputs: readonly EngineInput[]): SimEntry[] {
+export function runSession(rulebook: Rulebook, start: EngineState, inputs: readonly EngineInput[], eventIds?: readonly string[]): SimEntry[] {
   const origin = inputs[0]?.at ?? start.clock;
   const entries: SimEntry[] = [{ label: "Session start: the state the layout was in", input: null, state: start, changes: [] }];
-  for (const input of inputs) {
+  inputs.forEach((input, i) => {
     const entry = applyInput(rulebook, entries[entries.length - 1].state, input);
-    entries.push({ ...entry, label: describeInput({ ...input, at: Math.max(0, input.at - origin) }) });
-  }
+    // The clock time as the event log shows it, the time since the first input, and the log's event number.
+    const when = `${formatTime(input.at)}, +${(Math.max(0, input.at - origin) / 1000).toFixed(1)} s`;
+    const event = eventIds?.[i] ? `event #${eventIds[i]}: ` : "";
+    entries.push({ ...entry, label: `${event}${describeInput(input, when)}` });
+  });
   return entries;
 }
 

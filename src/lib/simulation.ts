@@ -32,8 +32,8 @@ export function applyInput(rulebook: Rulebook, from: EngineState, input: EngineI
   return { label: describeInput(input), input, state, changes };
 }
 
-export function describeInput(input: EngineInput): string {
-  const at = formatClock(input.at);
+export function describeInput(input: EngineInput, when?: string): string {
+  const at = when ?? formatClock(input.at);
   switch (input.type) {
     case "pulse":
       return `Pulse at ${input.detector} (${at})`;

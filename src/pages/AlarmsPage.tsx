@@ -7,7 +7,8 @@ import { AcknowledgeForm } from "../components/alarms/AcknowledgeForm";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
-import { formatDateTime } from "../lib/format";
+import { formatDateTimeSeconds as formatDateTime } from "../lib/format";
+import { AlarmSettingsPanel } from "../components/alarms/AlarmSettingsPanel";
 
 const KIND_WORDS: Record<AlarmKind, string> = {
   stuck: "Stuck latch or counter",
@@ -95,6 +96,21 @@ export default function AlarmsPage() {
                   {a.acknowledgedAt ? ` · acknowledged ${formatDateTime(a.acknowledgedAt)} by ${a.acknowledgedBy ?? "someone"}` : ""}
                 </p>
                 {a.comment ? <p className="mt-1 text-sm text-ink-soft">“{a.comment}”</p> : null}
+                <p className="mt-1 flex flex-wrap gap-3 text-sm">
+                  {a.sessionId && a.eventId ? (
+                    <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions?session=${a.sessionId}&event=${a.eventId}`}>
+                      Event #{a.eventId} in the log
+                    </Link>
+                  ) : null}
+                  {a.sessionId ? (
+                    <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions?session=${a.sessionId}`}>
+                      Session #{a.sessionId}
+                    </Link>
+                  ) : null}
+                  <Link className="text-brass hover:underline" to={`/layouts/${slug}/live${a.subject ? `#${encodeURIComponent(a.subject)}` : ""}`}>
+                    On the mimic
+                  </Link>
+                </p>
                 {!a.acknowledgedAt && canAcknowledge(user.role) ? (
                   <div className="mt-3">
                     <AcknowledgeForm alarm={a} />
@@ -105,6 +121,7 @@ export default function AlarmsPage() {
           );
         })}
       </ul>
+      <AlarmSettingsPanel slug={slug} />
     </div>
   );
 }

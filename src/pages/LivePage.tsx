@@ -8,9 +8,12 @@ import { useRulebookVersion } from "../api/rulebooks";
 import { AlarmBanner } from "../components/live/AlarmBanner";
 import { CommandDialog, type CommandDraft } from "../components/live/CommandDialog";
 import { ConnectionIndicator } from "../components/live/ConnectionIndicator";
+import { LayoutStatusBadge } from "../components/live/LayoutStatusBadge";
 import { EventTicker } from "../components/live/EventTicker";
 import { NodeStrip } from "../components/live/NodeStrip";
 import { StatePanel } from "../components/live/StatePanel";
+import { SessionControl } from "../components/live/SessionControl";
+import { WhyAtDanger } from "../components/live/WhyAtDanger";
 import { Mimic } from "../components/mimic/Mimic";
 import { MimicLegend } from "../components/mimic/MimicLegend";
 import { Button } from "../components/ui/Button";
@@ -21,9 +24,11 @@ import { useCurrentUser } from "../hooks/useCurrentUser";
 import { useLiveLayout } from "../hooks/useLiveLayout";
 import { useNow } from "../hooks/useNow";
 import { useThrottledValue } from "../hooks/useThrottledValue";
+import { useTickerHistory } from "../hooks/useTickerHistory";
 
 /** The state table and the ticker are read, not watched: they follow at most this often. */
 const PANEL_REFRESH_MS = 250;
+import { drawnAspects, layoutStatus } from "../lib/liveStatus";
 import { can } from "../lib/permissions";
 
 /** The control room: mimic, state, events, nodes, alarms and (for signallers) commands. */
@@ -35,6 +40,7 @@ export default function LivePage() {
   useLiveLayout(slug);
   const connection = useConnection(slug);
   const ticker = useTicker(slug);
+  useTickerHistory(slug, live.data?.session?.id);
   const pulses = usePulses(slug);
   const rulebook = useRulebookVersion(slug, live.data?.rulebookVersion ?? undefined);
   const now = useNow();
@@ -46,6 +52,10 @@ export default function LivePage() {
   const panelTicker = useThrottledValue(ticker, PANEL_REFRESH_MS);
 
   const routes = rulebook.data?.rulebook.proving?.routes;
+  const layoutData = layout.data;
+  const liveData = live.data;
+  // Signals of offline boards are drawn dark: the mimic shows what can be known, not what was asked.
+  const mimicState = useMemo(() => (liveData && layoutData ? { ...liveData, shown: drawnAspects(liveData, layoutData.nodes) } : undefined), [liveData, layoutData]);
   const mimicLayout = useMemo(() => layout.data, [layout.data]);
   const resetCommand = command.reset;
   const onCommand = useCallback(
@@ -58,8 +68,9 @@ export default function LivePage() {
 
   if (layout.isPending || (live.isPending && !live.isError)) return <Loading what="the live layout" />;
   if (layout.isError) return <LoadError error={layout.error} what="the layout" />;
-  if (live.isError || !live.data || !mimicLayout) return <LoadError error={live.error} what="the live state" />;
+  if (live.isError || !live.data || !mimicLayout || !mimicState) return <LoadError error={live.error} what="the live state" />;
   const state = live.data;
+  const status = layoutStatus(state, mimicLayout.nodes);
 
   const send = (body: CommandBody) =>
     command.mutate(body, {
@@ -81,6 +92,7 @@ export default function LivePage() {
           </p>
         </div>
         <div className="flex flex-wrap items-center gap-3">
+          <LayoutStatusBadge status={status} />
           <ConnectionIndicator connection={connection} />
           <Link to={`/layouts/${slug}/alarms`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
             Alarms
@@ -93,11 +105,6 @@ export default function LivePage() {
               Display links
             </Link>
           ) : null}
-          {canControl ? (
-            <Button tone="danger" onClick={() => onCommand({ type: "restart" })}>
-              Restart rulebook
-            </Button>
-          ) : null}
         </div>
       </div>
 
@@ -108,16 +115,34 @@ export default function LivePage() {
         </p>
       ) : null}
 
-      <Mimic title={mimicLayout.name} layout={mimicLayout} state={state} routes={routes} pulses={pulses} className="border border-panel-700 [contain:layout_paint] will-change-transform" />
+      <Mimic title={mimicLayout.name} layout={mimicLayout} state={mimicState} routes={routes} pulses={pulses} className="border border-panel-700 [contain:layout_paint] will-change-transform" />
       <MimicLegend className="text-sm text-ink-soft" />
+
+      <Panel title="Why at danger">
+        <WhyAtDanger rulebook={rulebook.data?.rulebook} state={panelState ?? state} signals={mimicLayout.signals} onCommand={canControl ? onCommand : undefined} />
+      </Panel>
+
+      <Panel title="Running day">
+        <SessionControl slug={slug} session={state.session} canControl={canControl} />
+      </Panel>
 
       <Panel title="Nodes">
         <NodeStrip nodes={mimicLayout.nodes} live={state.nodes} now={now} />
       </Panel>
 
       <div className="grid gap-4 lg:grid-cols-2">
-        <Panel title="State" className="[contain:layout_paint]">
-          <StatePanel state={panelState ?? state} signals={mimicLayout.signals} now={now} onCommand={canControl ? onCommand : undefined} />
+        <Panel
+          title="State"
+          className="[contain:layout_paint]"
+          actions={
+            canControl ? (
+              <Button tone="danger" className="px-2 py-0.5 text-xs" onClick={() => onCommand({ type: "restart" })}>
+                Restart rulebook…
+              </Button>
+            ) : null
+          }
+        >
+          <StatePanel state={panelState ?? state} signals={mimicLayout.signals} nodes={mimicLayout.nodes} now={now} onCommand={canControl ? onCommand : undefined} />
         </Panel>
         <Panel title="Events" className="[contain:layout_paint]">
           <EventTicker entries={panelTicker} />

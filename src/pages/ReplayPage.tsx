@@ -1,4 +1,4 @@
-import { useEffect, useMemo } from "react";
+import { useEffect, useMemo, useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
 import { shownAspects } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
@@ -41,10 +41,12 @@ export default function ReplayPage() {
   const sim = useSimulation();
   const { reset, goto } = sim;
   const rulebook = recordedRulebook.data?.rulebook;
-  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs) : null), [rulebook, session.data]);
+  const recorded = useMemo(() => (rulebook && session.data ? runSession(rulebook, session.data.start, session.data.inputs, session.data.eventIds) : null), [rulebook, session.data]);
+  // `?step=N` (e.g. from a priority check in the report) opens the replay at that moment.
+  const [openingStep] = useState(() => Math.max(0, Math.floor(Number(search.get("step")) || 0)));
   useEffect(() => {
-    if (rulebook && recorded) reset(rulebook, recorded, 0);
-  }, [rulebook, recorded, reset]);
+    if (rulebook && recorded) reset(rulebook, recorded, openingStep);
+  }, [rulebook, recorded, reset, openingStep]);
 
   const whatIfRun = useMemo<SimEntry[] | null>(
     () => (whatIfRulebook && session.data ? runSession(whatIfRulebook, carryStartState(whatIfRulebook, session.data.start), session.data.inputs) : null),

@@ -42,22 +42,24 @@ export default function SessionsPage() {
       <p className="text-sm text-ink-soft">
         Each running day is a session. Its event log keeps every message from the boards, every signaller command and every change the rulebook made.
       </p>
+      {/* At the top: on a long log page it would be thousands of pixels down. */}
+      {user.role === "maintainer" || user.role === "admin" ? (
+        <Panel title="Import an event log">
+          <ImportEventLogForm slug={slug} />
+        </Panel>
+      ) : null}
       <Panel title="Sessions">
         <SessionTable slug={slug} sessions={sessions.data} chosen={chosen} onChoose={choose} />
       </Panel>
       {chosen ? (
         <EventLog
-          key={chosen}
+          key={`${chosen}-${search.get("event") ?? ""}`}
+          fromEvent={search.get("event") ?? undefined}
           slug={slug}
           session={chosen}
           detectors={layout.data.detectors.map((d) => d.id)}
           nodes={layout.data.nodes.map((n) => n.id)}
         />
-      ) : null}
-      {user.role === "maintainer" || user.role === "admin" ? (
-        <Panel title="Import an event log">
-          <ImportEventLogForm slug={slug} />
-        </Panel>
       ) : null}
     </div>
   );
@@ -65,18 +67,19 @@ export default function SessionsPage() {
 
 interface EventLogProps {
   slug: string;
+  /** Open the log at this event (an alarm's link). */
+  fromEvent?: string;
   session: number;
   detectors: string[];
   nodes: string[];
 }
 
 /** One session's log, a keyset page at a time; the cursors of earlier pages are kept for "Previous". */
-function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
+function EventLog({ slug, session, detectors, nodes, fromEvent }: EventLogProps) {
   const [filter, setFilter] = useState<SessionEventFilter>({});
-  const [cursors, setCursors] = useState<string[]>(["0"]);
+  const [cursors, setCursors] = useState<string[]>(() => (fromEvent && /^\d{1,18}$/.test(fromEvent) && Number(fromEvent) > 1 ? ["0", String(Number(fromEvent) - 1)] : ["0"]));
   const after = cursors[cursors.length - 1];
   const page = useSessionEvents(session, filter, after, PAGE_EVENTS);
-  const first = (cursors.length - 1) * PAGE_EVENTS;
 
   const changeFilter = (next: SessionEventFilter) => {
     setFilter(next);
@@ -97,6 +100,9 @@ function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
           <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/replay`}>
             Replay this session
           </Link>
+          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/report`}>
+            Report of the day
+          </Link>
         </>
       }
     >
@@ -109,7 +115,7 @@ function EventLog({ slug, session, detectors, nodes }: EventLogProps) {
               <p role="status" className="text-ink-soft">
                 {page.data.total === 0
                   ? "No events match."
-                  : `Events ${(first + 1).toLocaleString("en-GB")}–${(first + page.data.events.length).toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")}`}
+                  : `Events #${page.data.events[0]?.id ?? "?"}–#${page.data.events.at(-1)?.id ?? "?"} (${page.data.events.length.toLocaleString("en-GB")} of ${page.data.total.toLocaleString("en-GB")} matching)`}
                 {page.isFetching ? " (loading…)" : ""}
               </p>
               <div className="flex gap-2">

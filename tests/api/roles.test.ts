@@ -110,6 +110,11 @@ const ROUTES: RouteCase[] = [
   { method: "get", path: "/api/sessions/1/events?format=csv", action: "read" },
   { method: "get", path: "/api/sessions/1/events?format=json&limit=10&kind=pulse", action: "read" },
   { method: "get", path: "/api/sessions/1/inputs", action: "read" },
+  { method: "get", path: "/api/sessions/1/events?format=json&tail=20", action: "read" },
+  { method: "get", path: "/api/sessions/1/report", action: "read" },
+  { method: "get", path: "/api/sessions/1/report?format=csv&table=trains", action: "read" },
+  { method: "get", path: "/api/layouts/kestrel-bank/alarm-settings", action: "read" },
+  { method: "put", path: "/api/layouts/kestrel-bank/alarm-settings", action: "alarm-settings.edit", body: () => ({ stuckAfterMs: 300_000 }) },
   // No file attached: 400 past the role check (uploads themselves: sessions-import.test.ts)
   { method: "post", path: "/api/layouts/kestrel-bank/sessions/import", action: "sessions.import", okStatus: 400 },
   { method: "get", path: "/api/layouts/kestrel-bank/alarms?state=all", action: "read" },

@@ -104,7 +104,7 @@ describe("alarm watchers", () => {
 
     it("a silent detector repeats only when the number of trains it missed grows", () => {
       const inputs = [0, 20_000, 40_000, 60_000].flatMap((start) => train(["MA", "JX"], start));
-      const ops = run(inputs).filter((a) => a.kind === "detector-silent").map((a) => `${a.op}:${a.message.match(/saw (\d+)/)?.[1]}`);
+      const ops = run(inputs).filter((a) => a.kind === "detector-silent").map((a) => `${a.op}:${a.message.match(/counted (\d+) trains/)?.[1]}`);
       expect(ops).toEqual(["raise:3", "repeat:4"]);
     });
   });

@@ -4,7 +4,9 @@ import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { findLayout } from "../layouts/service";
+import { alarmSettingsPatchSchema } from "../../../shared/contract/alarmSettings";
 import { acknowledgeAlarm, listAlarms } from "./service";
+import { describeAlarmSettings, updateAlarmSettings } from "./settings";
 
 const listQuerySchema = z.object({ state: z.enum(["open", "all"]).default("open") });
 const acknowledgeBodySchema = z.strictObject({ comment: z.string().trim().max(1000).optional() });
@@ -22,6 +24,17 @@ export function alarmRoutes(deps: AppDeps): Router {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "alarm id");
     const { comment } = parseWith(acknowledgeBodySchema, req.body ?? {});
     res.json({ alarm: await acknowledgeAlarm(deps, id, req.user!.id, comment || null) });
+  });
+
+  router.get("/layouts/:slug/alarm-settings", requireSignedIn, async (req, res) => {
+    const layout = await findLayout(deps, String(req.params.slug));
+    res.json(await describeAlarmSettings(deps, layout.id));
+  });
+
+  router.put("/layouts/:slug/alarm-settings", requirePermission("alarm-settings.edit"), async (req, res) => {
+    const patch = parseWith(alarmSettingsPatchSchema, req.body ?? {});
+    const layout = await findLayout(deps, String(req.params.slug));
+    res.json(await updateAlarmSettings(deps, layout, patch, req.user!));
   });
 
   return router;

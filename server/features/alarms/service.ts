@@ -33,12 +33,14 @@ interface AlarmRow {
   cleared_at: Date | null;
   occurrences: number;
   last_seen_at: Date;
+  session_id: number | null;
+  event_id: string | null;
 }
 
 const SELECT_ALARM = `
   SELECT a.id, a.layout_id, l.slug, a.kind, a.subject, a.message, a.raised_at, a.acknowledged_at,
          u.name AS acknowledged_by_name, a.ack_comment, a.cleared_at,
-         a.occurrences, a.last_seen_at
+         a.occurrences, a.last_seen_at, a.session_id, a.event_id::text AS event_id
     FROM alarms a JOIN layouts l ON l.id = a.layout_id LEFT JOIN users u ON u.id = a.acknowledged_by`;
 
 export function toAlarmDto(row: AlarmRow): AlarmDto {
@@ -54,6 +56,8 @@ export function toAlarmDto(row: AlarmRow): AlarmDto {
     clearedAt: row.cleared_at ? new Date(row.cleared_at).toISOString() : null,
     occurrences: row.occurrences,
     lastSeenAt: new Date(row.last_seen_at).toISOString(),
+    sessionId: row.session_id,
+    eventId: row.event_id,
   };
 }
 

@@ -136,7 +136,7 @@ export const alarmText = {
   chatter: (d: string, gapMs: number, minGapMs: number) =>
     `Detector ${d} gave pulses closer than ${minGapMs} ms apart (last seen ${gapMs} ms apart): check it for a loose wire or a flickering beam`,
   axleMismatch: (from: string, fromAxles: number, to: string, toAxles: number) => `A train counted ${fromAxles} axles at ${from} but ${toAxles} at ${to}`,
-  silent: (d: string, witness: string, seen: number) => `Detector ${d} has seen no train while ${witness} next to it saw ${seen}: check ${d}`,
+  silent: (d: string, witness: string, seen: number) => `Detector ${d} gave no pulse while ${witness} next to it counted ${seen} trains since ${d}'s last pulse: check ${d}`,
   nodeOffline: (node: string, afterMs: number) => (afterMs > 0 ? `Node ${node} has been offline for over ${fmtMs(afterMs)}` : `Node ${node} went offline`),
 };
 

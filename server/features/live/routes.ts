@@ -2,6 +2,7 @@
  * The live control room over REST (CONTRACT.md §6): live state, signaller commands,
  * running sessions open/closed by hand, and display links.
  */
+import { recordSessionControl } from "../sessions/service";
 import { Router, type RequestHandler } from "express";
 import { z } from "zod";
 import { commandBodySchema } from "../../../shared/contract/live";
@@ -14,7 +15,7 @@ import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
 
 const displayLinkBodySchema = z.strictObject({ label: z.string().trim().max(100).optional() });
-const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]) });
+const sessionBodySchema = z.strictObject({ action: z.enum(["open", "close"]), note: z.string().trim().max(500).optional() });
 
 export function liveRoutes(deps: AppDeps): Router {
   const router = Router();
@@ -64,8 +65,13 @@ export function liveRoutes(deps: AppDeps): Router {
   });
 
   router.post("/layouts/:slug/sessions", requirePermission("live.control"), async (req, res) => {
-    const { action } = parseWith(sessionBodySchema, req.body);
-    res.json(await live().session(String(req.params.slug), action, { id: req.user!.id, name: req.user!.name }));
+    const { action, note } = parseWith(sessionBodySchema, req.body);
+    const slug = String(req.params.slug);
+    const before = action === "close" ? (await live().liveState(slug)).session : null;
+    const state = await live().session(slug, action, { id: req.user!.id, name: req.user!.name });
+    // Who ended it and the note are the sessions feature's; the runtime only opens and closes.
+    await recordSessionControl(deps, action === "open" ? state.session?.id : before?.id, action, req.user!.id, note || null);
+    res.json(state);
   });
 
   router.post("/layouts/:slug/display-links", requirePermission("display-links.manage"), async (req, res) => {

@@ -8,6 +8,8 @@ import { badRequest, HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
 import { findLayout } from "../layouts/service";
+import { REPORT_TABLES, reportCsv } from "./reportCsv";
+import { sessionReport } from "./reportService";
 import { CSV_COLUMNS, csvRow, findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";
 
 const exportQuerySchema = z.object({ format: z.enum(["jsonl", "csv"]).default("jsonl") });
@@ -23,7 +25,11 @@ const pageQuerySchema = z.object({
   detector: idText.optional(),
   node: idText.optional(),
   q: z.string().trim().min(1).max(200).optional(),
+  /** The last N matching events instead of a page from `after` (the live ticker's history on load). */
+  tail: z.coerce.number().int().min(1).max(MAX_EVENT_PAGE).optional(),
 });
+
+const reportQuerySchema = z.object({ format: z.enum(["json", "csv"]).default("json"), table: z.enum(REPORT_TABLES).default("routes") });
 
 const importFieldsSchema = z.object({ rulebookVersion: z.union([z.literal(""), z.coerce.number().int().positive()]).optional() });
 
@@ -92,7 +98,21 @@ export function sessionRoutes(deps: AppDeps): Router {
 
   router.get("/sessions/:id/inputs", requireSignedIn, async (req, res) => {
     const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
-    res.json(await sessionInputs(deps, id));
+    const { rulebook: _rulebook, ...inputs } = await sessionInputs(deps, id);
+    res.json(inputs);
+  });
+
+  router.get("/sessions/:id/report", requireSignedIn, async (req, res) => {
+    const id = parseWith(z.coerce.number().int().positive(), req.params.id, "session id");
+    const { format, table } = parseWith(reportQuerySchema, req.query, "query");
+    const report = await sessionReport(deps, id);
+    if (format === "json") {
+      res.json(report);
+      return;
+    }
+    res.setHeader("Content-Type", "text/csv; charset=utf-8");
+    res.setHeader("Content-Disposition", `attachment; filename="session-${id}-${table}.csv"`);
+    res.send(reportCsv(report, table));
   });
 
   return router;

@@ -9,17 +9,19 @@ import { initialState, step, type EngineInput, type EngineState } from "../../..
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { AppDeps } from "../../deps";
 import { notFound } from "../../http/errors";
-import { acceptedInputs, latestSnapshot, NO_ID_LIMIT, sequelizeQuery } from "../../runtime/eventLog";
+import { acceptedInputRows, acceptedInputs, latestSnapshot, NO_ID_LIMIT, sequelizeQuery } from "../../runtime/eventLog";
 
 export const EXPORT_PAGE_EVENTS = 1000;
 
 export type SessionSummary = SessionSummaryDto;
 
 export async function listSessions(deps: AppDeps, layoutId: number, limit = 200): Promise<SessionSummary[]> {
-  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; imported_from: string | null; event_count: number }>(
-    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason, s.imported_from,
+  const rows = await deps.db.sequelize.query<{ id: number; opened_at: Date; closed_at: Date | null; rulebook_version: number | null; close_reason: string | null; imported_from: string | null; event_count: number; opened_by: string | null; closed_by: string | null; note: string | null }>(
+    `SELECT s.id, s.opened_at, s.closed_at, s.rulebook_version, s.close_reason, s.imported_from, s.note,
+            o.name AS opened_by, c.name AS closed_by,
             (SELECT count(*) FROM events e WHERE e.session_id = s.id)::int AS event_count
-       FROM sessions s WHERE s.layout_id = :layoutId ORDER BY s.opened_at DESC, s.id DESC LIMIT :limit`,
+       FROM sessions s LEFT JOIN users o ON o.id = s.opened_by LEFT JOIN users c ON c.id = s.closed_by
+      WHERE s.layout_id = :layoutId ORDER BY s.opened_at DESC, s.id DESC LIMIT :limit`,
     { replacements: { layoutId, limit }, type: QueryTypes.SELECT },
   );
   return rows.map((r) => ({
@@ -30,7 +32,22 @@ export async function listSessions(deps: AppDeps, layoutId: number, limit = 200)
     closeReason: r.close_reason,
     importedFrom: r.imported_from,
     eventCount: r.event_count,
+    openedBy: r.opened_by,
+    closedBy: r.closed_by,
+    note: r.note,
   }));
+}
+
+/** After the live page opened or closed a session: who closed it, and the signaller's note (appended, one per line). */
+export async function recordSessionControl(deps: AppDeps, sessionId: number | undefined, action: "open" | "close", userId: number, note: string | null): Promise<void> {
+  if (!sessionId) return;
+  const line = note ? `${action === "open" ? "Opened" : "Closed"}: ${note}` : null;
+  await deps.db.sequelize.query(
+    `UPDATE sessions SET closed_by = CASE WHEN :close THEN :userId ELSE closed_by END,
+            note = CASE WHEN CAST(:line AS text) IS NULL THEN note WHEN note IS NULL THEN :line ELSE note || E'\n' || :line END
+      WHERE id = :sessionId`,
+    { replacements: { close: action === "close", userId, line, sessionId } },
+  );
 }
 
 export async function findSession(deps: AppDeps, id: number): Promise<{ id: number; layoutId: number }> {
@@ -130,7 +147,7 @@ const likePattern = (text: string) => `%${text.replace(/[\\%_]/g, (c) => `\\${c}
 export async function sessionEventPage(
   deps: AppDeps,
   sessionId: number,
-  options: SessionEventFilter & { after: string; limit: number },
+  options: SessionEventFilter & { after: string; limit: number; tail?: number },
 ): Promise<SessionEventPage> {
   const where = ["e.session_id = :sessionId"];
   const replacements: Record<string, unknown> = { sessionId, after: options.after, limit: options.limit + 1 };
@@ -144,6 +161,16 @@ export async function sessionEventPage(
     replacements.q = likePattern(options.q);
   }
   const filter = where.join(" AND ");
+  if (options.tail !== undefined) {
+    const [newest, total] = await Promise.all([
+      deps.db.sequelize.query<EventRow>(
+        `SELECT ${EVENT_COLUMNS} FROM events e LEFT JOIN users u ON u.id = e.user_id WHERE ${filter} ORDER BY e.id DESC LIMIT :tail`,
+        { replacements: { ...replacements, tail: options.tail }, type: QueryTypes.SELECT },
+      ),
+      deps.db.sequelize.query<{ n: number }>(`SELECT count(*)::int AS n FROM events e WHERE ${filter}`, { replacements, type: QueryTypes.SELECT }),
+    ]);
+    return { events: await withChanges(deps, newest.reverse()), total: total[0].n, next: null };
+  }
   const [rows, counted] = await Promise.all([
     deps.db.sequelize.query<EventRow>(
       `SELECT ${EVENT_COLUMNS}
@@ -165,7 +192,7 @@ export async function sessionEventPage(
  * accepted inputs after it; the rulebook's initial values when that snapshot is of another
  * version (the runner restarts from them then too).
  */
-export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<SessionInputsResponse> {
+export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<SessionInputsResponse & { rulebook: Rulebook }> {
   const sessions = await deps.db.sequelize.query<{ layout_id: number; opened_at: Date; rulebook_version: number | null; imported_from: string | null; first_id: string | null }>(
     `SELECT s.layout_id, s.opened_at, s.rulebook_version, s.imported_from, (SELECT min(id)::text FROM events e WHERE e.session_id = s.id) AS first_id
        FROM sessions s WHERE s.id = :sessionId`,
@@ -177,7 +204,11 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   const version = session.rulebook_version;
   const inputs: EngineInput[] = [];
   const query = sequelizeQuery(deps.db.sequelize);
-  for await (const input of acceptedInputs(query, { sessionId })) inputs.push(input);
+  const eventIds: string[] = [];
+  for await (const row of acceptedInputRows(query, { sessionId })) {
+    inputs.push(row.input);
+    eventIds.push(row.eventId);
+  }
 
   const rulebooks = await deps.db.sequelize.query<{ rulebook: Rulebook }>(
     `SELECT rulebook FROM rulebook_versions WHERE layout_id = :layoutId AND version = :version`,
@@ -187,7 +218,7 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
   if (!rulebook) throw notFound(`rulebook version ${version} of session ${sessionId}`);
   // An uploaded log carries no state from before it: it replays from the rulebook's initial values.
   if (session.imported_from !== null) {
-    return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, rulebookSwitches: [] };
+    return { sessionId, rulebookVersion: version, start: initialState(rulebook, new Date(session.opened_at).getTime()), inputs, eventIds, rulebookSwitches: [], rulebook };
   }
   const firstId = session.first_id ?? NO_ID_LIMIT;
   const snapshot = await latestSnapshot(query, layoutId, firstId);
@@ -208,7 +239,7 @@ export async function sessionInputs(deps: AppDeps, sessionId: number): Promise<S
       ORDER BY rulebook_version`,
     { replacements: { layoutId, version: version ?? 0, firstId, sessionId }, type: QueryTypes.SELECT },
   );
-  return { sessionId, rulebookVersion: version, start, inputs, rulebookSwitches: switches.map((s) => s.rulebook_version) };
+  return { sessionId, rulebookVersion: version, start, inputs, eventIds, rulebookSwitches: switches.map((s) => s.rulebook_version), rulebook };
 }
 
 export const CSV_COLUMNS = ["id", "receivedAt", "kind", "status", "reason", "node", "boot", "seq", "detector", "boardT", "topic", "user", "input", "changes"] as const;

@@ -35,6 +35,11 @@ export type InputScope = { layoutId: number; beforeId?: string } | { sessionId: 
  * commands as the engine input stored with them.
  */
 export async function* acceptedInputs(query: Query, scope: InputScope, after = "0"): AsyncGenerator<EngineInput> {
+  for await (const row of acceptedInputRows(query, scope, after)) yield row.input;
+}
+
+/** {@link acceptedInputs} with the id of each input's event. */
+export async function* acceptedInputRows(query: Query, scope: InputScope, after = "0"): AsyncGenerator<{ eventId: string; input: EngineInput }> {
   const where =
     "sessionId" in scope ? `e.session_id = $1` : `e.layout_id = $1 AND NOT e.imported AND e.id < $3::bigint`;
   const params: unknown[] = "sessionId" in scope ? [scope.sessionId] : [scope.layoutId, null, scope.beforeId ?? NO_ID_LIMIT];
@@ -50,7 +55,7 @@ export async function* acceptedInputs(query: Query, scope: InputScope, after = "
     for (const row of rows) {
       const input: EngineInput | null =
         row.kind === "pulse" ? { type: "pulse", detector: row.detector!, at: new Date(row.received_at).getTime() } : row.input;
-      if (input) yield input;
+      if (input) yield { eventId: row.id, input };
     }
     if (rows.length < INPUT_PAGE) return;
     after = rows[rows.length - 1].id;

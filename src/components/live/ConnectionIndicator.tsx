@@ -3,7 +3,8 @@ import { useNow } from "../../hooks/useNow";
 import { formatDuration } from "../../lib/duration";
 
 const LOOK: Record<ConnectionInfo["status"], { dot: string; text: string; word: string }> = {
-  live: { dot: "bg-aspect-clear", text: "text-notice-ok", word: "Live" },
+  // The socket only: whether the layout itself is live is the layout status beside it.
+  live: { dot: "bg-aspect-clear", text: "text-ink-soft", word: "Connected" },
   connecting: { dot: "bg-aspect-caution", text: "text-aspect-caution", word: "Connecting" },
   "catching-up": { dot: "bg-aspect-caution", text: "text-aspect-caution", word: "Catching up" },
   reconnecting: { dot: "bg-aspect-danger animate-pulse", text: "text-notice-error", word: "Connection lost — reconnecting" },

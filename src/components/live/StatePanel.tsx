@@ -1,6 +1,8 @@
 import { memo, type ReactNode } from "react";
 import type { LiveState } from "../../../shared/contract/live";
+import type { NodeDto } from "../../../shared/contract/rest";
 import type { LayoutSignal } from "../../../shared/layout/schema";
+import { lampsOf, signalBoards } from "../../lib/liveStatus";
 import { formatDuration } from "../../lib/duration";
 import { Button } from "../ui/Button";
 import type { CommandDraft } from "./CommandDialog";
@@ -11,6 +13,8 @@ export const LONG_SET_MS = 5 * 60_000;
 interface StatePanelProps {
   state: LiveState;
   signals: LayoutSignal[];
+  /** The boards, to say what each signal's board shows (lamp proving) beside what was asked. */
+  nodes?: NodeDto[];
   now: number;
   /** Present for signallers and admins: offers the commands. Keep it stable (useCallback). */
   onCommand?: (command: CommandDraft) => void;
@@ -38,6 +42,9 @@ interface RowProps {
   value: string;
   valueClass: string;
   badge?: string;
+  /** A second fact beside the value (for a signal: what its board shows). */
+  detail?: string;
+  detailClass?: string;
   since?: string;
   now: number;
   long?: boolean;
@@ -46,7 +53,7 @@ interface RowProps {
 }
 
 // Memoised with plain props: under a stream of pushes only the rows that changed re-render.
-const Row = memo(function Row({ kind, target, label, value, valueClass, badge, since, now, long, act, onCommand }: RowProps) {
+const Row = memo(function Row({ kind, target, label, value, valueClass, badge, detail, detailClass, since, now, long, act, onCommand }: RowProps) {
   const age = since ? now - Date.parse(since) : NaN;
   const stale = Boolean(long && age > LONG_SET_MS);
   const action = act && onCommand;
@@ -58,8 +65,9 @@ const Row = memo(function Row({ kind, target, label, value, valueClass, badge, s
       <td className="py-1.5 pr-3">
         <span className={valueClass}>{value}</span>
         {badge ? <span className="ml-2 rounded bg-ink px-1.5 text-xs text-panel-950">{badge}</span> : null}
+        {detail ? <span className={`block text-xs ${detailClass ?? "text-ink-faint"}`}>{detail}</span> : null}
       </td>
-      <td className={`w-[18%] py-1.5 pr-3 text-xs ${stale ? "font-semibold text-aspect-caution" : "text-ink-faint"}`}>{since ? `for ${formatDuration(age)}` : ""}</td>
+      <td className={`w-[20%] whitespace-nowrap py-1.5 pr-3 text-xs ${stale ? "font-semibold text-aspect-caution" : "text-ink-faint"}`}>{since ? `for ${formatDuration(age)}` : ""}</td>
       <td className="w-[26%] py-1.5 text-right">
         {action ? (
           <Button tone={act === "hold" ? "danger" : "plain"} className="px-2 py-0.5 text-xs" onClick={() => onCommand(draftFor(act, target))}>
@@ -87,23 +95,36 @@ function Group({ title, children, empty }: { title: string; children: ReactNode[
 }
 
 /** Signals, latches, counters, selectors and armed quiet triggers, each with how long it has been so. */
-export function StatePanel({ state, signals, now, onCommand }: StatePanelProps) {
+/** What the signal's board says it shows, in words, and whether that disagrees with what was asked. */
+function boardSays(state: LiveState, board: NodeDto | undefined, signal: string, asked: string): { text: string; warn: boolean } | undefined {
+  if (!board) return undefined;
+  if (!state.nodes[board.id]?.online) return { text: `${board.name} offline: lamp unknown`, warn: true };
+  const lamp = lampsOf(state)?.[signal];
+  if (!lamp) return { text: `${board.name}: no lamp report yet`, warn: false };
+  return { text: `board shows ${lamp.aspect.toUpperCase()}`, warn: lamp.aspect !== asked };
+}
+
+export function StatePanel({ state, signals, nodes = [], now, onCommand }: StatePanelProps) {
   const held = new Set(state.held);
+  const boards = signalBoards(nodes);
   return (
     <div>
       <Group title="Signals" empty="No signals.">
         {signals.map((s) => {
           const aspect = state.shown[s.id] ?? "dark";
           const isHeld = held.has(s.id);
+          const lamp = boardSays(state, boards[s.id], s.id, aspect);
           return (
             <Row
               key={s.id}
               kind="signal"
               target={s.id}
               label={`${s.id} ${s.name}`}
-              value={aspect.toUpperCase()}
+              value={`${aspect.toUpperCase()} asked`}
               valueClass={`font-semibold ${ASPECT_TEXT[aspect]}`}
               badge={isHeld ? "held" : undefined}
+              detail={lamp?.text}
+              detailClass={lamp?.warn ? "font-semibold text-aspect-caution" : undefined}
               since={state.since[`signal:${s.id}`]}
               now={now}
               act={isHeld ? "release" : "hold"}

@@ -1,6 +1,6 @@
 import { Link } from "react-router-dom";
 import type { SessionSummaryDto } from "../../../shared/contract/sessions";
-import { formatDateTime } from "../../lib/format";
+import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { columnsFor, DataTable } from "../ui/DataTable";
 
 interface SessionTableProps {
@@ -24,6 +24,15 @@ export function SessionTable({ slug, sessions, chosen, onChoose }: SessionTableP
         return closed ? `${formatDateTime(closed)}${info.row.original.closeReason ? ` (${info.row.original.closeReason})` : ""}` : <span className="text-notice-ok">running</span>;
       },
     }),
+    col.display({
+      id: "who",
+      header: "Started / ended by",
+      cell: (info) => {
+        const s = info.row.original;
+        return s.importedFrom ? `imported (${s.importedFrom})` : `${s.openedBy ?? "the layout"} / ${s.closedAt ? (s.closedBy ?? "the layout") : "—"}`;
+      },
+    }),
+    col.accessor("note", { header: "Note", cell: (info) => <span className="whitespace-pre-line">{info.getValue() ?? ""}</span> }),
     col.accessor("rulebookVersion", { header: "Rulebook", cell: (info) => (info.getValue() === null ? "—" : `v${info.getValue()}`) }),
     col.accessor("eventCount", { header: "Events", cell: (info) => info.getValue().toLocaleString("en-GB") }),
     col.display({
@@ -43,6 +52,9 @@ export function SessionTable({ slug, sessions, chosen, onChoose }: SessionTableP
             </button>
             <Link to={`/layouts/${slug}/sessions/${id}/replay`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
               Replay
+            </Link>
+            <Link to={`/layouts/${slug}/sessions/${id}/report`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
+              Report
             </Link>
           </span>
         );
