@@ -9,7 +9,7 @@
  * all of one owner's listeners together, so anything that subscribes can be stopped.
  */
 import type { AlarmSettings } from "../shared/contract/alarmSettings";
-import type { AlarmDto, LiveUpdate } from "../shared/contract/live";
+import type { AlarmDto, LivePatch, LiveUpdate } from "../shared/contract/live";
 
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];
@@ -22,8 +22,11 @@ export interface BusEvents {
   "layout.restored": [{ layoutId: number; slug: string }];
   /** A published version's proof was refuted (the alarm is raised when it is the live one). */
   "rulebook.refuted": [{ layoutId: number; slug: string; version: number; live: boolean }];
-  /** A committed step of a layout's live pipeline, to push to its room. */
-  "live.update": [LiveUpdate];
+  /**
+   * A committed batch of a layout's live pipeline, to push to its room once; beside it each
+   * step's own patch, in step order (for listeners that need a step's state, as the watchers).
+   */
+  "live.update": [LiveUpdate, LivePatch[]];
   /** An alarm was raised (`created`: newly open, not a repeat), repeated, acknowledged or cleared. */
   "alarm.changed": [AlarmDto & { slug: string; layoutId: number; created?: boolean }];
   /** A layout's alarm settings changed (the watchers and the board roll call take them at once). */

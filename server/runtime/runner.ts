@@ -4,14 +4,17 @@
  * Inputs (board messages, the clock, signaller commands, rulebook switches) join one
  * mailbox and are taken in batches: each input goes through `apply`, the batch's rows are
  * written in ONE transaction, and only after COMMIT does the shell run the effects: aspect
- * commands, `applied` confirmations, PUBACKs, pushes to browsers, alarms.
+ * commands, `applied` confirmations, PUBACKs, alarms, and ONE push to browsers per batch
+ * (a burst of 2,000 pulses a second is a few dozen pushes, not 2,000). Boards come first: the
+ * push waits for the next turn of the event loop, after mqtt.js has written the batch's
+ * commands (it writes on the next tick), so no number of browsers delays a signal.
  *
  * Fail-safe: danger needs no commit. When the engine throws, or a commit has been failing or
  * hanging for `failsafeAfterMs` (FAILSAFE_AFTER_MS), every signal is commanded to danger at
  * once. The watchdog that decides the latter is a timer that never waits on a query.
  */
 import type pg from "pg";
-import type { AlarmDto, CommandBody, LiveState, LiveUpdate } from "../../shared/contract/live";
+import type { AlarmDto, CommandBody, LivePatch, LiveState, LiveStep, LiveUpdate } from "../../shared/contract/live";
 import type { EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { commitBatch, emptyBatch, poolQuery, type Batch, type CommitResult, type PendingEvent } from "./eventLog";
@@ -70,7 +73,7 @@ export class LayoutRunner {
   /** Handles of board messages and callers, settled after their commit. */
   private readonly settles = new Map<number, Settle>();
   private nextRef = 0;
-  /** Socket version: +1 per pushed update. */
+  /** Socket version: +1 per pushed step. */
   private version = 0;
   private busy = false;
   private stopped = false;
@@ -78,6 +81,9 @@ export class LayoutRunner {
   private watchdog: NodeJS.Timeout | null = null;
   private lastOkAt = 0;
   private idleWaiters: (() => void)[] = [];
+  /** Committed pushes waiting for their turn (after the MQTT writes), in order. */
+  private pushes: { update: LiveUpdate; patches: LivePatch[] }[] = [];
+  private pushTimer: NodeJS.Immediate | null = null;
   private committed: Omit<LiveState, "alarms"> | null = null;
   private alarmsSeen: AlarmDto[] = [];
 
@@ -174,7 +180,7 @@ export class LayoutRunner {
 
   /** Resolves when the mailbox is empty and nothing is being committed (tests, clean stop). */
   idle(): Promise<void> {
-    if (!this.busy && this.mailbox.size === 0) return Promise.resolve();
+    if (this.quiet()) return Promise.resolve();
     return new Promise((resolve) => this.idleWaiters.push(resolve));
   }
 
@@ -200,8 +206,19 @@ export class LayoutRunner {
     this.link?.crash();
   }
 
+  /** Nothing queued, nothing being committed, nothing left to push. */
+  private quiet(): boolean {
+    return !this.busy && this.mailbox.size === 0 && this.pushes.length === 0;
+  }
+
+  private wakeIdle(): void {
+    if (this.quiet() || this.stopped) for (const waiter of this.idleWaiters.splice(0)) waiter();
+  }
+
   private halt(): void {
     this.stopped = true;
+    if (this.pushTimer) clearImmediate(this.pushTimer);
+    this.pushes = [];
     this.committer.stop();
     this.mailbox.clear();
     if (this.clockTimer) clearTimeout(this.clockTimer);
@@ -231,7 +248,7 @@ export class LayoutRunner {
       }
     } finally {
       this.busy = false;
-      if (this.mailbox.size === 0 || this.stopped) for (const waiter of this.idleWaiters.splice(0)) waiter();
+      if (this.mailbox.size === 0 || this.stopped) this.wakeIdle();
       else void this.drain();
     }
   }
@@ -276,7 +293,8 @@ export class LayoutRunner {
 
   private failSafeNow(): void {
     this.publishAspects();
-    this.pushUpdate(null, { shown: shownNow(this.core), faulted: faultedDto(this.core) });
+    const patch: LivePatch = { shown: shownNow(this.core), faulted: faultedDto(this.core) };
+    this.pushSteps([this.step(null)], [patch], patch);
   }
 
   // ───────────────────────────── after the commit ─────────────────────────────
@@ -291,13 +309,19 @@ export class LayoutRunner {
     this.publishAspects();
     const coveredNow = new Map<string, { node: string; boot: string; seq: number }>();
     const alarms: AlarmEffect[] = [];
+    const steps: LiveStep[] = [];
+    const patches: LivePatch[] = [];
+    const patch: LivePatch = {};
     for (const effect of effects) {
       switch (effect.type) {
         case "update": {
           const event = effect.event === null ? null : batch.events[effect.event];
           // A session opened in this batch had no id until the commit gave it one.
           if (effect.patch.session && effect.patch.session.id === 0) effect.patch.session = sessionDto(core);
-          this.pushUpdate(event && effect.event !== null ? { event, id: result.eventIds[effect.event] } : null, effect.patch);
+          steps.push(this.step(event && effect.event !== null ? { event, id: result.eventIds[effect.event] } : null));
+          patches.push(effect.patch);
+          // Each field's value is whole, so the batch's patch is the last one of each field.
+          Object.assign(patch, effect.patch);
           break;
         }
         case "covered":
@@ -313,6 +337,7 @@ export class LayoutRunner {
           break;
       }
     }
+    this.pushSteps(steps, patches, patch);
     this.captureCommitted();
     // One confirmation per board per commit, only now that the commit covers it.
     for (const { node, boot, seq } of coveredNow.values()) if (seq > 0) this.link?.publishApplied(node, { boot, seq });
@@ -334,16 +359,31 @@ export class LayoutRunner {
     for (const { points, to, rev } of pointsCommands(this.core, all)) this.link?.publishPointsSet(points, to, rev, at);
   }
 
-  private pushUpdate(entry: { event: PendingEvent; id: string } | null, patch: LiveUpdate["patch"]): void {
-    const update: LiveUpdate = {
-      slug: this.slug,
+  /** Numbers one committed step (the next version) for the push. */
+  private step(entry: { event: PendingEvent; id: string } | null): LiveStep {
+    return {
       version: ++this.version,
       event: entry ? toEventDto(entry.event, entry.id) : null,
       changes: entry ? entry.event.changes.map(toChangeDto) : [],
-      patch,
     };
+  }
+
+  /** One push for a batch's steps (numbered already by `step`), sent on the next turn. */
+  private pushSteps(steps: LiveStep[], patches: LivePatch[], patch: LivePatch): void {
+    if (steps.length === 0) return;
+    this.pushes.push({ update: { slug: this.slug, from: steps[0].version, version: steps[steps.length - 1].version, steps, patch }, patches });
+    this.pushTimer ??= setImmediate(() => this.flushPushes());
+  }
+
+  private flushPushes(): void {
+    this.pushTimer = null;
+    for (const { update, patches } of this.pushes.splice(0)) this.emitUpdate(update, patches);
+    this.wakeIdle();
+  }
+
+  private emitUpdate(update: LiveUpdate, patches: LivePatch[]): void {
     try {
-      this.deps.bus.emit("live.update", update);
+      this.deps.bus.emit("live.update", update, patches);
     } catch (err) {
       // A listener's failure is its own: the layout goes on.
       this.deps.logger.error({ err, layout: this.slug }, "a live.update listener threw");

@@ -198,7 +198,7 @@ export interface SessionDto {
 /** GET /api/layouts/:slug/live and the socket's full-state message (CONTRACT.md §6). */
 export interface LiveState {
   slug: string;
-  /** Increases by one with every update pushed for this layout; gaps mean "ask again". */
+  /** Increases by one with every step pushed for this layout (LiveUpdate.from … version); gaps mean "ask again". */
   version: number;
   rulebookVersion: number | null;
   session: SessionDto | null;
@@ -227,13 +227,27 @@ export interface LiveState {
   since: Record<string, string>;
 }
 
-/** One pushed step: the event, what it changed, and the fields of LiveState that changed. */
-export interface LiveUpdate {
-  slug: string;
+/** One committed step: its place in the layout's count (`version`), the event and what it changed. */
+export interface LiveStep {
   version: number;
   event: LiveEventDto | null;
   changes: ChangeDto[];
-  patch: Partial<Omit<LiveState, "slug" | "version">>;
+}
+
+/** Fields of LiveState, each with its whole new value. */
+export type LivePatch = Partial<Omit<LiveState, "slug" | "version">>;
+
+/**
+ * One push per commit batch and room (`live:update`), not one per pulse: the batch's steps in
+ * order, numbered `from` … `version` (`from` is one more than the previous push's `version`),
+ * and the fields of LiveState that changed over the batch, with their values after it.
+ */
+export interface LiveUpdate {
+  slug: string;
+  from: number;
+  version: number;
+  steps: LiveStep[];
+  patch: LivePatch;
 }
 
 // ───────────────────────────── signaller commands ─────────────────────────────

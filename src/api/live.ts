@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { ChangeDto, CommandBody, LiveEventDto, LiveState } from "../../shared/contract/live";
+import type { CommandBody, LiveState, LiveStep } from "../../shared/contract/live";
 import type { DisplayResponse } from "../../shared/contract/controlRoom";
 import { http } from "./http";
 
@@ -12,12 +12,8 @@ export interface ConnectionInfo {
   message?: string;
 }
 
-/** One line of the event ticker. */
-export interface TickerEntry {
-  version: number;
-  event: LiveEventDto | null;
-  changes: ChangeDto[];
-}
+/** One line of the event ticker: one pushed step. */
+export type TickerEntry = LiveStep;
 export const TICKER_LENGTH = 80;
 
 export const liveKeys = {

@@ -9,7 +9,7 @@ import { acquireLiveSocket, JoinError, joinLive, leaveLive, releaseLiveSocket } 
 const REJOIN_DELAY_MS = 2_000;
 /**
  * Pushes are applied at once when they come one by one, and at most once per this interval
- * under a burst (many pulses a second), so the page renders about once per display frame.
+ * when they crowd in, so the page renders about once per display frame.
  */
 const MIN_FLUSH_INTERVAL_MS = 16;
 
@@ -18,8 +18,8 @@ const MIN_FLUSH_INTERVAL_MS = 16;
  * (`liveKeys.state`), the event ticker, per-detector pulse counts and the connection status.
  * No second store: components read those cache entries with the hooks in api/live.ts.
  *
- * Updates carry `version`, one more than the last per layout. Each is applied in order (at most
- * one render per MIN_FLUSH_INTERVAL_MS under a burst); a gap
+ * A push carries one commit batch of steps, numbered `from` … `version` per layout. Pushes are
+ * applied in order (at most one render per MIN_FLUSH_INTERVAL_MS under a burst); a gap
  * (a missed push) or a reconnect asks for the whole state again with a fresh `live:join`.
  */
 export function useLiveLayout(slug: string | undefined, options: { displayToken?: string } = {}): void {
@@ -143,8 +143,10 @@ export function mergeAlarm(alarms: AlarmDto[], alarm: AlarmDto): AlarmDto[] {
 }
 
 /**
- * Applies pushes in version order to the cached state. Stops at the first gap and asks for a
- * re-join; updates at or below the cached version are already in it and are skipped.
+ * Applies pushes in version order to the cached state. A push carries one commit batch: its
+ * steps `from` … `version` and the batch's patch (each field's value after the batch). Stops
+ * at the first gap and asks for a re-join; steps at or below the cached version are already in
+ * it and are skipped (a push wholly below it is skipped as a whole).
  */
 export function applyBatch(queryClient: QueryClient, slug: string, batch: LiveUpdate[], onGap: () => void): void {
   let state = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
@@ -157,21 +159,27 @@ export function applyBatch(queryClient: QueryClient, slug: string, batch: LiveUp
   let pulsed = false;
   for (const update of batch) {
     if (update.version <= state.version) continue;
-    if (update.version !== state.version + 1) {
+    if (update.from > state.version + 1) {
       onGap();
       break;
     }
+    const known = state.version;
     state = { ...state, ...update.patch, version: update.version };
-    const event = update.event;
-    if (event?.kind === "pulse" && event.status === "accepted" && event.detector) {
-      pulses[event.detector] = (pulses[event.detector] ?? 0) + 1;
-      pulsed = true;
+    for (const step of update.steps) {
+      if (step.version <= known) continue;
+      const event = step.event;
+      if (event?.kind === "pulse" && event.status === "accepted" && event.detector) {
+        pulses[event.detector] = (pulses[event.detector] ?? 0) + 1;
+        pulsed = true;
+      }
+      entries.push(step);
     }
-    entries.push({ version: update.version, event, changes: update.changes });
   }
   queryClient.setQueryData(liveKeys.state(slug), state);
   if (pulsed) queryClient.setQueryData(liveKeys.pulses(slug), pulses);
   if (entries.length > 0) {
-    queryClient.setQueryData<TickerEntry[]>(liveKeys.ticker(slug), (old = []) => [...entries.reverse(), ...old].slice(0, TICKER_LENGTH));
+    // The ticker keeps the newest TICKER_LENGTH steps, newest first.
+    const newest = entries.slice(-TICKER_LENGTH).reverse();
+    queryClient.setQueryData<TickerEntry[]>(liveKeys.ticker(slug), (old = []) => [...newest, ...old].slice(0, TICKER_LENGTH));
   }
 }

@@ -189,12 +189,13 @@ export async function run(report: Report): Promise<void> {
       if (started !== undefined) toAspect.push(performance.now() - started);
     });
     socket.on("live:update", (update: LiveUpdate) => {
-      if (update.event?.kind !== "pulse" || update.event.boot !== boot) return;
-      const key = `${update.event.node}:${update.event.seq}`;
-      const started = sentAt.get(key);
-      // The server stamps receipt in wall-clock ms; same process, so the clocks agree.
-      if (started !== undefined) ingress.push(Date.parse(update.event.receivedAt) - (performance.timeOrigin + started));
-      if (started !== undefined) {
+      for (const { event } of update.steps) {
+        if (event?.kind !== "pulse" || event.boot !== boot) continue;
+        const key = `${event.node}:${event.seq}`;
+        const started = sentAt.get(key);
+        if (started === undefined) continue;
+        // The server stamps receipt in wall-clock ms; same process, so the clocks agree.
+        ingress.push(Date.parse(event.receivedAt) - (performance.timeOrigin + started));
         toSocket.push(performance.now() - started);
         sentAt.delete(key);
       }

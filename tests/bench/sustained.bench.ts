@@ -2,31 +2,36 @@
  * `npm run bench -- sustained`: the real server as `npm start` runs it — the launcher as a
  * child process (its own PostgreSQL, the broker, the server with the alarm watchers, the
  * demo's fake layout playing Kestrel Bank) on a throwaway DATA_DIR and free ports — under
- * `SUSTAINED_SECONDS` at 500 pulses/s, then at 2,000/s, from several test boards doing the
- * board duties (sustainedBoards.ts), one of them with a chattering detector.
+ * `SUSTAINED_SECONDS` at 500 pulses/s, then at 2,000/s, from several reference boards
+ * (broker/referenceBoard.ts: CONTRACT.md §2's board duties, messages kept until `applied`),
+ * one of them with a chattering detector.
  *
  * The bench layout has 200 detectors (each pulsed at most 10 times a second: no chatter)
- * of which 20 toggle a signal each, plus one chattering detector (bursts with gaps of
- * 2–30 ms). Prints per rate committed/offered, pulse → aspect (at a board) and pulse →
- * socket.io update (at a signed-in browser) p50/p99/max, server CPU (% of one core) and
- * peak RSS; then the time for the server to go idle after the load, the alarms raised per
- * layout during the load, and the bare broker round trip.
+ * of which 20 toggle a signal each, one chattering detector (bursts with gaps of 2–30 ms),
+ * and a probe board whose detector flips a probe signal (sustainedProbe.ts): one probe in
+ * flight at a time, so pulse → aspect is measured exactly. Prints per rate
+ * committed/offered, pulse → aspect (at the probe board) p50/p99/max and its stages,
+ * pulse → socket.io update (at a signed-in browser) p50/p99/max, server CPU (% of one core)
+ * and peak RSS; then the time for the server to go idle after the load, the alarms raised
+ * per layout during the load, and the bare broker round trip.
  *
- * `BENCH_CPU_PROFILE=DIR` profiles the server process (V8 CPU profile, as `--cpu-prof` would,
- * through cpuProfilePreload.mjs), written to DIR when it stops, and prints its top functions
- * by self time.
+ * `BENCH_CPU_PROFILE=DIR` profiles the server process from the start of the load (V8 CPU
+ * profile, as `--cpu-prof` would, through cpuProfilePreload.mjs), written to DIR when it stops,
+ * and prints per rate its top five functions by self time, as a share of its busy samples.
  */
 import { spawn, type ChildProcess } from "node:child_process";
 import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
+import { monitorEventLoopDelay } from "node:perf_hooks";
 import mqtt from "mqtt";
 import pg from "pg";
 import { io as ioClient } from "socket.io-client";
+import { ReferenceBoard } from "../../broker/referenceBoard";
 import type { LiveUpdate } from "../../shared/contract/live";
 import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 import { freePort } from "../../server/db/embeddedPostgres";
-import { BenchBoard } from "./sustainedBoards";
+import { AspectProbe, PROBE_DETECTOR, PROBE_SIGNAL, probeRulebookPart, type ProbeSample } from "./sustainedProbe";
 
 type Report = (name: string, value: number, unit: string) => void;
 
@@ -36,6 +41,9 @@ const DETECTORS = 200;
 const TOGGLES = 20;
 const BOARDS = 4;
 const CHATTER_DETECTOR = "CH";
+const PROBE_NODE = "soak-probe";
+/** Messages a bench board keeps waiting for `applied` (more than a drain grace's worth). */
+const BOARD_OUTBOX = 200_000;
 const RATES = (process.env.BENCH_SUSTAINED_RATES ?? "500,2000").split(",").map(Number);
 const SUSTAINED_SECONDS = Number(process.env.BENCH_SUSTAINED_SECONDS ?? 60);
 const START_TIMEOUT_MS = 180_000;
@@ -54,26 +62,37 @@ const sorted = (xs: number[]) => Float64Array.from(xs).sort() as unknown as numb
 function soakLayout(): LayoutFile {
   const detectors = Array.from({ length: DETECTORS }, (_, i) => ({ id: `D${pad3(i)}`, name: `Soak detector ${pad3(i)}`, line: "soak", at: i }));
   const toggles = detectors.slice(0, TOGGLES).map((d, i) => ({ detector: d.id, signal: `S${pad3(i)}`, latch: `lit${pad3(i)}` }));
+  const probe = probeRulebookPart();
   return {
     format: LAYOUT_FORMAT,
     slug: SLUG,
     name: "Fernmoor soak bench",
     scale: { name: "G", ratio: 22.5 },
     lines: [{ id: "soak", name: "Soak bench" }],
-    detectors: [...detectors, { id: CHATTER_DETECTOR, name: "Bouncing contact", line: "soak", at: DETECTORS }],
-    signals: toggles.map((x, i) => ({ id: x.signal, name: `Soak signal ${pad3(i)}`, line: "soak", at: i + 0.5, aspects: ["danger", "clear"] })),
+    detectors: [
+      ...detectors,
+      { id: CHATTER_DETECTOR, name: "Bouncing contact", line: "soak", at: DETECTORS },
+      { id: PROBE_DETECTOR, name: "Probe contact", line: "soak", at: DETECTORS + 1 },
+    ],
+    signals: [
+      ...toggles.map((x, i) => ({ id: x.signal, name: `Soak signal ${pad3(i)}`, line: "soak", at: i + 0.5, aspects: ["danger", "clear"] })),
+      { id: PROBE_SIGNAL, name: "Probe signal", line: "soak", at: DETECTORS + 1.5, aspects: ["danger", "clear"] },
+    ],
     points: [],
     nodes: [],
     rulebook: {
       format: "blocklight.rulebook/1",
-      latches: Object.fromEntries(toggles.map((x) => [x.latch, false])),
+      latches: { ...Object.fromEntries(toggles.map((x) => [x.latch, false])), ...probe.latches },
       counters: {},
       selectors: {},
-      initial: Object.fromEntries(toggles.map((x) => [x.signal, "danger"])),
-      rules: toggles.flatMap((x) => [
-        { id: `on-${x.detector}`, on: { pass: x.detector }, if: { not: { latch: x.latch } }, do: [{ set: x.latch }, { show: x.signal, aspect: "clear" }] },
-        { id: `off-${x.detector}`, on: { pass: x.detector }, if: { latch: x.latch }, do: [{ clear: x.latch }, { show: x.signal, aspect: "danger" }] },
-      ]),
+      initial: { ...Object.fromEntries(toggles.map((x) => [x.signal, "danger"])), ...probe.initial },
+      rules: [
+        ...toggles.flatMap((x) => [
+          { id: `on-${x.detector}`, on: { pass: x.detector }, if: { not: { latch: x.latch } }, do: [{ set: x.latch }, { show: x.signal, aspect: "clear" }] },
+          { id: `off-${x.detector}`, on: { pass: x.detector }, if: { latch: x.latch }, do: [{ clear: x.latch }, { show: x.signal, aspect: "danger" }] },
+        ]),
+        ...probe.rules,
+      ],
     },
   } as LayoutFile;
 }
@@ -119,26 +138,39 @@ async function signIn(base: string, who: string): Promise<string> {
   return res.cookie;
 }
 
-/** The top functions of a V8 CPU profile by self time. */
-export function topFunctions(file: string, n = 5): { name: string; selfPct: number }[] {
+/**
+ * The top functions of a V8 CPU profile by self time, as a share of the samples where the
+ * process was busy (not idle), within `window` (seconds from the profile's start) if given.
+ */
+export function topFunctions(file: string, n = 5, window?: [number, number]): { busyPct: number; top: { name: string; selfPct: number }[] } {
   const profile = JSON.parse(fs.readFileSync(file, "utf8")) as {
     nodes: { id: number; callFrame: { functionName: string; url: string; lineNumber: number } }[];
     samples: number[];
+    timeDeltas: number[];
+    startTime: number;
   };
   const byId = new Map(profile.nodes.map((node) => [node.id, node]));
   const counts = new Map<string, number>();
-  for (const id of profile.samples) {
+  let inWindow = 0;
+  let busy = 0;
+  let at = profile.startTime;
+  profile.samples.forEach((id, i) => {
+    at += profile.timeDeltas[i];
+    const second = (at - profile.startTime) / 1e6;
+    if (window && (second < window[0] || second > window[1])) return;
+    inWindow++;
     const frame = byId.get(id)!.callFrame;
+    if (frame.functionName === "(idle)" || frame.functionName === "(program)") return;
+    busy++;
     const where = frame.url ? `${path.relative(ROOT, frame.url.replace(/^file:\/\//, ""))}:${frame.lineNumber + 1}` : "";
     const name = `${frame.functionName || "(anonymous)"}${where ? ` ${where}` : ""}`;
     counts.set(name, (counts.get(name) ?? 0) + 1);
-  }
-  const total = profile.samples.length;
-  return [...counts.entries()]
-    .filter(([name]) => !name.startsWith("(idle)") && !name.startsWith("(program)"))
+  });
+  const top = [...counts.entries()]
     .sort((a, b) => b[1] - a[1])
     .slice(0, n)
-    .map(([name, count]) => ({ name, selfPct: (100 * count) / total }));
+    .map(([name, count]) => ({ name, selfPct: (100 * count) / Math.max(1, busy) }));
+  return { busyPct: (100 * busy) / Math.max(1, inWindow), top };
 }
 
 export async function run(report: Report): Promise<void> {
@@ -155,7 +187,11 @@ export async function run(report: Report): Promise<void> {
     LOG_LEVEL: "warn",
     DEMO: "on",
     ...(profileDir
-      ? { NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --import ${path.join(ROOT, "tests/bench/cpuProfilePreload.mjs")}`.trim(), BENCH_CPU_PROFILE_DIR: profileDir }
+      ? {
+          NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --import ${path.join(ROOT, "tests/bench/cpuProfilePreload.mjs")}`.trim(),
+          BENCH_CPU_PROFILE_DIR: profileDir,
+          BENCH_CPU_PROFILE_ON: "signal",
+        }
       : {}),
   };
   delete env.DATABASE_URL;
@@ -165,6 +201,9 @@ export async function run(report: Report): Promise<void> {
   const exited = new Promise<void>((resolve) => launcher.once("exit", () => resolve()));
   const cleanups: (() => Promise<unknown> | unknown)[] = [];
   let serverPid: number | null = null;
+  /** Each rate's load, in seconds from the start of the server's profile. */
+  const profileWindows: { rate: number; window: [number, number] }[] = [];
+  let profileStartedAt = 0;
   try {
     const base = `http://127.0.0.1:${port}`;
     const started = Date.now();
@@ -190,36 +229,44 @@ export async function run(report: Report): Promise<void> {
     const signalOf = new Map(detectorIds.slice(0, TOGGLES).map((d, i) => [d, `S${pad3(i)}`]));
     const nodeOfDetector = new Map<string, number>();
     const mqttUrl = `mqtt://127.0.0.1:${mqttPort}`;
-    const toAspect: number[] = [];
-    /** Server's publish stamp → board receipt: the broker hop of the aspect command alone. */
-    const aspectHop: number[] = [];
-    /** Per signal, toggle pulses not yet seen at the board, with the aspect each leads to. */
-    const pendingBySignal = new Map<string, { at: number; aspect: "clear" | "danger" }[]>();
-    const togglesOf = new Map<string, number>();
-    const boards: BenchBoard[] = [];
+    /** A bench board: a reference board, and its clock (`t` is ms since its boot). */
+    type Board = { node: string; board: ReferenceBoard; bootAt: number };
+    const connectBoard = async (node: string, name: string, detectors: string[], signals: string[], onAspect?: AspectProbe["onAspect"]): Promise<Board> => {
+      const res = await api(base, "POST", `/api/layouts/${SLUG}/nodes`, { id: node, name, detectors, signals }, engineer);
+      if (res.status !== 201) throw new Error(`registering ${node} failed: ${res.status}`);
+      const board = new ReferenceBoard({
+        url: mqttUrl,
+        layout: SLUG,
+        node,
+        secret: (res.body as { secret: string }).secret,
+        boot: `soak${node.slice(-1)}${Date.now().toString(36)}`,
+        fw: "bench-1",
+        signals,
+        announce: true,
+        outboxLimit: BOARD_OUTBOX,
+        onAspect,
+      });
+      const bootAt = performance.now();
+      await board.start();
+      return { node, board, bootAt };
+    };
+    const boards: Board[] = [];
     for (let k = 0; k < BOARDS; k++) {
       const detectors = detectorIds.filter((_, i) => i % BOARDS === k);
       if (k === 0) detectors.push(CHATTER_DETECTOR);
       for (const d of detectors) nodeOfDetector.set(d, k);
       const signals = detectors.map((d) => signalOf.get(d)).filter((s): s is string => !!s);
-      const node = `soak-board-${k}`;
-      const res = await api(base, "POST", `/api/layouts/${SLUG}/nodes`, { id: node, name: `Soak board ${k}`, detectors, signals }, engineer);
-      if (res.status !== 201) throw new Error(`registering ${node} failed: ${res.status}`);
-      const onAspect = (signal: string, aspect: string, at: number, publishedAt: number) => {
-        if (pendingBySignal.size > 0) aspectHop.push(performance.timeOrigin + at - publishedAt);
-        // Board 0 sees every aspect of the layout (signal/#): it times them all. Two toggles
-        // committed together publish nothing (the aspect did not change), so match the
-        // oldest pending toggle that leads to this aspect and drop the ones before it.
-        const pending = pendingBySignal.get(signal);
-        if (!pending) return;
-        const i = pending.findIndex((p) => p.aspect === aspect);
-        if (i === -1) return;
-        toAspect.push(at - pending[i].at);
-        pending.splice(0, i + 1);
-      };
-      boards.push(await BenchBoard.connect({ url: mqttUrl, layout: SLUG, node, secret: (res.body as { secret: string }).secret, boot: `soak${k}${Date.now().toString(36)}`, ...(k === 0 ? { onAspect } : {}) }));
+      boards.push(await connectBoard(`soak-board-${k}`, `Soak board ${k}`, detectors, signals));
     }
-    cleanups.push(() => Promise.all(boards.map((b) => b.end())));
+    const probe = new AspectProbe();
+    const probeBoard = await connectBoard(PROBE_NODE, "Probe board", [PROBE_DETECTOR], [PROBE_SIGNAL], probe.onAspect);
+    const everyBoard = [...boards, probeBoard];
+    /** One pulse at `happenedAt` (performance.now() time: the load's schedule); returns its seq. */
+    const pulse = (b: Board, detector: string, happenedAt: number): number => {
+      void b.board.pulse(detector, Math.max(0, Math.round(happenedAt - b.bootAt)));
+      return b.board.seq;
+    };
+    cleanups.push(() => Promise.all(everyBoard.map((b) => b.board.end())));
 
     // A signed-in browser on both layouts.
     const cookie = await signIn(base, "signaller");
@@ -236,15 +283,20 @@ export async function run(report: Report): Promise<void> {
     const sentAt = new Map<string, number>();
     const toSocket: number[] = [];
     let socketUpdates = 0;
+    let socketSteps = 0;
     const onUpdate = (update: LiveUpdate) => {
       socketUpdates++;
-      const e = update.event;
-      if (update.slug !== SLUG || e?.kind !== "pulse" || !e.node) return;
-      const key = `${e.node}:${e.seq}`;
-      const at = sentAt.get(key);
-      if (at !== undefined) {
-        toSocket.push(performance.now() - at);
-        sentAt.delete(key);
+      socketSteps += update.steps.length;
+      if (update.slug !== SLUG) return;
+      const now = performance.now();
+      for (const { event: e } of update.steps) {
+        if (e?.kind !== "pulse" || !e.node) continue;
+        const key = `${e.node}:${e.seq}`;
+        const at = sentAt.get(key);
+        if (at !== undefined) {
+          toSocket.push(now - at);
+          sentAt.delete(key);
+        }
       }
     };
     socket.on("live:update", onUpdate);
@@ -258,10 +310,33 @@ export async function run(report: Report): Promise<void> {
         (
           await db.query<{ n: string }>(
             `SELECT count(*) AS n FROM events e JOIN layouts l ON l.id = e.layout_id WHERE l.slug = $1 AND e.kind = 'pulse' AND e.status = 'accepted' AND e.boot = ANY($2)`,
-            [SLUG, boards.map((b) => b.boot)],
+            [SLUG, everyBoard.map((b) => b.board.boot)],
           )
         ).rows[0].n,
       );
+    /**
+     * Each probe sample taken apart at the server's stamps (wall-clock ms): board → server
+     * receipt (`received_at`, so the broker hop in and the server's event-loop lag), receipt →
+     * the command's publish stamp (`at`: queue, engine, commit), publish → board (broker out).
+     */
+    const probeStages = async (samples: ProbeSample[]) => {
+      const rows = await db.query<{ seq: number; at: string }>(
+        `SELECT seq, (extract(epoch FROM received_at) * 1000)::float8 AS at FROM events e JOIN layouts l ON l.id = e.layout_id
+          WHERE l.slug = $1 AND e.boot = $2 AND e.seq = ANY($3)`,
+        [SLUG, probeBoard.board.boot, samples.map((x) => x.seq)],
+      );
+      const receivedAt = new Map(rows.rows.map((r) => [Number(r.seq), Number(r.at)]));
+      const wall = (t: number) => performance.timeOrigin + t;
+      const stages = { in: [] as number[], server: [] as number[], out: [] as number[] };
+      for (const x of samples) {
+        const at = receivedAt.get(x.seq);
+        if (at === undefined) continue;
+        stages.in.push(at - wall(x.sentAt));
+        stages.server.push(x.publishedAt - at);
+        stages.out.push(wall(x.receivedAt) - x.publishedAt);
+      }
+      return stages;
+    };
     await sleep(1_000);
     const loadStartedAt = new Date();
     let offeredTotal = 0;
@@ -269,16 +344,22 @@ export async function run(report: Report): Promise<void> {
     const rssTimer = setInterval(() => serverPid && rss.push(rssMb(serverPid)), 1_000);
     cleanups.push(() => clearInterval(rssTimer));
 
+    if (profileDir) {
+      profileStartedAt = performance.now();
+      process.kill(serverPid, "SIGUSR2");
+    }
     let lastSentAt = 0;
     for (const rate of RATES) {
-      toAspect.length = 0;
-      aspectHop.length = 0;
+      probe.reset();
       toSocket.length = 0;
       sentAt.clear();
-      pendingBySignal.clear();
       rss.length = 0;
       const committedBefore = await committedPulses();
       const cpuBefore = cpuSeconds(serverPid);
+      // The bench's own lag: every figure it times includes it.
+      const benchCpuBefore = process.cpuUsage();
+      const benchLoop = monitorEventLoopDelay({ resolution: 5 });
+      benchLoop.enable();
       const begin = performance.now();
       const total = Math.round(rate * SUSTAINED_SECONDS);
       let sent = 0;
@@ -290,6 +371,12 @@ export async function run(report: Report): Promise<void> {
         const now = performance.now();
         const due = Math.min(total, Math.floor(((now - begin) / 1000) * rate) + 1);
         for (; sent < due; sent++) {
+          // The probe takes the place of a load pulse, so the offered rate stays the rate.
+          if (probe.due()) {
+            const at = performance.now();
+            probe.sent(pulse(probeBoard, PROBE_DETECTOR, at), at);
+            continue;
+          }
           let detector: string;
           if (burstLeft > 0 && performance.now() >= chatterAt) {
             detector = CHATTER_DETECTOR;
@@ -301,29 +388,26 @@ export async function run(report: Report): Promise<void> {
           }
           const k = nodeOfDetector.get(detector)!;
           const at = performance.now();
-          const seq = boards[k].pulse(detector, detector === CHATTER_DETECTOR ? at : begin + (sent * 1000) / rate);
+          const seq = pulse(boards[k], detector, detector === CHATTER_DETECTOR ? at : begin + (sent * 1000) / rate);
           sentAt.set(`soak-board-${k}:${seq}`, at);
-          const signal = signalOf.get(detector);
-          if (signal) {
-            const n = (togglesOf.get(signal) ?? 0) + 1;
-            togglesOf.set(signal, n);
-            const list = pendingBySignal.get(signal) ?? [];
-            list.push({ at, aspect: n % 2 === 1 ? "clear" : "danger" });
-            pendingBySignal.set(signal, list);
-          }
         }
         await sleep(1);
       }
       lastSentAt = performance.now();
+      profileWindows.push({ rate, window: [(begin - profileStartedAt) / 1000, (lastSentAt - profileStartedAt) / 1000] });
       offeredTotal += total;
       const seconds = (lastSentAt - begin) / 1000;
       const cpuDuring = cpuSeconds(serverPid) - cpuBefore;
+      const benchCpu = process.cpuUsage(benchCpuBefore);
+      benchLoop.disable();
       let committed = (await committedPulses()) - committedBefore;
       while (committed < total && performance.now() - lastSentAt < DRAIN_GRACE_MS) {
         await sleep(100);
         committed = (await committedPulses()) - committedBefore;
       }
-      const a = sorted(toAspect);
+      const samples = probe.samples.slice();
+      const a = sorted(samples.map((x) => x.receivedAt - x.sentAt));
+      const stages = await probeStages(samples);
       const s = sorted(toSocket);
       report(`sustained.${rate}.offered`, total, "pulses");
       report(`sustained.${rate}.committed_over_offered`, committed / total, "fraction");
@@ -331,15 +415,20 @@ export async function run(report: Report): Promise<void> {
       report(`sustained.${rate}.aspect_p99_ms`, pct(a, 99), "ms");
       report(`sustained.${rate}.aspect_max_ms`, a.length ? a[a.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.aspect_samples`, a.length, "count");
-      const hop = sorted(aspectHop);
-      report(`sustained.${rate}.aspect_server_to_board_p50_ms`, pct(hop, 50), "ms");
-      report(`sustained.${rate}.aspect_server_to_board_p99_ms`, pct(hop, 99), "ms");
+      report(`sustained.${rate}.aspect_probes_lost`, probe.lost, "count");
+      for (const [stage, values] of Object.entries(stages)) {
+        const v = sorted(values);
+        report(`sustained.${rate}.aspect_stage_${stage}_p50_ms`, pct(v, 50), "ms");
+        report(`sustained.${rate}.aspect_stage_${stage}_p99_ms`, pct(v, 99), "ms");
+      }
       report(`sustained.${rate}.socket_p50_ms`, pct(s, 50), "ms");
       report(`sustained.${rate}.socket_p99_ms`, pct(s, 99), "ms");
       report(`sustained.${rate}.socket_max_ms`, s.length ? s[s.length - 1] : Number.NaN, "ms");
       report(`sustained.${rate}.server_cpu_pct`, (100 * cpuDuring) / seconds, "% of one core");
+      report(`sustained.${rate}.bench_cpu_pct`, (benchCpu.user + benchCpu.system) / 1e4 / seconds, "% of one core");
+      report(`sustained.${rate}.bench_loop_delay_p99_ms`, benchLoop.percentile(99) / 1e6, "ms");
       report(`sustained.${rate}.server_rss_peak_mb`, Math.max(...rss, rssMb(serverPid)), "MB");
-      report(`sustained.${rate}.board_uncovered_at_end`, boards.reduce((n, b) => n + b.uncoveredCount(), 0), "messages");
+      report(`sustained.${rate}.board_uncovered_at_end`, everyBoard.reduce((n, b) => n + b.board.uncovered, 0), "messages");
     }
 
     // Idle: the server's CPU over a short window falls below IDLE_CPU_PCT of a core.
@@ -358,6 +447,7 @@ export async function run(report: Report): Promise<void> {
     report("sustained.idle_after_load_s", Math.max(0, (idleAt - lastSentAt) / 1000), "s");
     report("sustained.committed_equals_offered", (await committedPulses()) === offeredTotal ? 1 : 0, "bool");
     report("sustained.socket_updates_received", socketUpdates, "messages");
+    report("sustained.socket_steps_received", socketSteps, "steps");
 
     const alarms = await db.query<{ slug: string; kind: string; rows: string; occurrences: string }>(
       `SELECT l.slug, a.kind, count(*) AS rows, sum(a.occurrences) AS occurrences FROM alarms a JOIN layouts l ON l.id = a.layout_id
@@ -403,8 +493,12 @@ export async function run(report: Report): Promise<void> {
     if (profileDir && serverPid) {
       const file = fs.readdirSync(profileDir).find((f) => f.includes(`.${serverPid}.`) && f.endsWith(".cpuprofile"));
       if (file) {
-        process.stdout.write(`# server profile: ${path.join(profileDir, file)}\n`);
-        for (const [i, f] of topFunctions(path.join(profileDir, file)).entries()) process.stdout.write(`# top ${i + 1}: ${f.selfPct.toFixed(1)} % self  ${f.name}\n`);
+        process.stdout.write(`# server profile: ${path.join(profileDir, file)} (from the start of the load)\n`);
+        for (const { rate, window } of profileWindows) {
+          const { busyPct, top } = topFunctions(path.join(profileDir, file), 5, window);
+          process.stdout.write(`# ${rate}/s: busy in ${busyPct.toFixed(1)} % of samples; top five by self time, % of busy samples:\n`);
+          for (const [i, f] of top.entries()) process.stdout.write(`#   ${i + 1}. ${f.selfPct.toFixed(1)} %  ${f.name}\n`);
+        }
       }
     }
     fs.rmSync(dataDir, { recursive: true, force: true });

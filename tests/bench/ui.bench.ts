@@ -219,7 +219,8 @@ export async function run(report: Report): Promise<void> {
     await new Promise((resolve) => probe.emit("live:join", { slug: SLUG }, resolve));
     const probeSeen = new Map<string, number>();
     probe.on("live:update", (u: LiveUpdate) => {
-      if (u.event?.kind === "pulse" && u.event.node && u.event.seq) probeSeen.set(`${u.event.node}:${u.event.seq}`, Date.now());
+      const now = Date.now();
+      for (const { event } of u.steps) if (event?.kind === "pulse" && event.node && event.seq) probeSeen.set(`${event.node}:${event.seq}`, now);
     });
     const sentAtBySeq = new Map<string, number>();
 

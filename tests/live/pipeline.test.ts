@@ -85,12 +85,15 @@ describe("live pipeline", () => {
     const late = await connectBoard(h.mqttUrl, SLUG, "quarry", secrets.get("quarry")!);
     await waitFor(() => late.aspects.get("M1")?.aspect === "danger" && late.aspects.has("B1"), "retained aspects for a late board");
 
-    await waitFor(() => browser.updates.filter((u) => u.event?.kind === "pulse").length === 6, "six pushed pulse updates");
-    const versions = browser.updates.map((u) => u.version);
+    const steps = () => browser.updates.flatMap((u) => u.steps);
+    await waitFor(() => steps().filter((s) => s.event?.kind === "pulse").length === 6, "six pushed pulse steps");
+    const versions = steps().map((s) => s.version);
     expect(versions).toEqual(versions.map((_, i) => startVersion + 1 + i)); // no gaps
-    const clearing = browser.updates.find((u) => u.changes.some((c) => c.kind === "shown" && c.to === "clear"));
+    // One push per commit batch: each starts where the one before ended.
+    expect(browser.updates.every((u, i) => u.from === (i === 0 ? startVersion + 1 : browser.updates[i - 1].version + 1) && u.version === u.from + u.steps.length - 1)).toBe(true);
+    const clearing = browser.updates.find((u) => u.steps.some((s) => s.changes.some((c) => c.kind === "shown" && c.to === "clear")));
     expect(clearing?.patch.shown?.M1).toBe("clear");
-    expect(clearing?.changes.find((c) => c.kind === "shown")?.rule).toBe("give-main");
+    expect(clearing?.steps.flatMap((s) => s.changes).find((c) => c.kind === "shown")?.rule).toBe("give-main");
 
     const live = await request(t.app).get(`/api/layouts/${SLUG}/live`).set("Cookie", signallerCookie);
     expect(live.status).toBe(200);

@@ -14,9 +14,19 @@ describe("what a visitor display receives", () => {
     ["a command's reason is dropped", { kind: "held", name: "M1", from: false, to: true, command: "hold", detail: "Shunt for Fernmoor Signaller" }, { kind: "held", name: "M1", from: false, to: true, command: "hold" }],
     ["a rule's change is kept whole", { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }, { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }],
   ])("%s", (_name, change, expected) => {
-    const update: LiveUpdate = { slug: "kestrel-bank", version: 4, event: null, changes: [change], patch: { alarms: [alarm], shown: { M1: "danger" } } };
+    const update: LiveUpdate = {
+      slug: "kestrel-bank",
+      from: 4,
+      version: 5,
+      steps: [
+        { version: 4, event: null, changes: [change] },
+        { version: 5, event: null, changes: [change] },
+      ],
+      patch: { alarms: [alarm], shown: { M1: "danger" } },
+    };
     const out = redactUpdateForDisplay(update);
-    expect(out.changes).toEqual([expected]);
+    expect(out.steps.map((s) => s.changes)).toEqual([[expected], [expected]]);
+    expect(out.steps.map((s) => s.version)).toEqual([4, 5]);
     expect(out.patch).toEqual({ shown: { M1: "danger" } });
   });
 });

@@ -6,7 +6,7 @@
  * next "nothing happened for N" deadline is due. Stoppable; one per process.
  */
 import { QueryTypes } from "sequelize";
-import type { LiveUpdate } from "../../../shared/contract/live";
+import type { LivePatch, LiveStep, LiveUpdate } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { findLayout, liveRulebookVersion } from "../layouts/service";
 import { AlarmWriter } from "./alarmWriter";
@@ -127,32 +127,37 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
     return entry;
   };
 
-  const inputsOf = (update: LiveUpdate): WatchInput[] => {
-    const inputs: WatchInput[] = [];
-    const e = update.event;
+  /** What one committed step tells the watchers (its own patch: the state as of that step). */
+  const inputsOf = (step: LiveStep, patch: LivePatch, inputs: WatchInput[]): void => {
+    const e = step.event;
     const at = e ? Date.parse(e.receivedAt) : now();
     if (e?.status === "accepted" && e.kind === "pulse" && e.detector) {
       // The board's clock runs per boot: pulses of one boot are timed against each other by it.
       const board = e.boardT !== null && e.node && e.boot ? { clock: `${e.node}\u0000${e.boot}`, t: e.boardT } : undefined;
       inputs.push(board ? { type: "pulse", detector: e.detector, at, board } : { type: "pulse", detector: e.detector, at });
     }
-    if (e?.status === "accepted" && e.kind === "status" && e.node && update.patch.nodes?.[e.node]) {
-      inputs.push({ type: "node", at, node: e.node, online: update.patch.nodes[e.node].online });
+    if (e?.status === "accepted" && e.kind === "status" && e.node && patch.nodes?.[e.node]) {
+      inputs.push({ type: "node", at, node: e.node, online: patch.nodes[e.node].online });
     }
-    if (update.patch.latches || update.patch.counters) inputs.push({ type: "state", at, latches: update.patch.latches, counters: update.patch.counters });
-    return inputs;
+    if (patch.latches || patch.counters) inputs.push({ type: "state", at, latches: patch.latches, counters: patch.counters });
   };
 
-  const onUpdate = (update: LiveUpdate) => {
+  const onUpdate = (update: LiveUpdate, patches: LivePatch[]) => {
     if (stopped) return;
-    const inputs = inputsOf(update);
-    if (inputs.length === 0) return;
     const w = watched.get(update.slug);
     if (w) {
-      for (const input of inputs) run(w, input, update.event?.id ?? null);
+      const one: WatchInput[] = [];
+      update.steps.forEach((step, i) => {
+        inputsOf(step, patches[i] ?? {}, one);
+        for (const input of one) run(w, input, step.event?.id ?? null);
+        one.length = 0;
+      });
       arm(w);
       return;
     }
+    const inputs: WatchInput[] = [];
+    update.steps.forEach((step, i) => inputsOf(step, patches[i] ?? {}, inputs));
+    if (inputs.length === 0) return;
     const entry = load(update.slug);
     for (const input of inputs) {
       entry.early.push(input);

@@ -17,5 +17,5 @@ export function redactStateForDisplay(state: LiveState): LiveState {
 
 export function redactUpdateForDisplay(update: LiveUpdate): LiveUpdate {
   const { alarms: _alarms, ...patch } = update.patch;
-  return { ...update, changes: update.changes.map(redactChange), patch };
+  return { ...update, steps: update.steps.map((step) => ({ ...step, changes: step.changes.map(redactChange) })), patch };
 }

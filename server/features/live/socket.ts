@@ -1,8 +1,8 @@
 /**
  * Live pushes over socket.io, attached to the HTTP server. One room per layout. A socket is
  * let in by the session cookie (a signed-in user) or by a display link's token; `live:join`
- * answers with the full LiveState, then `live:update` follows every committed step with a
- * version one higher than the last (a client that sees a gap joins again).
+ * answers with the full LiveState, then one `live:update` per commit batch carries that
+ * batch's steps, numbered on from the last (a client that sees a gap joins again).
  */
 import type http from "node:http";
 import { Server, type Socket } from "socket.io";
@@ -107,9 +107,11 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
     });
   });
 
+  // Nobody in a room: no encoding, no redaction (socket.io would encode for an empty room too).
+  const occupied = (name: string) => (io.sockets.adapter.rooms.get(name)?.size ?? 0) > 0;
   const onUpdate = (update: LiveUpdate) => {
-    io.to(room(update.slug)).emit("live:update", update);
-    io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
+    if (occupied(room(update.slug))) io.to(room(update.slug)).emit("live:update", update);
+    if (occupied(displayRoom(update.slug))) io.to(displayRoom(update.slug)).emit("live:update", redactUpdateForDisplay(update));
   };
   const onAlarm = (alarm: AlarmDto & { slug: string; layoutId: number; created?: boolean }) => {
     const { layoutId: _layoutId, created: _created, ...dto } = alarm;
