@@ -27,4 +27,31 @@ export default tseslint.config(
     files: ["server/**/*.ts", "broker/**/*.ts", "tests/**/*.{ts,tsx}", "shared/**/*.ts"],
     languageOptions: { globals: globals.node },
   },
+  // Layers (DEVELOPERS.md): the live pipeline knows no feature and no HTTP code (alarms and the
+  // rest come in through ports); shared/ is pure and imports nothing of the server, the client or
+  // Node's I/O; the client reaches the server only through shared/ types and the REST API.
+  {
+    files: ["server/runtime/**/*.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["**/features/**", "**/http/**", "**/app"], message: "runtime/ imports no feature or HTTP code: pass a port in (server/runtimeDeps.ts)" }] }],
+    },
+  },
+  {
+    files: ["shared/**/*.ts"],
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        {
+          patterns: [{ group: ["**/server/**", "**/src/**", "**/broker/**"], message: "shared/ is pure: it imports nothing of the server, broker or client" }],
+          paths: ["node:fs", "node:net", "node:child_process", "fs", "net", "child_process", "pg", "sequelize", "mqtt"].map((name) => ({ name, message: "shared/ does no I/O" })),
+        },
+      ],
+    },
+  },
+  {
+    files: ["src/**/*.{ts,tsx}"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["**/server/**", "**/broker/**"], message: "the client talks to the server through shared/ types and the REST API only" }] }],
+    },
+  },
 );
