@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { AlarmDto } from "../../shared/contract/live";
 import type { TemplateDto } from "../../shared/contract/layoutEdit";
 import type { ProofJobDto, RulebookVersionSummary } from "../../shared/contract/rest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout } from "../../shared/demo/fernmoor";
 import { RULEBOOK_KEY_ORDER } from "../../shared/rulebook/canonical";
 import { rulebookContextOf, validateRulebookFile } from "../../shared/rulebook/validate";
 import { closeProofJobs } from "../../server/features/prove/service";
@@ -80,6 +80,8 @@ describe("junction templates", () => {
         ],
         order: "priority",
         priority: "main",
+        maxAxles: KESTREL_MAX_AXLES,
+        maxTrainsPerRoute: KESTREL_MAX_TRAINS,
       },
     });
     expect(res.status).toBe(200);
@@ -154,6 +156,8 @@ describe("publishing and proof verdicts", () => {
     const rulebook = structuredClone(kestrelBankLayout().rulebook);
     // The mistake: the main approach also clears the branch signal (two conflicting proceeds).
     rulebook.rules.find((r) => r.id === "main-approach")!.do.push({ show: "B1", aspect: "clear" });
+    // Short trains find the mistake as surely and keep the proof quick.
+    rulebook.proving = { ...rulebook.proving!, maxAxles: 2, maxTrainsPerRoute: 2 };
     const version = await saveDraft(engineer, rulebook);
     await engineer.post(`/api/layouts/${SLUG}/rulebooks/${version}/publish`).send({ withoutProof: true, reason: "trying it on the test track" });
     const job = await prove(engineer, version);

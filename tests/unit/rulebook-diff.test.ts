@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES, kestrelBankLayout } from "../../shared/demo/fernmoor";
 import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "../../shared/rulebook/diff";
 import type { Rule, Rulebook } from "../../shared/rulebook/schema";
 
@@ -92,8 +92,8 @@ describe("diffRulebooks finds each kind of change in Kestrel Bank", () => {
     ],
     [
       "proving axles changed",
-      (r) => (r.proving!.maxAxles = 4),
-      { proving: [{ what: "setting", change: "changed", name: "maxAxles", before: 2, after: 4 }] },
+      (r) => (r.proving!.maxAxles = KESTREL_MAX_AXLES - 1),
+      { proving: [{ what: "setting", change: "changed", name: "maxAxles", before: KESTREL_MAX_AXLES, after: KESTREL_MAX_AXLES - 1 }] },
     ],
   ])("%s", (_label, edit, expected) => {
     const base = kestrel();
