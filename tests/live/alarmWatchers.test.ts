@@ -32,12 +32,25 @@ describe("alarm watchers on the live pipeline", () => {
         WHERE l.slug = :slug AND a.kind = :kind ORDER BY a.id`,
       { replacements: { slug: SLUG, kind }, type: QueryTypes.SELECT },
     );
+  let pulsesSent = 0;
   /** A pulse with the board's clock (`t`, ms since this boot). */
   const pulseAt = async (board: Board, node: string, detector: string, t: number) => {
     board.seq++;
+    pulsesSent++;
     await board.publish(`blocklight/v1/${SLUG}/node/${node}/pulse`, JSON.stringify({ detector, seq: board.seq, boot: board.boot, t }));
   };
+  const pulsesStored = async () =>
+    Number(
+      (
+        await t.deps.db.sequelize.query<{ n: string }>(
+          `SELECT count(*) AS n FROM events e JOIN layouts l ON l.id = e.layout_id WHERE l.slug = :slug AND e.kind = 'pulse'`,
+          { replacements: { slug: SLUG }, type: QueryTypes.SELECT },
+        )
+      )[0].n,
+    );
+  /** The broker's PUBACK says nothing of the server: wait until every pulse sent is stored, then for the watchers. */
   const settle = async () => {
+    await waitFor(async () => (await pulsesStored()) >= pulsesSent, "every pulse sent stored by the server");
     await live.runtime.idle();
     await watchers.idle();
   };
