@@ -52,15 +52,16 @@ export function jsonBodyProblems(body: unknown): BodyProblem[] {
   return problems;
 }
 
+/** The refusal for a body with problems: `too_deep` when nesting is all that is wrong. */
+export function bodyRefusal(problems: BodyProblem[]): HttpError {
+  return problems.every((p) => p.message.startsWith("is nested too deeply"))
+    ? new HttpError(400, "too_deep", `the request body is nested deeper than ${MAX_JSON_DEPTH} levels`, problems)
+    : new HttpError(400, "invalid_input", "the request body holds values the server cannot store", problems);
+}
+
 export const guardJsonBody: RequestHandler = (req, _res, next) => {
   const body: unknown = req.body;
   if (typeof body !== "object" || body === null) return next();
   const problems = jsonBodyProblems(body);
-  if (problems.length === 0) return next();
-  const tooDeep = problems.every((p) => p.message.startsWith("is nested too deeply"));
-  next(
-    tooDeep
-      ? new HttpError(400, "too_deep", `the request body is nested deeper than ${MAX_JSON_DEPTH} levels`, problems)
-      : new HttpError(400, "invalid_input", "the request body holds values the server cannot store", problems),
-  );
+  next(problems.length === 0 ? undefined : bodyRefusal(problems));
 };

@@ -12,8 +12,7 @@ import { z } from "zod";
 import { idSchema, nameSchema } from "../../../shared/rulebook/schema";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import { initialState, shownAspects, step, type EngineInput } from "../../../shared/rulebook/engine";
-import { jsonBodyProblems } from "../../http/bodyGuard";
-import { findTooDeep, MAX_JSON_DEPTH } from "../../http/bounds";
+import { bodyRefusal, jsonBodyProblems } from "../../http/bodyGuard";
 import { zodDetails } from "../../http/errors";
 
 export const MAX_EVENTS = 100_000;
@@ -102,11 +101,10 @@ export function runSimulation(body: Uint8Array): SimulationReply {
   }
   // The body skips the app's JSON guard (it is parsed here, off the main thread): the same checks.
   const hostile = jsonBodyProblems(raw);
-  if (hostile.length > 0 && !hostile.every((p) => p.message.startsWith("is nested too deeply"))) {
-    return error(400, "invalid_input", "the request body holds values the server cannot store", hostile);
+  if (hostile.length > 0) {
+    const refusal = bodyRefusal(hostile);
+    return error(refusal.status, refusal.code, refusal.message, hostile);
   }
-  const deep = findTooDeep(raw);
-  if (deep) return error(400, "too_deep", `the request body is nested deeper than ${MAX_JSON_DEPTH} levels`, [{ path: deep, message: `nested deeper than ${MAX_JSON_DEPTH} levels` }]);
   const envelope = envelopeSchema.safeParse(raw);
   if (!envelope.success) {
     const details = zodDetails(envelope.error);
