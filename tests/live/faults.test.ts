@@ -28,6 +28,11 @@ describe("faults: every pulse sent is applied exactly once, in seq order", () =>
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
     t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
 
+  const databaseUrlOf = (app: TestApp) => {
+    const c = app.deps.db.sequelize.config;
+    return `postgres://${c.username}${c.password ? `:${c.password}` : ""}@${c.host}:${c.port}/${c.database}`;
+  };
+
   const counters = async (): Promise<Record<string, number>> => {
     const res = await fetch(`${rig.httpUrl}/api/layouts/${RIG_SLUG}/live`, { headers: { cookie } });
     if (res.status !== 200) throw new Error(`live state: ${res.status} ${await res.text()}`);
@@ -50,7 +55,7 @@ describe("faults: every pulse sent is applied exactly once, in seq order", () =>
     ]);
     const c = t.deps.db.sequelize.config;
     dbName = c.database;
-    const databaseUrl = `postgres://${c.username}${c.password ? `:${c.password}` : ""}@${c.host}:${c.port}/${c.database}`;
+    const databaseUrl = databaseUrlOf(t);
     admin = new pg.Client({ connectionString: inject("pgAdminUrl") });
     await admin.connect();
     rig = new FaultRig({ databaseUrl, secrets });
@@ -142,6 +147,21 @@ describe("faults: every pulse sent is applied exactly once, in seq order", () =>
       { atMs: 1_000, run: () => setConnections(false) },
       { atMs: 6_000, run: () => setConnections(true) },
     ]);
+  }, 120_000);
+
+  it("PostgreSQL hanging for 5 s (the event log locked: every commit waits, none is refused)", async () => {
+    // A frozen database answers nothing; a lock held on the event log does the same to this
+    // layout's commits without freezing the cluster the other test files share.
+    const locker = new pg.Client({ connectionString: databaseUrlOf(t) });
+    await locker.connect();
+    try {
+      await underFault("database hanging", [
+        { atMs: 1_000, run: async () => void (await locker.query("BEGIN; LOCK TABLE events IN ACCESS EXCLUSIVE MODE")) },
+        { atMs: 6_000, run: async () => void (await locker.query("COMMIT")) },
+      ]);
+    } finally {
+      await locker.end().catch(() => {});
+    }
   }, 120_000);
 
   it("a board that reboots mid-stream: only what it lost with the old boot is missing", async () => {
