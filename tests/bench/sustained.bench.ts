@@ -460,11 +460,12 @@ export async function run(report: Report): Promise<void> {
     const demoChatter = alarms.rows.filter((r) => r.slug === DEMO_SLUG && r.kind === "chatter").reduce((n, r) => n + Number(r.rows), 0);
     report(`sustained.alarms.${DEMO_SLUG}.chatter_during_load`, demoChatter, "alarms");
 
-    // The bare broker round trip, from the same run (the server's credentials, as the live bench).
+    // The bare broker round trip, from the same run (the server's credentials, as the live bench;
+    // the broker binds those credentials to `blocklight-server` ids, so the probes carry one).
     const serverPassword = fs.readFileSync(path.join(dataDir, "secrets", "server-mqtt"), "utf8").trim();
     const opts = { protocolVersion: 4 as const, username: "blocklight-server", password: serverPassword };
-    const sub = await mqtt.connectAsync(mqttUrl, { ...opts, clientId: "blocklight-bench-bare-sub" });
-    const pub = await mqtt.connectAsync(mqttUrl, { ...opts, clientId: "blocklight-bench-bare-pub" });
+    const sub = await mqtt.connectAsync(mqttUrl, { ...opts, clientId: "blocklight-server.bench-bare-sub" });
+    const pub = await mqtt.connectAsync(mqttUrl, { ...opts, clientId: "blocklight-server.bench-bare-pub" });
     for (const c of [sub, pub]) (c.stream as { setNoDelay?: (on: boolean) => void }).setNoDelay?.(true);
     await sub.subscribeAsync("bench/round-trip", { qos: 1 });
     const bare: number[] = [];
