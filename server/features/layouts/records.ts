@@ -43,7 +43,8 @@ export async function readRecords(deps: AppDeps, layoutId: number, transaction?:
 export async function writeRecords(deps: AppDeps, layoutId: number, records: Omit<LayoutRecords, "format" | "slug" | "name" | "scale">, transaction: Transaction): Promise<void> {
   const { LineRecord, DetectorRecord, SignalRecord, PointsRecord, NodeRecord } = deps.db.models;
   const where = { layoutId };
-  await Promise.all([LineRecord, DetectorRecord, SignalRecord, PointsRecord].map((model) => (model as typeof LineRecord).destroy({ where, transaction })));
+  // One after another: a transaction is one connection, and pg refuses overlapping queries on one.
+  for (const model of [LineRecord, DetectorRecord, SignalRecord, PointsRecord]) await (model as typeof LineRecord).destroy({ where, transaction });
   await LineRecord.bulkCreate(records.lines.map((l, position) => ({ layoutId, lineId: l.id, name: l.name, position })), { transaction });
   await DetectorRecord.bulkCreate(
     records.detectors.map((d, position) => ({ layoutId, detectorId: d.id, name: d.name, lineId: d.line, at: d.at, position })),
