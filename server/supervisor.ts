@@ -59,6 +59,10 @@ export class SupervisedChild {
       // stdin is a pipe the launcher never writes to: the child sees it close when the
       // launcher dies by any means (server/parentWatch.ts).
       stdio: ["pipe", "pipe", "pipe"],
+      // Its own process group: Ctrl-C at the terminal (or `timeout`) signals the whole foreground
+      // group at once, which would stop the broker beside its clients; the launcher alone gets
+      // the signal and stops the children in order (clients, then the broker).
+      detached: true,
     });
     this.child = child;
     this.startedAt = Date.now();

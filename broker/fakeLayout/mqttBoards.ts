@@ -24,6 +24,7 @@ export interface MqttBoardsOptions {
 
 export class MqttBoards {
   private readonly clients = new Map<string, ReferenceBoard>();
+  private closing = false;
 
   constructor(private readonly options: MqttBoardsOptions) {}
 
@@ -65,14 +66,21 @@ export class MqttBoards {
 
   send(message: OutMessage): void {
     const board = this.clients.get(message.node);
-    if (!board) return;
+    // An aspect that arrives while the boards say goodbye would be answered on a closing client.
+    if (!board || this.closing) return;
     if (message.kind === "pulse") void board.keep("pulse", message.payload);
     else if (message.kind === "points") void board.keep("points", message.payload);
-    else void board.publishRaw(topics.shown(this.options.layout, message.node), JSON.stringify(message.payload));
+    else {
+      // Lamp-proving reports are sent once, best effort: a lost one is the server's to notice.
+      board.publishRaw(topics.shown(this.options.layout, message.node), JSON.stringify(message.payload)).catch((err: unknown) => {
+        if (!this.closing) this.options.log(`board ${message.node}: ${(err as Error).message}`);
+      });
+    }
   }
 
   /** Says goodbye properly: retained offline status, then a clean disconnect. */
   async close(): Promise<void> {
+    this.closing = true;
     await Promise.all([...this.clients.values()].map((board) => board.end()));
   }
 }

@@ -162,4 +162,40 @@ describe("npm start's launcher", () => {
     },
     3 * UP_TIMEOUT_MS + 60_000,
   );
+
+  it(
+    "with the demo running, Ctrl-C (SIGINT to the whole terminal group) stops it in order, with no kill and no error line",
+    async () => {
+      const dir = fs.mkdtempSync(path.join(os.tmpdir(), "blocklight-launcher-ctrlc-"));
+      const [port, mqttPort, pgPort] = [await freePort(), await freePort(), await freePort()];
+      const env: NodeJS.ProcessEnv = { ...process.env, DATA_DIR: dir, PORT: String(port), MQTT_PORT: String(mqttPort), PG_PORT: String(pgPort), DEMO: "on" };
+      delete env.DATABASE_URL;
+      delete env.MQTT_URL;
+      delete env.DEV;
+      let log = "";
+      // Its own process group, as a terminal's foreground job.
+      const child = spawn(process.execPath, ["--import", "tsx", path.join(ROOT, "server/launcher.ts")], { cwd: ROOT, env, stdio: ["ignore", "pipe", "pipe"], detached: true });
+      child.stdout!.on("data", (chunk: Buffer) => (log += chunk.toString()));
+      child.stderr!.on("data", (chunk: Buffer) => (log += chunk.toString()));
+      try {
+        await waitForDbUp(`http://127.0.0.1:${port}/api/health`, child);
+        // The demo's boards and the server's layout clients are on the broker before the stop.
+        expect(await waitUntil(() => /board \S+ connected as kestrel-bank\./.test(log), 30_000), log).toBe(true);
+        const beforeStop = log.length;
+        const exited = new Promise<number | null>((resolve) => child.once("exit", (code) => resolve(code)));
+        process.kill(-child.pid!, "SIGINT");
+        expect(await exited, log).toBe(0);
+        const stopLog = log.slice(beforeStop);
+        // Clients stop before the broker: no reconnect noise, no child left to be killed.
+        expect(stopLog, stopLog).not.toMatch(/did not stop|killing it|MQTT client error|ECONNREFUSED|Error:/);
+        expect(stopLog).toContain("PostgreSQL stopped");
+        expect(processesMentioning(dir)).toEqual([]);
+      } finally {
+        for (const pid of processesWithDataDir(dir)) process.kill(pid, "SIGKILL");
+        for (const p of processesMentioning(path.join(dir, "pg"))) process.kill(p.pid, "SIGKILL");
+        fs.rmSync(dir, { recursive: true, force: true });
+      }
+    },
+    UP_TIMEOUT_MS + STOP_TIMEOUT_MS + 30_000,
+  );
 });
