@@ -377,7 +377,13 @@ export class ReferenceBoard {
     this.motors.clear();
     const client = this.current;
     if (!client) return;
-    if (this.connectedNow && this.options.announce) {
+    if (!this.connectedNow) {
+      // Between connections: a dropped client (mqtt.js never calls back an end on it) or one
+      // still connecting. Ended at once either way; stopped, the board opens no other.
+      client.end(true);
+      return;
+    }
+    if (this.options.announce) {
       await client.publishAsync(topics.status(this.options.layout, this.options.node), JSON.stringify({ online: false, boot: this.boot }), { qos: 1, retain: true }).catch(() => undefined);
     }
     await client.endAsync().catch(() => undefined);

@@ -69,4 +69,9 @@ export class ManualScheduler implements Scheduler {
   get pending(): number {
     return this.timers.length;
   }
+
+  /** When the earliest timer falls due (null: none is set). */
+  get nextDue(): number | null {
+    return this.timers.length ? Math.min(...this.timers.map((t) => t.due)) : null;
+  }
 }

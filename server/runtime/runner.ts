@@ -29,6 +29,7 @@ import type { IngestResult, NodeEntry } from "./ingest";
 import type { LayoutLink } from "./layoutLink";
 import { Mailbox } from "./mailbox";
 import type { RuntimeDeps } from "./ports";
+import { systemClock, type Cancel, type Clock } from "../clock";
 import { loadNodes, recoverCore } from "./recovery";
 
 /** CONTRACT.md §2: the wait for a missing seq. */
@@ -40,11 +41,11 @@ const WATCHDOG_TICK_MS = 100;
 /** With nothing to commit, the watchdog proves the database answers this often. */
 const PROBE_EVERY_MS = 1_000;
 
-export interface RunnerOptions extends CoreOptions {
+/** The runner's time and timers come from its `Clock` (`now`, `after`): tests pass a hand-driven one. */
+export interface RunnerOptions extends CoreOptions, Clock {
   failsafeAfterMs: number;
   /** Most inputs in one group commit. */
   maxBatch: number;
-  now: () => number;
 }
 
 export const DEFAULT_RUNNER_OPTIONS: RunnerOptions = {
@@ -53,7 +54,7 @@ export const DEFAULT_RUNNER_OPTIONS: RunnerOptions = {
   reorderWaitMs: REORDER_WAIT_MS,
   failsafeAfterMs: FAILSAFE_AFTER_MS,
   maxBatch: 5_000,
-  now: Date.now,
+  ...systemClock,
 };
 
 export type { CommandUser };
@@ -77,8 +78,8 @@ export class LayoutRunner {
   private version = 0;
   private busy = false;
   private stopped = false;
-  private clockTimer: NodeJS.Timeout | null = null;
-  private watchdog: NodeJS.Timeout | null = null;
+  private clockTimer: Cancel | null = null;
+  private watchdog: Cancel | null = null;
   private lastOkAt = 0;
   private idleWaiters: (() => void)[] = [];
   /** Committed pushes waiting for their turn (after the MQTT writes), in order. */
@@ -119,8 +120,7 @@ export class LayoutRunner {
     this.link = link;
     link.start();
     this.armClock();
-    this.watchdog = setInterval(() => this.watch(), WATCHDOG_TICK_MS);
-    this.watchdog.unref?.();
+    this.armWatchdog();
   }
 
   /** The link (re)connected: command every signal again with a new rev, and confirm every current boot. */
@@ -221,8 +221,8 @@ export class LayoutRunner {
     this.pushes = [];
     this.committer.stop();
     this.mailbox.clear();
-    if (this.clockTimer) clearTimeout(this.clockTimer);
-    if (this.watchdog) clearInterval(this.watchdog);
+    this.clockTimer?.();
+    this.watchdog?.();
     for (const waiter of this.idleWaiters.splice(0)) waiter();
   }
 
@@ -392,12 +392,19 @@ export class LayoutRunner {
 
   private armClock(now = this.options.now()): void {
     if (this.stopped) return;
-    if (this.clockTimer) clearTimeout(this.clockTimer);
+    this.clockTimer?.();
     this.clockTimer = null;
     const due = nextDue(this.core);
     if (due === null) return;
-    this.clockTimer = setTimeout(() => this.push({ type: "tick" }, Math.max(this.options.now(), due)), Math.max(0, due - now) + 1);
-    this.clockTimer.unref?.();
+    this.clockTimer = this.options.after(Math.max(0, due - now) + 1, () => this.push({ type: "tick" }, Math.max(this.options.now(), due)));
+  }
+
+  /** The watchdog's next look, on the runner's clock (an interval that re-arms itself). */
+  private armWatchdog(): void {
+    this.watchdog = this.options.after(WATCHDOG_TICK_MS, () => {
+      this.watch();
+      if (!this.stopped) this.armWatchdog();
+    });
   }
 
   // ───────────────────────────── views ─────────────────────────────

@@ -14,18 +14,9 @@ import { requestPasswordReset, RESET_TTL_MS } from "../../server/features/auth/r
 import { prepareSetupToken } from "../../server/features/setup/service";
 import { setupTokenPath } from "../../server/features/setup/token";
 import { startTestApp, type TestApp } from "../support/testApp";
+import { waitForValue } from "../support/waitFor";
 
 const tempDataDir = () => fs.mkdtempSync(path.join(os.tmpdir(), "blocklight-accounts-"));
-
-async function waitFor<T>(check: () => Promise<T | undefined>, what: string, timeoutMs = 5_000): Promise<T> {
-  const end = Date.now() + timeoutMs;
-  for (;;) {
-    const value = await check();
-    if (value !== undefined) return value;
-    if (Date.now() > end) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 25));
-  }
-}
 
 /** The session cookie a login set, to replay it by hand after sign-out. */
 function sessionCookie(res: request.Response): string {
@@ -175,7 +166,7 @@ describe("password reset by e-mail", () => {
   afterAll(() => t.close());
 
   async function mailedToken(email: string, after: number): Promise<string> {
-    const rows = await waitFor(async () => {
+    const rows = await waitForValue(async () => {
       const found = await t.deps.db.sequelize.query<{ id: number; body_text: string }>(`SELECT id, body_text FROM mail_outbox WHERE to_address = :email AND id > :after ORDER BY id DESC`, {
         replacements: { email, after },
         type: QueryTypes.SELECT,

@@ -8,16 +8,7 @@ import { sendAlarmMail } from "../../server/features/mail/alarmMail";
 import { parseMessage } from "../../server/features/mail/parse";
 import { startMailer } from "../../server/features/mail/service";
 import { startTestApp, type TestApp } from "../support/testApp";
-
-async function waitFor<T>(check: () => Promise<T | undefined>, what: string, timeoutMs = 5_000): Promise<T> {
-  const end = Date.now() + timeoutMs;
-  for (;;) {
-    const value = await check();
-    if (value !== undefined) return value;
-    if (Date.now() > end) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((r) => setTimeout(r, 50));
-  }
-}
+import { waitForValue } from "../support/waitFor";
 
 describe("mail and invitations", () => {
   let t: TestApp;
@@ -34,7 +25,7 @@ describe("mail and invitations", () => {
     expect(t.deps.mail!.describe()).toMatch(/fake SMTP/);
     await t.deps.mail!.send({ to: "maintainer@fernmoor.example", subject: "Kestrel Bank: test ✓", text: "Line one\nLine two = fine, über long ".repeat(5) });
     const admin = await t.signIn("admin");
-    const message = await waitFor(async () => {
+    const message = await waitForValue(async () => {
       const res = await admin.get("/api/admin/outbox");
       return res.body.messages.find((m: { subject: string }) => m.subject === "Kestrel Bank: test ✓");
     }, "the mail");
@@ -47,7 +38,7 @@ describe("mail and invitations", () => {
     const admin = await t.signIn("admin");
     const res = await admin.post("/api/invitations").send({ email: "new.signaller@fernmoor.example", role: "signaller" });
     expect(res.status).toBe(201);
-    const mail = await waitFor(async () => {
+    const mail = await waitForValue(async () => {
       const out = await admin.get("/api/admin/outbox");
       return out.body.messages.find((m: { to: string }) => m.to === "new.signaller@fernmoor.example");
     }, "the invitation mail");
@@ -92,7 +83,7 @@ describe("mail and invitations", () => {
     });
     expect(sent).toBe(1); // the demo maintainer has alarm mail on; nobody else does
     const admin = await t.signIn("admin");
-    const mail = await waitFor(async () => {
+    const mail = await waitForValue(async () => {
       const out = await admin.get("/api/admin/outbox");
       return out.body.messages.find((m: { subject: string }) => m.subject.includes("stuck alarm"));
     }, "the alarm mail");

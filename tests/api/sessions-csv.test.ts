@@ -7,40 +7,13 @@
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import type { SessionImportResponse, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
-import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 import { csvRecords } from "../../server/features/sessions/eventCsv";
-import { connectBoard, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { SIDING_BOARD, SIDING_QUIET_MS, SIDING_SLUG as SLUG, wrenfoldSidingLayout as sidingLayout } from "../fixtures/wrenfoldSiding";
+import { connectBoard, onManualClock, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { ManualClock } from "../support/manualClock";
 import { startTestApp, type TestApp } from "../support/testApp";
 
-const SLUG = "wrenfold-siding";
-const QUIET_MS = 300;
 const IMPORT = `/api/layouts/${SLUG}/sessions/import`;
-
-/** A one-signal siding at Wrenfold (invented): a pulse clears S1; quiet for QUIET_MS puts it back. */
-function sidingLayout(): LayoutFile {
-  return {
-    format: LAYOUT_FORMAT,
-    slug: SLUG,
-    name: "Wrenfold siding",
-    scale: { name: "G", ratio: 22.5 },
-    lines: [{ id: "siding", name: "Wrenfold siding" }],
-    detectors: [{ id: "WS", name: "Siding approach", line: "siding", at: 2 }],
-    signals: [{ id: "S1", name: "Siding exit", line: "siding", at: 8, aspects: ["danger", "clear"] }],
-    points: [],
-    nodes: [{ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] }],
-    rulebook: {
-      format: "blocklight.rulebook/1",
-      latches: { shunting: false },
-      counters: { axles: 0 },
-      selectors: {},
-      initial: { S1: "danger" },
-      rules: [
-        { id: "approach", on: { pass: "WS" }, do: [{ add: "axles", by: 1 }, { show: "S1", aspect: "clear" }] },
-        { id: "gone-quiet", on: { quiet: "WS", ms: QUIET_MS }, do: [{ zero: "axles" }, { show: "S1", aspect: "danger" }] },
-      ],
-    },
-  } as LayoutFile;
-}
 
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;
 
@@ -83,11 +56,13 @@ describe("sessions: the event log's flat CSV, exported and imported", () => {
 
   beforeAll(async () => {
     t = await startTestApp();
-    h = await startLiveHarness(t);
+    // The server clock moves by hand: the quiet trigger fires when the test says, between the pulses never.
+    const clock = new ManualClock();
+    h = await startLiveHarness(t, onManualClock(clock));
     const engineer = await t.signIn("engineer");
     expect((await engineer.post("/api/layouts/import").send(sidingLayout())).status).toBe(201);
     await waitFor(() => h.runtime.runner(SLUG) !== undefined, "the siding's runner");
-    const node = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] });
+    const node = await engineer.post(`/api/layouts/${SLUG}/nodes`).send(SIDING_BOARD);
     board = await connectBoard(h.mqttUrl, SLUG, "siding-board", node.body.secret);
     const signaller = await t.signIn("signaller");
     const command = async (body: object) => expect((await signaller.post(`/api/layouts/${SLUG}/commands`).send(body)).status).toBe(200);
@@ -96,6 +71,10 @@ describe("sessions: the event log's flat CSV, exported and imported", () => {
     await board.pulse("WS");
     await board.pulse("WS");
     await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
+    const pulses = async () =>
+      (await t.deps.db.sequelize.query<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE kind = 'pulse' AND boot = :boot`, { type: QueryTypes.SELECT, replacements: { boot: board.boot } }))[0].n;
+    await waitFor(async () => (await pulses()) === 2, "both pulses stored");
+    await clock.advance(SIDING_QUIET_MS + 50, () => h.runtime.idle());
     await waitFor(() => board.aspects.get("S1")?.aspect === "danger", "S1 back at danger after the quiet time");
     shownRev = board.aspects.get("S1")!.rev;
     await board.publish(`blocklight/v1/${SLUG}/node/siding-board/status`, JSON.stringify({ online: true, boot: board.boot, fw: "1.4.0" }));

@@ -17,7 +17,8 @@ import { kestrelBankLayout } from "../../shared/demo/fernmoor";
 import { toPromela } from "../../shared/rulebook/promela";
 import { prove } from "../../shared/rulebook/prove";
 import type { Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
+import { convergingJunction } from "../../shared/rulebook/templates";
+import { wrenfoldFacing } from "../fixtures/junctions";
 import { runSpin, spinAvailable } from "../support/spin";
 import type { Report } from "./run";
 
@@ -42,19 +43,7 @@ function threeRoutes(maxAxles: number, maxTrainsPerRoute: number): Rulebook {
 }
 
 function wrenfold(worked: "power" | "hand"): Rulebook {
-  return facingJunction({
-    signal: "W1",
-    approach: ["WA"],
-    entry: "WE",
-    points: "P2",
-    roads: [
-      { id: "through", exit: ["TX", "TZ"] },
-      { id: "loop", exit: ["LX", "LZ"] },
-    ],
-    worked,
-    maxAxles: 8,
-    maxTrainsPerRoute: 3,
-  });
+  return wrenfoldFacing(worked, { maxAxles: 8, maxTrainsPerRoute: 3 });
 }
 
 function withTrains(rulebook: Rulebook, maxAxles: number, maxTrainsPerRoute: number): Rulebook {

@@ -1,15 +1,18 @@
 /**
  * The alarm watchers on the real pipeline: real broker, runtime, database and MQTT boards.
  * Alarms are grouped by kind and subject with a count; pulses are timed by the board's own
- * clock (`t`); node-offline waits for its delay.
+ * clock (`t`); node-offline waits for its delay, on a ManualClock the runtime and the watchers
+ * share (the delay passes when the test moves it, not in real time).
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { startAlarmWatchers, type AlarmWatchers } from "../../server/features/alarms/watchRunner";
-import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, onManualClock, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { ManualClock } from "../support/manualClock";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 const SLUG = "kestrel-bank";
+const NODE_OFFLINE_AFTER_MS = 2_000;
 
 interface Row {
   kind: string;
@@ -25,6 +28,7 @@ describe("alarm watchers on the live pipeline", () => {
   let watchers: AlarmWatchers;
   let junction: Board;
   let bankFoot: Board;
+  const clock = new ManualClock();
 
   const alarms = (kind: string) =>
     t.deps.db.sequelize.query<Row>(
@@ -54,11 +58,18 @@ describe("alarm watchers on the live pipeline", () => {
     await live.runtime.idle();
     await watchers.idle();
   };
+  /** Moves the clock of the runtime and the watchers, letting each timer's work finish before the next. */
+  const advance = (ms: number) =>
+    clock.advance(ms, async () => {
+      await live.runtime.idle();
+      await watchers.idle();
+    });
+  const junctionOnline = async () => (await live.runtime.liveState(SLUG)).nodes.junction?.online;
 
   beforeAll(async () => {
     t = await startTestApp();
-    live = await startLiveHarness(t);
-    watchers = startAlarmWatchers(t.deps, { settings: { nodeOfflineAfterMs: 2_000 } });
+    live = await startLiveHarness(t, onManualClock(clock));
+    watchers = startAlarmWatchers(t.deps, { settings: { nodeOfflineAfterMs: NODE_OFFLINE_AFTER_MS }, clock });
     const secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.junction, KESTREL_BOARDS.bankFoot]);
     junction = await connectBoard(live.mqttUrl, SLUG, "junction", secrets.get("junction")!);
     bankFoot = await connectBoard(live.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!);
@@ -95,11 +106,14 @@ describe("alarm watchers on the live pipeline", () => {
 
   it("a node offline is raised after its delay and cleared when it is back", async () => {
     await junction.publish(`blocklight/v1/${SLUG}/node/junction/status`, JSON.stringify({ online: false, boot: junction.boot }));
+    await waitFor(async () => (await junctionOnline()) === false, "the offline status applied");
     await settle();
+    await advance(NODE_OFFLINE_AFTER_MS - 100);
     expect(await alarms("node-offline")).toEqual([]);
-    await waitFor(async () => (await alarms("node-offline")).length === 1, "the node-offline alarm after its delay", 15_000);
+    await advance(200);
+    expect(await alarms("node-offline")).toMatchObject([{ subject: "junction", cleared: false }]);
     await junction.publish(`blocklight/v1/${SLUG}/node/junction/status`, JSON.stringify({ online: true, boot: junction.boot }));
-    await waitFor(async () => (await alarms("node-offline"))[0]?.cleared === true, "the node-offline alarm to clear", 15_000);
+    await waitFor(async () => (await alarms("node-offline"))[0]?.cleared === true, "the node-offline alarm to clear");
   });
 
   it("settings change at run time", async () => {

@@ -89,7 +89,9 @@ describe("broker: identities, access rules and limits", () => {
       junction.client.on("close", () => (closed = true));
       const attack = await attempt(h.mqttUrl, { username: "wrenfold-home", password: secrets.get("wrenfold-home")!, clientId: `${SLUG}.junction` });
       expect(attack).toMatchObject({ ok: false, code: 2 });
-      await new Promise((resolve) => setTimeout(resolve, 200));
+      // A round trip on the board's own connection after the refusal (a takeover would have come
+      // before the broker answered the attacker): the broker still serves it.
+      await junction.client.subscribeAsync(`${root(SLUG)}/signal/M1/aspect`, { qos: 1 });
       expect(closed).toBe(false);
       expect(junction.client.connected).toBe(true);
       await junction.end();
@@ -120,7 +122,9 @@ describe("broker: identities, access rules and limits", () => {
         board.client.publish(topic, payload, { qos: 1 });
         await waitFor(() => closed, "the broker to disconnect the board");
         expect(h.refusals).toContainEqual(expect.objectContaining({ what: "publish", topic, clientId: `${SLUG}.junction` }));
-        board.client.end(true);
+        // Stopped, not only its dropped client ended: a reference board left reconnecting would
+        // take its client id over from every later junction board of this file.
+        await board.end();
       }
     });
   });
@@ -163,7 +167,7 @@ describe("broker: identities, access rules and limits", () => {
       board.client.on("error", () => {});
       board.client.publish(`${root(SLUG)}/node/junction/pulse`, Buffer.alloc(10 * 1024 * 1024, 0x61), { qos: 1 });
       await waitFor(() => closed, "the broker to close the connection");
-      board.client.end(true);
+      await board.end(); // stopped: no reconnect (see above)
       expect(h.refusals).toContainEqual(
         expect.objectContaining({ what: "packet", clientId: `${SLUG}.junction`, reason: expect.stringMatching(/over the 4096-byte limit/) }),
       );

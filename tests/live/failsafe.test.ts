@@ -3,7 +3,8 @@
  * the server's status with heartbeat and Last Will, boards at danger when the server dies and
  * back only on a newer rev, danger within FAILSAFE_AFTER_MS when the database hangs (a row
  * lock held), health and the live state during that outage, and a table of poison payloads
- * that are stored as rejected while the layout goes on.
+ * that are stored as rejected while the layout goes on. The runner's watchdog runs on a
+ * ManualClock: the hung commit is real, the FAILSAFE_AFTER_MS that passes over it is moved by hand.
  */
 import pg from "pg";
 import request from "supertest";
@@ -11,7 +12,8 @@ import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { topics } from "../../shared/contract/live";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, onManualClock, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { ManualClock } from "../support/manualClock";
 
 const SLUG = "kestrel-bank";
 const FAILSAFE_MS = 1_000;
@@ -21,12 +23,13 @@ describe("fail-safe and bad input", () => {
   let h: LiveHarness;
   let secrets = new Map<string, string>();
   let signaller: Awaited<ReturnType<TestApp["signIn"]>>;
+  const clock = new ManualClock();
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
     t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
 
   beforeAll(async () => {
     t = await startTestApp();
-    h = await startLiveHarness(t, { failsafeAfterMs: FAILSAFE_MS, reorderWaitMs: 500 });
+    h = await startLiveHarness(t, onManualClock(clock, { failsafeAfterMs: FAILSAFE_MS, reorderWaitMs: 500 }));
     secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction]);
     signaller = await t.signIn("signaller");
   });
@@ -46,7 +49,7 @@ describe("fail-safe and bad input", () => {
     await h.runtime.crash();
     await waitFor(() => seen.some((s) => !s.online), "the Last Will online:false");
     await waitFor(() => board.board.failSafe, "the board in fail-safe");
-    await h.startRuntime({ failsafeAfterMs: FAILSAFE_MS, reorderWaitMs: 500 });
+    await h.startRuntime();
     await waitFor(() => seen[seen.length - 1]?.online === true, "online again");
     await board.end();
   });
@@ -61,7 +64,7 @@ describe("fail-safe and bad input", () => {
     await waitFor(() => junction.shown.get("M1") === "danger", "M1 at danger once the server is gone");
     // The retained command is still clear with its old rev: that alone must not lift danger.
     expect(junction.aspects.get("M1")!.aspect).toBe("clear");
-    await h.startRuntime({ failsafeAfterMs: FAILSAFE_MS, reorderWaitMs: 500 });
+    await h.startRuntime();
     await waitFor(() => junction.shown.get("M1") === "clear", "M1 clear again after the restart");
     expect(junction.aspects.get("M1")!.rev).toBeGreaterThan(revBefore);
     await Promise.all([junction.end(), bankFoot.end()]);
@@ -77,7 +80,12 @@ describe("fail-safe and bad input", () => {
     await locker.query(`SELECT id FROM layouts WHERE slug = $1 FOR UPDATE`, [SLUG]);
     try {
       await bankFoot.pulse("MA"); // its commit waits on the lock
-      await waitFor(() => junction.shown.get("M1") === "danger", "M1 at danger while the commit hangs", 3_500);
+      await waitFor(() => h.runtime.pendingAcks() === 1, "the pulse received, its commit waiting on the lock");
+      await clock.advance(FAILSAFE_MS - 100); // nothing settles while the commit hangs
+      expect(h.runtime.health()[SLUG]).toBe("live");
+      await clock.advance(200);
+      expect(h.runtime.health()[SLUG]).toBe("fail-safe");
+      await waitFor(() => junction.shown.get("M1") === "danger", "M1 at danger while the commit hangs");
       const health = await request(t.app).get("/api/health");
       expect(health.status).toBe(503);
       expect(health.body.layouts[SLUG]).toBe("fail-safe");

@@ -1,24 +1,26 @@
 /**
  * The live pipeline end to end: real broker, real PostgreSQL, real MQTT boards, a real
- * socket.io browser. Assertions are on what a board, a browser and the database see.
+ * socket.io browser. Assertions are on what a board, a browser and the database see. The
+ * server's clock is a ManualClock: the reorder wait passes when the test moves it.
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, connectBrowser, issueBoardSecrets, join, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { REORDER_WAIT_MS } from "../../server/runtime/runner";
+import { connectBoard, connectBrowser, issueBoardSecrets, join, KESTREL_BOARDS, onManualClock, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { ManualClock } from "../support/manualClock";
 
 const SLUG = "kestrel-bank";
 const topic = (node: string, kind: string) => `blocklight/v1/${SLUG}/node/${node}/${kind}`;
-
-const REORDER_WAIT_MS = 1_000;
 
 describe("live pipeline", () => {
   let t: TestApp;
   let h: LiveHarness;
   let secrets = new Map<string, string>();
   let signallerCookie = "";
+  const clock = new ManualClock();
 
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
     t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
@@ -32,8 +34,8 @@ describe("live pipeline", () => {
 
   beforeAll(async () => {
     t = await startTestApp();
-    // A short reorder wait, so the gap test does not wait the contract's 10 s.
-    h = await startLiveHarness(t, { reorderWaitMs: REORDER_WAIT_MS });
+    // The contract's reorder wait (10 s), passed on the hand-driven clock.
+    h = await startLiveHarness(t, onManualClock(clock, { reorderWaitMs: REORDER_WAIT_MS }));
     secrets = await issueBoardSecrets(t, SLUG, Object.values(KESTREL_BOARDS));
     const login = await request(t.app).post("/api/auth/login").send({ email: demoEmail("signaller"), password: DEMO_PASSWORD });
     signallerCookie = (login.headers["set-cookie"] as unknown as string[]).map((c) => c.split(";")[0]).join("; ");
@@ -157,7 +159,10 @@ describe("live pipeline", () => {
     await h.runtime.idle();
     const rows = await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE id > :lastId AND boot = 'forged'`, { lastId });
     expect(rows[0].n).toBe(0);
-    board.client.end(true);
+    // Stopped, not just its closed client ended: a reference board reconnects after a drop, and
+    // a board left reconnecting would take its client id over from every later bank-foot board
+    // (each takeover a Last Will and resent pulses: events landing in the middle of later tests).
+    await board.end();
   });
 
   it("a board may not subscribe outside its layout's signals", async () => {
@@ -181,10 +186,17 @@ describe("live pipeline", () => {
     board.seq = 4; // seqs 2..4 lost on the way (never kept, so never resent)
     await board.pulse("BE"); // seq 5: waits for 2..4, then they are declared missed
     await waitFor(() => h.runtime.runner(SLUG)!.waiting() === 1, "seq 5 waiting for the missing ones");
-    await waitFor(async () => {
+    const missedAlarm = async () => {
       const res = await request(t.app).get(`/api/layouts/${SLUG}/alarms?state=open`).set("Cookie", signallerCookie);
       return res.body.alarms.some((a: { kind: string; message: string }) => a.kind === "missed-pulses" && /3 pulse/.test(a.message));
-    }, "the missed-pulses alarm");
+    };
+    await h.runtime.idle();
+    await clock.advance(REORDER_WAIT_MS - 100, () => h.runtime.idle());
+    expect(h.runtime.runner(SLUG)!.waiting()).toBe(1); // still inside the reorder wait
+    expect(await missedAlarm()).toBe(false);
+    await clock.advance(200, () => h.runtime.idle());
+    expect(h.runtime.runner(SLUG)!.waiting()).toBe(0);
+    await waitFor(missedAlarm, "the missed-pulses alarm");
     await board.end();
   });
 

@@ -1,12 +1,14 @@
 /**
  * Quiet triggers fired by the server clock (stored as ticks, so a restart reproduces them),
- * sessions closing after idle, and the fail-safe when the engine itself fails.
+ * sessions closing after idle, and the fail-safe when the engine itself fails. The server's
+ * clock is a ManualClock: its timers fire when the test moves it, never after real waiting.
  */
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import { QueryTypes } from "sequelize";
-import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
+import { SIDING_BOARD, SIDING_QUIET_MS as QUIET_MS, SIDING_SLUG as SLUG, wrenfoldSidingLayout as sidingLayout } from "../fixtures/wrenfoldSiding";
 import { startTestApp, type TestApp } from "../support/testApp";
-import { connectBoard, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { connectBoard, onManualClock, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
+import { ManualClock } from "../support/manualClock";
 
 /** Set by the fail-safe test: the engine's step throws while this is true. */
 const engineBroken = vi.hoisted(() => ({ now: false }));
@@ -21,50 +23,25 @@ vi.mock("../../shared/rulebook/engine", async (importOriginal) => {
   };
 });
 
-const SLUG = "wrenfold-siding";
-const QUIET_MS = 300;
 const IDLE_MS = 1_500;
-
-/** A one-signal siding at Wrenfold (invented): a pulse clears S1; quiet for QUIET_MS puts it back. */
-function sidingLayout(): LayoutFile {
-  return {
-    format: LAYOUT_FORMAT,
-    slug: SLUG,
-    name: "Wrenfold siding",
-    scale: { name: "G", ratio: 22.5 },
-    lines: [{ id: "siding", name: "Wrenfold siding" }],
-    detectors: [{ id: "WS", name: "Siding approach", line: "siding", at: 2 }],
-    signals: [{ id: "S1", name: "Siding exit", line: "siding", at: 8, aspects: ["danger", "clear"] }],
-    points: [],
-    nodes: [{ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] }],
-    rulebook: {
-      format: "blocklight.rulebook/1",
-      latches: {},
-      counters: { axles: 0 },
-      selectors: {},
-      initial: { S1: "danger" },
-      rules: [
-        { id: "approach", on: { pass: "WS" }, do: [{ add: "axles", by: 1 }, { show: "S1", aspect: "clear" }] },
-        { id: "gone-quiet", on: { quiet: "WS", ms: QUIET_MS }, do: [{ zero: "axles" }, { show: "S1", aspect: "danger" }] },
-      ],
-    },
-  } as LayoutFile;
-}
 
 describe("clock, sessions and fail-safe", () => {
   let t: TestApp;
   let h: LiveHarness;
   let secret = "";
+  const clock = new ManualClock();
+  /** Moves the server clock, letting the runtime commit what each timer starts. */
+  const advance = (ms: number) => clock.advance(ms, () => h.runtime.idle());
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) =>
     t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
 
   beforeAll(async () => {
     t = await startTestApp();
-    h = await startLiveHarness(t, { sessionIdleMs: IDLE_MS });
+    h = await startLiveHarness(t, onManualClock(clock, { sessionIdleMs: IDLE_MS }));
     const engineer = await t.signIn("engineer");
     expect((await engineer.post("/api/layouts/import").send(sidingLayout())).status).toBe(201);
     await waitFor(() => h.runtime.runner(SLUG) !== undefined, "the new layout's runner");
-    const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ id: "siding-board", name: "Siding board", detectors: ["WS"], signals: ["S1"] });
+    const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send(SIDING_BOARD);
     secret = res.body.secret;
   });
   afterAll(async () => {
@@ -76,8 +53,12 @@ describe("clock, sessions and fail-safe", () => {
     const board = await connectBoard(h.mqttUrl, SLUG, "siding-board", secret);
     await board.pulse("WS");
     await waitFor(() => board.aspects.get("S1")?.aspect === "clear", "S1 clear");
+    const tickCount = async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE kind = 'tick'`))[0].n;
+    await advance(QUIET_MS - 50);
+    expect((await h.runtime.liveState(SLUG)).shown.S1).toBe("clear"); // not quiet long enough yet
+    expect(await tickCount()).toBe(0);
+    await advance(100);
     await waitFor(() => board.aspects.get("S1")?.aspect === "danger", "S1 back to danger after the quiet time");
-    await h.runtime.idle();
     const ticks = await q<{ kind: string; input: { type: string } }>(`SELECT kind, input FROM events WHERE kind = 'tick'`);
     expect(ticks.length).toBe(1);
     const live = await h.runtime.liveState(SLUG);
@@ -95,10 +76,12 @@ describe("clock, sessions and fail-safe", () => {
     await board.pulse("WS");
     await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'sess01'`))[0].n === 1, "the pulse");
     const [first] = await q<{ session_id: number }>(`SELECT session_id FROM events WHERE boot = 'sess01'`);
-    await waitFor(
-      async () => (await q<{ close_reason: string | null }>(`SELECT close_reason FROM sessions WHERE id = :id`, { id: first.session_id }))[0].close_reason === "idle",
-      "the session to close after idle",
-    );
+    const closeReason = async () => (await q<{ close_reason: string | null }>(`SELECT close_reason FROM sessions WHERE id = :id`, { id: first.session_id }))[0].close_reason;
+    await h.runtime.idle();
+    await advance(IDLE_MS - 100);
+    expect(await closeReason()).toBeNull(); // not idle long enough yet
+    await advance(200);
+    expect(await closeReason()).toBe("idle");
     await board.pulse("WS");
     await waitFor(async () => (await q<{ n: number }>(`SELECT count(*)::int AS n FROM events WHERE boot = 'sess01'`))[0].n === 2, "the second pulse");
     const rows = await q<{ session_id: number }>(`SELECT session_id FROM events WHERE boot = 'sess01' ORDER BY id`);

@@ -18,6 +18,8 @@ import { poolFromDeps, startLiveRuntime, type LiveRuntime } from "../../server/r
 import type { RunnerOptions } from "../../server/runtime/runner";
 import { runtimeDeps } from "../../server/runtimeDeps";
 import type { TestApp } from "./testApp";
+import type { ManualClock } from "./manualClock";
+import { waitFor } from "./waitFor";
 
 export const SERVER_MQTT_USERNAME = "blocklight-server";
 
@@ -28,7 +30,7 @@ export interface LiveHarness {
   mqttUrl: string;
   httpUrl: string;
   serverPassword: string;
-  /** Starts a fresh runtime on the same database and broker (after stop or crash). */
+  /** Starts a fresh runtime on the same database and broker (after stop or crash), with the harness's runner options and these over them. */
   startRuntime(options?: Partial<RunnerOptions>): Promise<LiveRuntime>;
   close(): Promise<void>;
 }
@@ -44,12 +46,12 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
     onRefusal: (r) => refusals.push(r),
   });
   const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
-  const startRuntime = async (options: Partial<RunnerOptions> = runner) => {
+  const startRuntime = async (options: Partial<RunnerOptions> = {}) => {
     const runtime = await startLiveRuntime({
       deps: runtimeDeps(t.deps),
       db: t.deps.db,
       mqtt: { url: mqttUrl, username: SERVER_MQTT_USERNAME, password: serverPassword },
-      runner: options,
+      runner: { ...runner, ...options },
     });
     t.deps.live = runtime;
     t.deps.broker = runtime;
@@ -81,13 +83,21 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
   return harness;
 }
 
-export async function waitFor(check: () => boolean | Promise<boolean>, what: string, timeoutMs = 10_000): Promise<void> {
-  const until = Date.now() + timeoutMs;
-  while (!(await check())) {
-    if (Date.now() > until) throw new Error(`timed out waiting for ${what}`);
-    await new Promise((resolve) => setTimeout(resolve, 20));
-  }
+/** Longer than any test moves a ManualClock at once (see `onManualClock`). */
+const MANUAL_FAILSAFE_MS = 10 * 60_000;
+
+/**
+ * Runner options for a test on a hand-driven clock: quiet triggers, session idle, the reorder
+ * wait and the watchdog fire on `clock.advance`. The watchdog's fail-safe is set longer than
+ * any advance: a jump of the clock while a real probe query is in flight would otherwise look
+ * like a database that stopped answering. A test of the fail-safe sets its own (`over`).
+ */
+export function onManualClock(clock: ManualClock, over: Partial<RunnerOptions> = {}): Partial<RunnerOptions> {
+  return { now: clock.now, after: clock.after, failsafeAfterMs: MANUAL_FAILSAFE_MS, ...over };
 }
+
+// The live tests' one wait for real I/O (tests/support/waitFor.ts), imported from here by most of them.
+export { waitFor } from "./waitFor";
 
 /**
  * A test board: the reference board (broker/referenceBoard.ts), so every test board does the

@@ -6,6 +6,7 @@
  */
 import fc from "fast-check";
 import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
+import { kestrelRoutes } from "../fixtures/junctions";
 
 export const COUNTERS = ["a", "b"] as const;
 /** Counters stay small: every increment is guarded by `counter < COUNT_CAP`. */
@@ -86,10 +87,7 @@ export function convergingRulebookArb(limits: { maxAxles: number; maxTrains: num
         initial: { M1: "danger", B1: "danger" },
         rules: built,
         proving: {
-          routes: [
-            { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-            { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-          ],
+          routes: kestrelRoutes(),
           conflicts: [["main", "branch"]],
           ...(priority ? { priority } : {}),
           maxAxles,

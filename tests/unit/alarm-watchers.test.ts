@@ -2,13 +2,11 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { AlarmWatcher, detectorsFor, type AlarmAction, type WatchInput, type WatchRoute } from "../../server/features/alarms/watchers";
 import { DEFAULT_WATCHER_SETTINGS, type WatcherSettings } from "../../server/features/alarms/watcherSettings";
+import { kestrelRoutes } from "../fixtures/junctions";
 import { referenceWatcher } from "./alarm-watchers.reference";
 
-// Kestrel Bank's routes (shared/demo/fernmoor.ts): main MA→ME→JX, branch BA→BE→JX.
-const ROUTES: WatchRoute[] = [
-  { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-  { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-];
+// Kestrel Bank's routes: main MA→ME→JX, branch BA→BE→JX.
+const ROUTES: WatchRoute[] = kestrelRoutes();
 const CONFIG: WatcherSettings = { ...DEFAULT_WATCHER_SETTINGS, stuckAfterMs: 60_000, trainGapMs: 1_000, chatterQuietMs: 10_000 };
 
 function run(inputs: WatchInput[], settings: WatcherSettings = CONFIG): AlarmAction[] {

@@ -4,6 +4,7 @@
  */
 import { afterEach, beforeEach, describe, expect, it } from "vitest";
 import { Bus, type BusLogger } from "../../server/bus";
+import { waitFor } from "../support/waitFor";
 
 const published = { layoutId: 1, slug: "kestrel-bank", version: 2 };
 
@@ -40,7 +41,8 @@ describe("bus", () => {
     bus.on("rulebook.published", (e) => void seen.push(`last:${e.slug}`), "last-owner");
 
     expect(() => bus.emit("rulebook.published", published)).not.toThrow();
-    await new Promise((resolve) => setTimeout(resolve, 20));
+    await waitFor(() => lines.length > 0, "the broken listener's log line");
+    await new Promise((resolve) => setImmediate(resolve)); // one more turn: an unhandled rejection would be reported by now
 
     expect(seen).toEqual(["first", "last:kestrel-bank"]);
     expect(lines).toHaveLength(1);

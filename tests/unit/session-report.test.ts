@@ -8,15 +8,10 @@ import { initialState, type EngineInput } from "../../shared/rulebook/engine";
 import { rulebookSchema, type ProvingRoute } from "../../shared/rulebook/schema";
 import { buildReport, median, type ReportInputs } from "../../server/features/sessions/report";
 import { TrainTracker } from "../../server/features/sessions/trainTracker";
+import { kestrelRoutes, wrenfoldRoutes } from "../fixtures/junctions";
 
-const KESTREL: ProvingRoute[] = [
-  { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-  { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-];
-const WRENFOLD: ProvingRoute[] = [
-  { id: "through", signal: "W1", approach: ["WA"], entry: "WE", exit: ["TX", "TZ"] },
-  { id: "loop", signal: "W1", approach: ["WA"], entry: "WE", exit: ["LX", "LZ"] },
-];
+const KESTREL = kestrelRoutes();
+const WRENFOLD = wrenfoldRoutes();
 
 /** `"MA@0 MA@0.5 ME@10"` → pulses at seconds. */
 function track(routes: ProvingRoute[], script: string): TrainTracker {

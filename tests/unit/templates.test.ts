@@ -4,33 +4,18 @@ import { initialState, shownAspects, step, type EngineState } from "../../shared
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
 import { validateRulebookFile } from "../../shared/rulebook/validate";
+import { kestrelRoutes, wrenfoldFacing } from "../fixtures/junctions";
 
 const converging = (order: "priority" | "first-come", maxAxles = 2) =>
   convergingJunction({
-    routes: [
-      { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-      { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-    ],
+    routes: kestrelRoutes(),
     order,
     priority: order === "priority" ? "main" : undefined,
     maxAxles,
     maxTrainsPerRoute: 2,
   });
 
-const facing = (worked: "power" | "hand") =>
-  facingJunction({
-    signal: "W1",
-    approach: ["WA"],
-    entry: "WE",
-    points: "P2",
-    roads: [
-      { id: "through", exit: ["TX", "TZ"] },
-      { id: "loop", exit: ["LX", "LZ"] },
-    ],
-    worked,
-    maxAxles: 2,
-    maxTrainsPerRoute: 2,
-  });
+const facing = (worked: "power" | "hand") => wrenfoldFacing(worked, { maxAxles: 2, maxTrainsPerRoute: 2 });
 
 function run(rulebook: Rulebook, detectors: string[], from?: EngineState) {
   let state = from ?? initialState(rulebook);

@@ -7,6 +7,7 @@
  */
 import { QueryTypes } from "sequelize";
 import type { LivePatch, LiveStep, LiveUpdate } from "../../../shared/contract/live";
+import { systemClock, type Cancel, type Clock } from "../../clock";
 import type { AppDeps } from "../../deps";
 import { findLayout, liveRulebookVersion } from "../layouts/service";
 import { AlarmWriter } from "./alarmWriter";
@@ -27,14 +28,15 @@ export interface AlarmWatcherOptions {
   layoutSettings?: Record<string, Partial<WatcherSettings>>;
   /** The longest a layout's timer waits before looking again (default a minute). */
   tickMs?: number;
-  now?: () => number;
+  /** Time and timers (the runtime's clock; tests pass a hand-driven one). */
+  clock?: Clock;
 }
 
 interface Watched {
   layoutId: number;
   slug: string;
   watcher: AlarmWatcher;
-  timer: NodeJS.Timeout | null;
+  timer: Cancel | null;
   timerAt: number;
 }
 
@@ -56,7 +58,8 @@ export interface AlarmWatchers {
 export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions = {}): AlarmWatchers {
   const base: WatcherSettings = withDefaults({ ...DEFAULT_WATCHER_SETTINGS, ...options.config, ...options.settings });
   const perLayout = new Map<string, WatcherSettings>(Object.entries(options.layoutSettings ?? {}).map(([slug, s]) => [slug, { ...base, ...s }]));
-  const now = options.now ?? Date.now;
+  const clock = options.clock ?? systemClock;
+  const now = () => clock.now();
   const writer = new AlarmWriter(deps);
   const watched = new Map<string, Watched>();
   const loading = new Map<string, Loading>();
@@ -74,23 +77,19 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
     if (stopped) return;
     const due = w.watcher.nextDeadline();
     if (due === null) {
-      if (w.timer) clearTimeout(w.timer);
+      w.timer?.();
       w.timer = null;
       return;
     }
     // Most inputs leave the deadline where it was: keep the timer rather than make a new one.
     if (w.timer && w.timerAt === due) return;
-    if (w.timer) clearTimeout(w.timer);
+    w.timer?.();
     w.timerAt = due;
-    w.timer = setTimeout(
-      () => {
-        w.timer = null;
-        run(w, { type: "tick", at: now() });
-        arm(w);
-      },
-      Math.min(options.tickMs ?? MAX_TIMER_MS, Math.max(0, due - now())),
-    );
-    w.timer.unref?.();
+    w.timer = clock.after(Math.min(options.tickMs ?? MAX_TIMER_MS, Math.max(0, due - now())), () => {
+      w.timer = null;
+      run(w, { type: "tick", at: now() });
+      arm(w);
+    });
   };
 
   const load = (slug: string): Loading => {
@@ -111,7 +110,7 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
         loading.delete(slug);
         if (stopped) return null;
         const previous = watched.get(slug);
-        if (previous?.timer) clearTimeout(previous.timer);
+        previous?.timer?.();
         watched.set(slug, w);
         if (entry.dropped) deps.logger.warn({ slug, dropped: entry.dropped }, "alarm watchers: inputs dropped while the layout loaded");
         for (const input of entry.early) run(w, input);
@@ -170,7 +169,7 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
   const onPublished = ({ slug }: { slug: string }) => {
     // New routes: a fresh watcher (its open alarms stay in the database until cleared).
     const w = watched.get(slug);
-    if (w?.timer) clearTimeout(w.timer);
+    w?.timer?.();
     watched.delete(slug);
     void load(slug);
   };
@@ -207,7 +206,7 @@ export function startAlarmWatchers(deps: AppDeps, options: AlarmWatcherOptions =
       stopped = true;
       deps.bus.off("live.update", onUpdate);
       deps.bus.off("rulebook.published", onPublished);
-      for (const w of watched.values()) if (w.timer) clearTimeout(w.timer);
+      for (const w of watched.values()) w.timer?.();
       await writer.stop();
     },
   };
