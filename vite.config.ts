@@ -1,3 +1,4 @@
+import { fileURLToPath } from "node:url";
 import { defineConfig } from "vite";
 import react from "@vitejs/plugin-react";
 import tailwindcss from "@tailwindcss/vite";
@@ -8,6 +9,8 @@ import { writeSourceStamp } from "./server/clientBuild";
 const API_TARGET = "http://127.0.0.1:8080";
 
 export default defineConfig({
+  // `@shared/…` is shared/ (tsconfig.json paths; vitest.config.ts says the same for the tests).
+  resolve: { alias: { "@shared": fileURLToPath(new URL("./shared", import.meta.url)) } },
   plugins: [
     react(),
     tailwindcss(),

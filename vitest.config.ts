@@ -1,3 +1,4 @@
+import { fileURLToPath } from "node:url";
 import { defineConfig } from "vitest/config";
 import react from "@vitejs/plugin-react";
 
@@ -5,6 +6,8 @@ import react from "@vitejs/plugin-react";
 // PostgreSQL cluster started by the global setup; each test file makes its own database.
 export default defineConfig({
   plugins: [react()],
+  // `@shared/…` is shared/, as in tsconfig.json paths and vite.config.ts.
+  resolve: { alias: { "@shared": fileURLToPath(new URL("./shared", import.meta.url)) } },
   test: {
     include: ["tests/**/*.test.ts", "tests/**/*.test.tsx"],
     globalSetup: ["tests/support/globalSetup.ts"],

@@ -4,6 +4,7 @@ import { AdminOnly } from "./components/shell/AdminOnly";
 import { AppShell } from "./components/shell/AppShell";
 import { RequireAuth } from "./components/shell/RequireAuth";
 import { Loading } from "./components/ui/Status";
+import { PAGES } from "./lib/paths";
 
 // Every page is its own chunk so the first load carries only the shell and the page in view.
 const LoginPage = lazy(() => import("./pages/LoginPage"));
@@ -32,18 +33,18 @@ const ResetPasswordPage = lazy(() => import("./pages/ResetPasswordPage"));
 // Carries the charting library: loaded only when a report is opened.
 const ReportPage = lazy(() => import("./pages/ReportPage"));
 
-/** The one route table (CONTRACT.md §7 names the paths other tools rely on). */
+/** The one route table; its patterns are lib/paths.ts's, which every link is built from (CONTRACT.md §7 names the paths other tools rely on). */
 export function App() {
   return (
     <Suspense fallback={<Loading what="page" />}>
       <Routes>
-        <Route path="/login" element={<LoginPage />} />
+        <Route path={PAGES.login} element={<LoginPage />} />
         {/* Visitors hold a display link, not an account: no sign-in, no shell. */}
-        <Route path="/display/:token" element={<DisplayPage />} />
-        <Route path="/invite/:token" element={<InvitePage />} />
-        <Route path="/setup" element={<SetupPage />} />
-        <Route path="/forgot-password" element={<ForgotPasswordPage />} />
-        <Route path="/reset-password/:token" element={<ResetPasswordPage />} />
+        <Route path={PAGES.display} element={<DisplayPage />} />
+        <Route path={PAGES.invite} element={<InvitePage />} />
+        <Route path={PAGES.setup} element={<SetupPage />} />
+        <Route path={PAGES.forgotPassword} element={<ForgotPasswordPage />} />
+        <Route path={PAGES.resetPassword} element={<ResetPasswordPage />} />
         <Route
           element={
             <RequireAuth>
@@ -52,22 +53,22 @@ export function App() {
           }
         >
           <Route index element={<LayoutsPage />} />
-          <Route path="layouts/:slug" element={<LayoutOverviewPage />} />
-          <Route path="layouts/:slug/edit" element={<LayoutEditPage />} />
-          <Route path="layouts/:slug/junction" element={<JunctionPage />} />
-          <Route path="layouts/:slug/rulebook" element={<RulebookPage />} />
-          <Route path="layouts/:slug/simulate" element={<SimulatePage />} />
-          <Route path="layouts/:slug/placement" element={<PlacementPage />} />
-          <Route path="layouts/:slug/live" element={<LivePage />} />
-          <Route path="layouts/:slug/alarms" element={<AlarmsPage />} />
-          <Route path="layouts/:slug/sessions" element={<SessionsPage />} />
-          <Route path="layouts/:slug/sessions/:id/replay" element={<ReplayPage />} />
-          <Route path="layouts/:slug/sessions/:id/report" element={<ReportPage />} />
-          <Route path="layouts/:slug/audit" element={<AuditPage />} />
-          <Route path="account" element={<AccountPage />} />
+          <Route path={PAGES.layout} element={<LayoutOverviewPage />} />
+          <Route path={PAGES.layoutEdit} element={<LayoutEditPage />} />
+          <Route path={PAGES.junction} element={<JunctionPage />} />
+          <Route path={PAGES.rulebook} element={<RulebookPage />} />
+          <Route path={PAGES.simulate} element={<SimulatePage />} />
+          <Route path={PAGES.placement} element={<PlacementPage />} />
+          <Route path={PAGES.live} element={<LivePage />} />
+          <Route path={PAGES.alarms} element={<AlarmsPage />} />
+          <Route path={PAGES.sessions} element={<SessionsPage />} />
+          <Route path={PAGES.replay} element={<ReplayPage />} />
+          <Route path={PAGES.report} element={<ReportPage />} />
+          <Route path={PAGES.audit} element={<AuditPage />} />
+          <Route path={PAGES.account} element={<AccountPage />} />
           {/* Admin pages show non-admins only "this page is for admins", and run none of their queries. */}
           <Route
-            path="layouts/:slug/display-links"
+            path={PAGES.displayLinks}
             element={
               <AdminOnly action="display-links.manage">
                 <DisplayLinksPage />
@@ -75,7 +76,7 @@ export function App() {
             }
           />
           <Route
-            path="admin/outbox"
+            path={PAGES.outbox}
             element={
               <AdminOnly action="outbox.read">
                 <OutboxPage />
@@ -83,7 +84,7 @@ export function App() {
             }
           />
           <Route
-            path="admin/members"
+            path={PAGES.members}
             element={
               <AdminOnly action="members.manage">
                 <MembersPage />

@@ -1,21 +1,8 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type {
-  AccountAuditResponse,
-  PreferencesBody,
-  ResetPasswordBody,
-  ResetRequestBody,
-  SetupBody,
-  SetupStatus,
-  SocietyBody,
-  SocietyResponse,
-  UpdateMeBody,
-  UpdateMemberBody,
-} from "../../shared/contract/accounts";
-import type { MemberDto } from "../../shared/contract/controlRoom";
-import type { MeResponse } from "../../shared/contract/rest";
+import type { PreferencesBody, ResetPasswordBody, ResetRequestBody, SetupBody, SocietyBody, UpdateMeBody, UpdateMemberBody } from "../../shared/contract/accounts";
 import { adminKeys } from "./admin";
 import { authKeys } from "./auth";
-import { http } from "./http";
+import { api } from "./client";
 
 export const accountKeys = {
   setup: ["setup"] as const,
@@ -24,13 +11,13 @@ export const accountKeys = {
 };
 
 export function useSetupStatus() {
-  return useQuery({ queryKey: accountKeys.setup, queryFn: ({ signal }) => http.get<SetupStatus>("/api/setup", signal), retry: false });
+  return useQuery({ queryKey: accountKeys.setup, queryFn: ({ signal }) => api("GET /api/setup", { signal }), retry: false });
 }
 
 export function useSetup() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: SetupBody) => http.post<{ ok: true }>("/api/setup", body),
+    mutationFn: (body: SetupBody) => api("POST /api/setup", { body }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: accountKeys.setup }).then(() => queryClient.invalidateQueries({ queryKey: accountKeys.society })),
   });
 }
@@ -39,7 +26,7 @@ export function useSetup() {
 export function useSociety() {
   return useQuery({
     queryKey: accountKeys.society,
-    queryFn: ({ signal }) => http.get<SocietyResponse>("/api/society", signal),
+    queryFn: ({ signal }) => api("GET /api/society", { signal }),
     select: (body) => body.name,
     staleTime: 5 * 60_000,
   });
@@ -48,7 +35,7 @@ export function useSociety() {
 export function useRenameSociety() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: SocietyBody) => http.patch<SocietyResponse>("/api/society", body),
+    mutationFn: (body: SocietyBody) => api("PATCH /api/society", { body }),
     onSuccess: async (body) => {
       queryClient.setQueryData(accountKeys.society, body);
       await queryClient.invalidateQueries({ queryKey: accountKeys.audit });
@@ -59,7 +46,7 @@ export function useRenameSociety() {
 export function useUpdateMe() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: UpdateMeBody) => http.patch<MeResponse>("/api/me", body),
+    mutationFn: (body: UpdateMeBody) => api("PATCH /api/me", { body }),
     onSuccess: (body) => queryClient.setQueryData(authKeys.me, body.user),
   });
 }
@@ -67,17 +54,17 @@ export function useUpdateMe() {
 export function usePreferences() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: PreferencesBody) => http.patch<MeResponse>("/api/me/preferences", body),
+    mutationFn: (body: PreferencesBody) => api("PATCH /api/me/preferences", { body }),
     onSuccess: (body) => queryClient.setQueryData(authKeys.me, body.user),
   });
 }
 
 export function useRequestReset() {
-  return useMutation({ mutationFn: (body: ResetRequestBody) => http.post<{ ok: true }>("/api/auth/reset", body) });
+  return useMutation({ mutationFn: (body: ResetRequestBody) => api("POST /api/auth/reset", { body }) });
 }
 
 export function useResetPassword(token: string) {
-  return useMutation({ mutationFn: (body: ResetPasswordBody) => http.post<{ ok: true }>(`/api/auth/reset/${encodeURIComponent(token)}`, body) });
+  return useMutation({ mutationFn: (body: ResetPasswordBody) => api("POST /api/auth/reset/:token", { token, body }) });
 }
 
 /** After any change of members or invitations: the lists and the audit of account changes. */
@@ -94,26 +81,26 @@ function useInvalidateMembers() {
 export function useUpdateMember() {
   const invalidate = useInvalidateMembers();
   return useMutation({
-    mutationFn: ({ id, ...body }: UpdateMemberBody & { id: number }) => http.patch<{ member: MemberDto }>(`/api/admin/members/${id}`, body),
+    mutationFn: ({ id, ...body }: UpdateMemberBody & { id: number }) => api("PATCH /api/admin/members/:id", { id, body }),
     onSettled: invalidate,
   });
 }
 
 export function useRemoveMember() {
   const invalidate = useInvalidateMembers();
-  return useMutation({ mutationFn: (id: number) => http.delete<unknown>(`/api/admin/members/${id}`), onSettled: invalidate });
+  return useMutation({ mutationFn: (id: number) => api("DELETE /api/admin/members/:id", { id }), onSettled: invalidate });
 }
 
 export function useResendInvitation() {
   const invalidate = useInvalidateMembers();
-  return useMutation({ mutationFn: (id: number) => http.post<{ id: number }>(`/api/admin/invitations/${id}/resend`), onSettled: invalidate });
+  return useMutation({ mutationFn: (id: number) => api("POST /api/admin/invitations/:id/resend", { id }), onSettled: invalidate });
 }
 
 export function useRevokeInvitation() {
   const invalidate = useInvalidateMembers();
-  return useMutation({ mutationFn: (id: number) => http.delete<unknown>(`/api/admin/invitations/${id}`), onSettled: invalidate });
+  return useMutation({ mutationFn: (id: number) => api("DELETE /api/admin/invitations/:id", { id }), onSettled: invalidate });
 }
 
 export function useAccountAudit() {
-  return useQuery({ queryKey: accountKeys.audit, queryFn: ({ signal }) => http.get<AccountAuditResponse>("/api/admin/audit", signal), select: (b) => b.entries });
+  return useQuery({ queryKey: accountKeys.audit, queryFn: ({ signal }) => api("GET /api/admin/audit", { signal }), select: (b) => b.entries });
 }

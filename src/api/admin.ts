@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { AcceptInvitationBody, InvitationBody, InvitationPreview, MembersResponse, OutboxResponse } from "../../shared/contract/controlRoom";
-import { http } from "./http";
+import type { AcceptInvitationBody, InvitationBody } from "../../shared/contract/controlRoom";
+import { api } from "./client";
 
 export const adminKeys = {
   outbox: ["admin", "outbox"] as const,
@@ -11,20 +11,20 @@ export const adminKeys = {
 export function useOutbox() {
   return useQuery({
     queryKey: adminKeys.outbox,
-    queryFn: ({ signal }) => http.get<OutboxResponse>("/api/admin/outbox", signal),
+    queryFn: ({ signal }) => api("GET /api/admin/outbox", { signal }),
     select: (body) => body.messages,
     refetchInterval: 5_000,
   });
 }
 
 export function useMembers() {
-  return useQuery({ queryKey: adminKeys.members, queryFn: ({ signal }) => http.get<MembersResponse>("/api/admin/members", signal) });
+  return useQuery({ queryKey: adminKeys.members, queryFn: ({ signal }) => api("GET /api/admin/members", { signal }) });
 }
 
 export function useInviteMutation() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: InvitationBody) => http.post<{ id: number }>("/api/invitations", body),
+    mutationFn: (body: InvitationBody) => api("POST /api/invitations", { body }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: adminKeys.members }),
   });
 }
@@ -32,13 +32,13 @@ export function useInviteMutation() {
 export function useInvitation(token: string) {
   return useQuery({
     queryKey: adminKeys.invitation(token),
-    queryFn: ({ signal }) => http.get<InvitationPreview>(`/api/invitations/${encodeURIComponent(token)}`, signal),
+    queryFn: ({ signal }) => api("GET /api/invitations/:token", { token, signal }),
     retry: false,
   });
 }
 
 export function useAcceptInvitation(token: string) {
   return useMutation({
-    mutationFn: (body: AcceptInvitationBody) => http.post<{ email: string }>(`/api/invitations/${encodeURIComponent(token)}/accept`, body),
+    mutationFn: (body: AcceptInvitationBody) => api("POST /api/invitations/:token/accept", { token, body }),
   });
 }

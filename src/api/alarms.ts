@@ -1,8 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { AlarmsResponse, AlarmStateFilter } from "../../shared/contract/controlRoom";
-import type { AlarmSettingsPatch, AlarmSettingsResponse } from "../../shared/contract/alarmSettings";
-import type { AlarmDto } from "../../shared/contract/live";
-import { http } from "./http";
+import type { AlarmStateFilter } from "../../shared/contract/controlRoom";
+import type { AlarmSettingsPatch } from "../../shared/contract/alarmSettings";
+import { api } from "./client";
 
 export const alarmKeys = {
   all: ["alarms"] as const,
@@ -12,7 +11,7 @@ export const alarmKeys = {
 export function useAlarms(slug: string, state: AlarmStateFilter) {
   return useQuery({
     queryKey: alarmKeys.list(slug, state),
-    queryFn: ({ signal }) => http.get<AlarmsResponse>(`/api/layouts/${encodeURIComponent(slug)}/alarms?state=${state}`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/alarms", { slug, query: { state }, signal }),
     select: (body) => body.alarms,
     enabled: Boolean(slug),
   });
@@ -21,7 +20,7 @@ export function useAlarms(slug: string, state: AlarmStateFilter) {
 export function useAcknowledgeAlarm() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: ({ id, comment }: { id: number; comment: string }) => http.post<{ alarm?: AlarmDto }>(`/api/alarms/${id}/acknowledge`, { comment }),
+    mutationFn: ({ id, comment }: { id: number; comment: string }) => api("POST /api/alarms/:id/acknowledge", { id, body: { comment } }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: alarmKeys.all }),
   });
 }
@@ -32,7 +31,7 @@ export const alarmSettingsKey = (slug: string) => ["alarm-settings", slug] as co
 export function useAlarmSettings(slug: string) {
   return useQuery({
     queryKey: alarmSettingsKey(slug),
-    queryFn: ({ signal }) => http.get<AlarmSettingsResponse>(`/api/layouts/${encodeURIComponent(slug)}/alarm-settings`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/alarm-settings", { slug, signal }),
     enabled: Boolean(slug),
   });
 }
@@ -41,7 +40,7 @@ export function useAlarmSettings(slug: string) {
 export function useAlarmSettingsMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (patch: AlarmSettingsPatch) => http.put<AlarmSettingsResponse>(`/api/layouts/${encodeURIComponent(slug)}/alarm-settings`, patch),
+    mutationFn: (patch: AlarmSettingsPatch) => api("PUT /api/layouts/:slug/alarm-settings", { slug, body: patch }),
     onSuccess: (data) => queryClient.setQueryData(alarmSettingsKey(slug), data),
   });
 }

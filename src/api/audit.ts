@@ -1,6 +1,5 @@
 import { useQuery } from "@tanstack/react-query";
-import type { AuditResponse } from "../../shared/contract/controlRoom";
-import { http } from "./http";
+import { api } from "./client";
 
 export const auditKeys = {
   list: (slug: string) => ["audit", slug] as const,
@@ -9,7 +8,7 @@ export const auditKeys = {
 export function useAudit(slug: string) {
   return useQuery({
     queryKey: auditKeys.list(slug),
-    queryFn: ({ signal }) => http.get<AuditResponse>(`/api/layouts/${encodeURIComponent(slug)}/audit`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/audit", { slug, signal }),
     select: (body) => body.entries,
     enabled: Boolean(slug),
   });

@@ -1,6 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { LoginBody, MeResponse, UserDto } from "../../shared/contract/rest";
-import { ApiError, http } from "./http";
+import type { LoginBody, UserDto } from "../../shared/contract/rest";
+import { api } from "./client";
+import { ApiError } from "./http";
 
 export const authKeys = {
   me: ["me"] as const,
@@ -9,7 +10,7 @@ export const authKeys = {
 /** The signed-in user, or null when signed out (a 401 is an answer here, not an error). */
 export async function fetchMe(signal?: AbortSignal): Promise<UserDto | null> {
   try {
-    const body = await http.get<MeResponse>("/api/me", signal);
+    const body = await api("GET /api/me", { signal });
     return body.user;
   } catch (error) {
     if (error instanceof ApiError && error.status === 401) return null;
@@ -29,12 +30,10 @@ export function useMe() {
 export function useLogin() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: LoginBody) => http.post<MeResponse | Record<string, unknown>>("/api/auth/login", body),
+    mutationFn: (body: LoginBody) => api("POST /api/auth/login", { body }),
     onSuccess: async (body) => {
-      // The login reply may or may not carry the user; /api/me is the source of truth.
-      if (body && typeof body === "object" && "user" in body) {
-        queryClient.setQueryData(authKeys.me, (body as MeResponse).user);
-      }
+      queryClient.setQueryData(authKeys.me, body.user);
+      // /api/me stays the source of truth (the role may have changed since).
       await queryClient.invalidateQueries({ queryKey: authKeys.me });
     },
   });
@@ -43,7 +42,7 @@ export function useLogin() {
 export function useLogout() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: () => http.post<unknown>("/api/auth/logout"),
+    mutationFn: () => api("POST /api/auth/logout"),
     onSettled: () => {
       // Whatever the server said, forget everything cached for this user.
       queryClient.clear();

@@ -1,16 +1,14 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CreateDisplayLinkResponse, DisplayLinkDto } from "../../shared/contract/controlRoom";
-import { http, request } from "./http";
+import { api } from "./client";
 
 export const displayLinkKeys = {
   list: (slug: string) => ["display-links", slug] as const,
 };
-const base = (slug: string) => `/api/layouts/${encodeURIComponent(slug)}/display-links`;
 
 export function useDisplayLinks(slug: string) {
   return useQuery({
     queryKey: displayLinkKeys.list(slug),
-    queryFn: ({ signal }) => http.get<{ links: DisplayLinkDto[] }>(base(slug), signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/display-links", { slug, signal }),
     select: (body) => body.links,
   });
 }
@@ -18,7 +16,7 @@ export function useDisplayLinks(slug: string) {
 export function useCreateDisplayLink(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (label: string) => http.post<CreateDisplayLinkResponse>(base(slug), label ? { label } : {}),
+    mutationFn: (label: string) => api("POST /api/layouts/:slug/display-links", { slug, body: label ? { label } : {} }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: displayLinkKeys.list(slug) }),
   });
 }
@@ -27,7 +25,7 @@ export function useCreateDisplayLink(slug: string) {
 export function useRevokeDisplayLink(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (idOrToken: string) => request<unknown>(`${base(slug)}/${encodeURIComponent(idOrToken)}`, { method: "DELETE" }),
+    mutationFn: (idOrToken: string) => api("DELETE /api/layouts/:slug/display-links/:token", { slug, token: idOrToken }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: displayLinkKeys.list(slug) }),
   });
 }

@@ -53,7 +53,8 @@ export interface RequestOptions {
 }
 
 /**
- * JSON over fetch against our own origin. The session is an httpOnly cookie, so
+ * JSON over fetch against our own origin; call it through `api()` (./client.ts), which names
+ * the route and so the reply type. The session is an httpOnly cookie, so
  * `credentials: "same-origin"` is all the authentication the client does.
  */
 export async function request<T>(path: string, options: RequestOptions = {}): Promise<T> {
@@ -97,11 +98,3 @@ export async function request<T>(path: string, options: RequestOptions = {}): Pr
   }
   return parsed as T;
 }
-
-export const http = {
-  get: <T>(path: string, signal?: AbortSignal) => request<T>(path, { method: "GET", signal }),
-  post: <T>(path: string, body?: unknown) => request<T>(path, { method: "POST", body: body ?? {} }),
-  patch: <T>(path: string, body: unknown) => request<T>(path, { method: "PATCH", body }),
-  delete: <T>(path: string) => request<T>(path, { method: "DELETE" }),
-  put: <T>(path: string, body: unknown) => request<T>(path, { method: "PUT", body }),
-};

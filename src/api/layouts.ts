@@ -1,7 +1,8 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CreateNodeBody, CreateNodeResponse, ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
+import type { CreateNodeBody } from "../../shared/contract/rest";
+import type { CreateLayoutBody } from "../../shared/contract/layoutEdit";
 import type { EditableLayout } from "../lib/layoutDraft";
-import { http } from "./http";
+import { api, apiUrl } from "./client";
 
 export const layoutKeys = {
   all: ["layouts"] as const,
@@ -12,7 +13,7 @@ export const layoutKeys = {
 export function useLayouts() {
   return useQuery({
     queryKey: layoutKeys.list(),
-    queryFn: ({ signal }) => http.get<LayoutsResponse>("/api/layouts", signal),
+    queryFn: ({ signal }) => api("GET /api/layouts", { signal }),
     select: (body) => body.layouts,
   });
 }
@@ -20,7 +21,7 @@ export function useLayouts() {
 export function useLayout(slug: string | undefined) {
   return useQuery({
     queryKey: layoutKeys.detail(slug ?? ""),
-    queryFn: ({ signal }) => http.get<LayoutResponse>(`/api/layouts/${encodeURIComponent(slug ?? "")}`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug", { slug: slug ?? "", signal }),
     select: (body) => body.layout,
     enabled: Boolean(slug),
   });
@@ -30,7 +31,7 @@ export function useLayout(slug: string | undefined) {
 export function useImportLayoutMutation() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (layoutFile: unknown) => http.post<ImportLayoutResponse>("/api/layouts/import", layoutFile),
+    mutationFn: (layoutFile: unknown) => api("POST /api/layouts/import", { body: layoutFile }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }
@@ -42,15 +43,9 @@ export function useImportLayoutMutation() {
 export function useRegisterNodeMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (node: CreateNodeBody) => http.post<CreateNodeResponse>(`/api/layouts/${encodeURIComponent(slug)}/nodes`, node),
+    mutationFn: (node: CreateNodeBody) => api("POST /api/layouts/:slug/nodes", { slug, body: node }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.detail(slug) }),
   });
-}
-
-export interface CreateLayoutInput {
-  slug: string;
-  name: string;
-  scale: { name: string; ratio: number };
 }
 
 /** `POST /api/layouts`: a new, empty layout (no rulebook until one is published). */
@@ -58,7 +53,7 @@ export function useCreateLayoutMutation() {
   const queryClient = useQueryClient();
   return useMutation({
     // 201 with the new layout (CONTRACT.md §6; shared/contract/layoutEdit.ts).
-    mutationFn: (input: CreateLayoutInput) => http.post<LayoutResponse>("/api/layouts", input).then((body) => body.layout),
+    mutationFn: (input: CreateLayoutBody) => api("POST /api/layouts", { body: input }).then((body) => body.layout),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }
@@ -67,8 +62,8 @@ export function useCreateLayoutMutation() {
 export function useEditableLayout(slug: string) {
   return useQuery({
     queryKey: layoutKeys.detail(slug),
-    queryFn: ({ signal }) => http.get<LayoutResponse>(`/api/layouts/${encodeURIComponent(slug)}`, signal),
-    select: (body) => body.layout as EditableLayout,
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug", { slug, signal }),
+    select: (body): EditableLayout => body.layout,
     enabled: Boolean(slug),
     // An open editor must not swap the layout under the engineer: reloads are asked for.
     refetchOnWindowFocus: false,
@@ -83,7 +78,7 @@ export function useSaveLayoutMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: (input: { file: Record<string, unknown>; revision: number | undefined }) =>
-      http.put<{ revision?: number; layout?: EditableLayout }>(`/api/layouts/${encodeURIComponent(slug)}`, { ...input.file, revision: input.revision }),
+      api("PUT /api/layouts/:slug", { slug, body: { ...input.file, revision: input.revision } }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }
@@ -92,16 +87,12 @@ export function useSaveLayoutMutation(slug: string) {
 export function useArchiveMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (action: "archive" | "restore") => http.post<unknown>(`/api/layouts/${encodeURIComponent(slug)}/${action}`),
+    mutationFn: (action: "archive" | "restore") => api(action === "archive" ? "POST /api/layouts/:slug/archive" : "POST /api/layouts/:slug/restore", { slug }),
     onSuccess: () => queryClient.invalidateQueries({ queryKey: layoutKeys.all }),
   });
 }
 
 /** The export is a plain download: the browser fetches it with the session cookie. */
 export function layoutExportUrl(slug: string): string {
-  return `/api/layouts/${encodeURIComponent(slug)}/export`;
-}
-
-export function fetchLayoutExport(slug: string): Promise<unknown> {
-  return http.get<unknown>(layoutExportUrl(slug));
+  return apiUrl("GET /api/layouts/:slug/export", { slug });
 }

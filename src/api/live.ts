@@ -1,7 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CommandBody, LiveState, LiveStep } from "../../shared/contract/live";
-import type { DisplayResponse } from "../../shared/contract/controlRoom";
-import { http } from "./http";
+import type { SessionControlBody } from "../../shared/contract/restMap";
+import { api } from "./client";
 
 /** What the socket is doing for one layout, as shown by the connection indicator. */
 export type ConnectionStatus = "connecting" | "live" | "catching-up" | "reconnecting" | "refused";
@@ -25,9 +25,6 @@ export const liveKeys = {
   display: (token: string) => ["display", token] as const,
 };
 
-export const livePath = (slug: string, displayToken?: string) =>
-  `/api/layouts/${encodeURIComponent(slug)}/live${displayToken ? `?display=${encodeURIComponent(displayToken)}` : ""}`;
-
 /**
  * The layout's live state. The socket hook (useLiveLayout) keeps it current by writing
  * pushes into this cache entry; the REST fetch is only the first answer.
@@ -37,7 +34,7 @@ export function useLiveState(slug: string | undefined, displayToken?: string) {
   return useQuery({
     queryKey: liveKeys.state(slug ?? ""),
     queryFn: async ({ signal }) => {
-      const fetched = await http.get<LiveState>(livePath(slug ?? "", displayToken), signal);
+      const fetched = await api("GET /api/layouts/:slug/live", { slug: slug ?? "", query: { display: displayToken || undefined }, signal });
       // The socket may have written a newer state while this request was in flight.
       const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug ?? ""));
       return current && current.version > fetched.version ? current : fetched;
@@ -63,7 +60,7 @@ export const useConnection = (slug: string) => useCacheOnly(liveKeys.connection(
 
 export function useCommandMutation(slug: string) {
   return useMutation({
-    mutationFn: (body: CommandBody) => http.post<unknown>(`/api/layouts/${encodeURIComponent(slug)}/commands`, body),
+    mutationFn: (body: CommandBody) => api("POST /api/layouts/:slug/commands", { slug, body }),
   });
 }
 
@@ -71,7 +68,7 @@ export function useCommandMutation(slug: string) {
 export function useDisplay(token: string | undefined) {
   return useQuery({
     queryKey: liveKeys.display(token ?? ""),
-    queryFn: ({ signal }) => http.get<DisplayResponse>(`/api/display/${encodeURIComponent(token ?? "")}`, signal),
+    queryFn: ({ signal }) => api("GET /api/display/:token", { token: token ?? "", signal }),
     select: (body) => body.layout,
     enabled: Boolean(token),
     staleTime: Infinity,
@@ -83,7 +80,7 @@ export function useDisplay(token: string | undefined) {
 export function useSessionControlMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (body: { action: "open" | "close"; note?: string }) => http.post<LiveState>(`/api/layouts/${encodeURIComponent(slug)}/sessions`, body),
+    mutationFn: (body: SessionControlBody) => api("POST /api/layouts/:slug/sessions", { slug, body }),
     onSuccess: (state) => {
       const current = queryClient.getQueryData<LiveState>(liveKeys.state(slug));
       if (!current || current.version <= state.version) queryClient.setQueryData(liveKeys.state(slug), state);

@@ -6,8 +6,8 @@
 import { useEffect } from "react";
 import { useMutation, useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
 import type { Ack } from "../../shared/contract/live";
-import type { ProofJobDto, ProofJobResponse, ProofJobsResponse, StartProofResponse } from "../../shared/contract/rest";
-import { http, request } from "./http";
+import type { ProofJobDto } from "../../shared/contract/rest";
+import { api } from "./client";
 import { layoutKeys } from "./layouts";
 import { rulebookKeys } from "./rulebooks";
 import { acquireLiveSocket, releaseLiveSocket } from "./socket";
@@ -29,7 +29,7 @@ export function isJobRunning(job: ProofJobDto | undefined): boolean {
 export function useActiveProofJobs(slug: string) {
   return useQuery({
     queryKey: proofKeys.active(slug),
-    queryFn: ({ signal }) => http.get<ProofJobsResponse>(`/api/layouts/${encodeURIComponent(slug)}/proofs`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/proofs", { slug, signal }),
     select: (body) => body.jobs,
     enabled: Boolean(slug),
   });
@@ -49,7 +49,7 @@ export function useProofJob(jobId: string | null) {
   const queryClient = useQueryClient();
   const query = useQuery({
     queryKey: proofKeys.job(jobId ?? ""),
-    queryFn: ({ signal }) => http.get<ProofJobResponse>(`/api/proofs/${jobId}`, signal).then((body) => body.job),
+    queryFn: ({ signal }) => api("GET /api/proofs/:jobId", { jobId: jobId ?? "", signal }).then((body) => body.job),
     enabled: Boolean(jobId),
     refetchInterval: (q) => (isJobRunning(q.state.data) ? PROOF_POLL_INTERVAL_MS : false),
   });
@@ -97,8 +97,7 @@ export function useProofJob(jobId: string | null) {
 export function useStartProofMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (version: number) =>
-      http.post<StartProofResponse>(`/api/layouts/${encodeURIComponent(slug)}/rulebooks/${version}/proofs`),
+    mutationFn: (version: number) => api("POST /api/layouts/:slug/rulebooks/:version/proofs", { slug, version }),
     onSuccess: async () => {
       await queryClient.invalidateQueries({ queryKey: proofKeys.active(slug) });
     },
@@ -108,7 +107,7 @@ export function useStartProofMutation(slug: string) {
 export function useCancelProofMutation() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (jobId: string) => request<ProofJobResponse>(`/api/proofs/${jobId}`, { method: "DELETE" }).then((body) => body.job),
+    mutationFn: (jobId: string) => api("DELETE /api/proofs/:jobId", { jobId }).then((body) => body.job),
     onSuccess: (job) => {
       queryClient.setQueryData(proofKeys.job(job.jobId), job);
     },

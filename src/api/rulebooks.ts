@@ -1,7 +1,7 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { PublishResponse, RulebookVersionResponse, SaveDraftResponse } from "../../shared/contract/rest";
 import type { PublishBody } from "../../shared/contract/layoutEdit";
-import { http } from "./http";
+import type { SaveDraftBody } from "../../shared/contract/restMap";
+import { api } from "./client";
 import { layoutKeys } from "./layouts";
 
 export const rulebookKeys = {
@@ -9,14 +9,10 @@ export const rulebookKeys = {
   version: (slug: string, version: number) => [...rulebookKeys.all(slug), version] as const,
 };
 
-function base(slug: string): string {
-  return `/api/layouts/${encodeURIComponent(slug)}/rulebooks`;
-}
-
 export function useRulebookVersion(slug: string | undefined, version: number | undefined) {
   return useQuery({
     queryKey: rulebookKeys.version(slug ?? "", version ?? 0),
-    queryFn: ({ signal }) => http.get<RulebookVersionResponse>(`${base(slug ?? "")}/${version}`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/rulebooks/:version", { slug: slug ?? "", version: version ?? 0, signal }),
     select: (body) => body.version,
     enabled: Boolean(slug) && typeof version === "number" && version > 0,
     // A stored version never changes except its status; keep it while the page is open.
@@ -24,16 +20,11 @@ export function useRulebookVersion(slug: string | undefined, version: number | u
   });
 }
 
-export interface SaveDraftInput {
-  rulebook: unknown;
-  note?: string;
-}
-
 /** Saves a new draft version. A 400 lists the rulebook's errors as `[{path,message}]`. */
 export function useSaveDraftMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (input: SaveDraftInput) => http.post<SaveDraftResponse>(base(slug), input),
+    mutationFn: (input: SaveDraftBody) => api("POST /api/layouts/:slug/rulebooks", { slug, body: input }),
     onSuccess: async () => {
       await queryClient.invalidateQueries({ queryKey: layoutKeys.detail(slug) });
     },
@@ -44,7 +35,7 @@ export function usePublishMutation(slug: string) {
   const queryClient = useQueryClient();
   return useMutation({
     /** `withoutProof` and a `reason` for a version its last proof did not prove (audited). */
-    mutationFn: ({ version, body = {} }: { version: number; body?: PublishBody }) => http.post<PublishResponse>(`${base(slug)}/${version}/publish`, body),
+    mutationFn: ({ version, body = {} }: { version: number; body?: PublishBody }) => api("POST /api/layouts/:slug/rulebooks/:version/publish", { slug, version, body }),
     onSuccess: async () => {
       await Promise.all([
         queryClient.invalidateQueries({ queryKey: layoutKeys.all }),

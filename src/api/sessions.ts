@@ -1,6 +1,6 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { SessionEventFilter, SessionEventPage, SessionImportResponse, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
-import { http } from "./http";
+import type { SessionEventFilter } from "../../shared/contract/sessions";
+import { api, apiUrl } from "./client";
 
 export const sessionKeys = {
   all: ["sessions"] as const,
@@ -12,7 +12,7 @@ export const sessionKeys = {
 export function useSessions(slug: string | undefined) {
   return useQuery({
     queryKey: sessionKeys.list(slug ?? ""),
-    queryFn: ({ signal }) => http.get<SessionListResponse>(`/api/layouts/${encodeURIComponent(slug ?? "")}/sessions`, signal),
+    queryFn: ({ signal }) => api("GET /api/layouts/:slug/sessions", { slug: slug ?? "", signal }),
     select: (body) => body.sessions,
     enabled: Boolean(slug),
   });
@@ -22,11 +22,8 @@ export function useSessions(slug: string | undefined) {
 export function useSessionEvents(id: number | undefined, filter: SessionEventFilter, after: string, limit: number) {
   return useQuery({
     queryKey: sessionKeys.events(id ?? 0, filter, after, limit),
-    queryFn: ({ signal }) => {
-      const query = new URLSearchParams({ format: "json", after, limit: String(limit) });
-      for (const [key, value] of Object.entries(filter)) if (value) query.set(key, value);
-      return http.get<SessionEventPage>(`/api/sessions/${id}/events?${query}`, signal);
-    },
+    // An empty filter field means "any": the query string leaves it out.
+    queryFn: ({ signal }) => api("GET /api/sessions/:id/events", { id: id ?? 0, query: { format: "json", after, limit, ...filter }, signal }),
     enabled: typeof id === "number" && id > 0,
     placeholderData: keepPreviousData,
   });
@@ -36,7 +33,7 @@ export function useSessionEvents(id: number | undefined, filter: SessionEventFil
 export function useSessionInputs(id: number | undefined) {
   return useQuery({
     queryKey: sessionKeys.inputs(id ?? 0),
-    queryFn: ({ signal }) => http.get<SessionInputsResponse>(`/api/sessions/${id}/inputs`, signal),
+    queryFn: ({ signal }) => api("GET /api/sessions/:id/inputs", { id: id ?? 0, signal }),
     enabled: typeof id === "number" && id > 0,
     staleTime: 60_000,
   });
@@ -44,7 +41,7 @@ export function useSessionInputs(id: number | undefined) {
 
 /** The full log as a download (the browser sends the session cookie). */
 export function sessionExportUrl(id: number, format: "jsonl" | "csv"): string {
-  return `/api/sessions/${id}/events?format=${format}`;
+  return apiUrl("GET /api/sessions/:id/events", { id, query: { format } });
 }
 
 /** Uploads an exported log (JSONL or CSV) as a new imported session; the session list refetches. */
@@ -55,7 +52,7 @@ export function useImportSessionMutation(slug: string) {
       const form = new FormData();
       form.append("file", file, file.name);
       if (rulebookVersion !== undefined) form.append("rulebookVersion", String(rulebookVersion));
-      return http.post<SessionImportResponse>(`/api/layouts/${encodeURIComponent(slug)}/sessions/import`, form);
+      return api("POST /api/layouts/:slug/sessions/import", { slug, body: form });
     },
     onSuccess: () => queryClient.invalidateQueries({ queryKey: sessionKeys.list(slug) }),
   });

@@ -3,15 +3,14 @@
  * example) and `POST /api/templates/:id {options}` → a generated rulebook, not saved.
  */
 import { useMutation, useQuery } from "@tanstack/react-query";
-import type { GeneratedRulebookResponse, TemplatesResponse } from "../../shared/contract/layoutEdit";
-import { http } from "./http";
+import { api } from "./client";
 
 export const templateKeys = { all: ["templates"] as const };
 
 export function useTemplates() {
   return useQuery({
     queryKey: templateKeys.all,
-    queryFn: ({ signal }) => http.get<TemplatesResponse>("/api/templates", signal),
+    queryFn: ({ signal }) => api("GET /api/templates", { signal }),
     select: (body) => body.templates,
     staleTime: 5 * 60_000,
   });
@@ -21,6 +20,6 @@ export function useTemplates() {
 export function useGenerateMutation() {
   return useMutation({
     mutationFn: (input: { template: string; options: unknown }) =>
-      http.post<GeneratedRulebookResponse>(`/api/templates/${encodeURIComponent(input.template)}`, { options: input.options }).then((body) => body.rulebook),
+      api("POST /api/templates/:id", { id: input.template, body: { options: input.options } }).then((body) => body.rulebook),
   });
 }

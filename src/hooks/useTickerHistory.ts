@@ -1,8 +1,7 @@
 import { useQuery, useQueryClient } from "@tanstack/react-query";
 import { useEffect } from "react";
-import type { SessionEventPage } from "../../shared/contract/sessions";
 import { liveKeys, TICKER_LENGTH, type TickerEntry } from "../api/live";
-import { http } from "../api/http";
+import { api } from "../api/client";
 import { sessionKeys } from "../api/sessions";
 
 /**
@@ -14,7 +13,7 @@ export function useTickerHistory(slug: string, sessionId: number | undefined): v
   const queryClient = useQueryClient();
   const history = useQuery({
     queryKey: [...sessionKeys.all, sessionId ?? 0, "tail", TICKER_LENGTH] as const,
-    queryFn: ({ signal }) => http.get<SessionEventPage>(`/api/sessions/${sessionId}/events?format=json&tail=${TICKER_LENGTH}`, signal),
+    queryFn: ({ signal }) => api("GET /api/sessions/:id/events", { id: sessionId ?? 0, query: { format: "json", tail: TICKER_LENGTH }, signal }),
     enabled: typeof sessionId === "number" && sessionId > 0,
     staleTime: Infinity,
   });

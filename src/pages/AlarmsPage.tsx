@@ -6,6 +6,7 @@ import { ALARM_KIND_WORDS, AlarmCard } from "../components/alarms/AlarmCard";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
 import { AlarmSettingsPanel } from "../components/alarms/AlarmSettingsPanel";
+import { paths } from "../lib/paths";
 
 const canAcknowledge = (role: string) => role === "signaller" || role === "maintainer" || role === "admin";
 
@@ -32,7 +33,7 @@ export default function AlarmsPage() {
     <div className="space-y-4">
       <div className="flex flex-wrap items-baseline justify-between gap-3">
         <h1 className="text-2xl font-bold">Alarms</h1>
-        <Link to={`/layouts/${slug}/live`} className="text-sm underline">
+        <Link to={paths.live({ slug })} className="text-sm underline">
           Back to the live page
         </Link>
       </div>

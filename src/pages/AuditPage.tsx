@@ -4,6 +4,7 @@ import { useAudit } from "../api/audit";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { LoadError, Loading } from "../components/ui/Status";
 import { formatDateTime } from "../lib/format";
+import { paths } from "../lib/paths";
 
 const show = (value: unknown) => (value === null || value === undefined ? "—" : typeof value === "object" ? JSON.stringify(value) : String(value));
 
@@ -25,7 +26,7 @@ export default function AuditPage() {
     <div className="space-y-4">
       <div className="flex flex-wrap items-baseline justify-between gap-3">
         <h1 className="text-2xl font-bold">Audit log</h1>
-        <Link to={`/layouts/${slug}/live`} className="text-sm underline">
+        <Link to={paths.live({ slug })} className="text-sm underline">
           Back to the live page
         </Link>
       </div>

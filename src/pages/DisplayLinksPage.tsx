@@ -5,6 +5,7 @@ import { Button } from "../components/ui/Button";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { formatDateTime } from "../lib/format";
+import { paths } from "../lib/paths";
 
 /** Admins make and revoke visitor display links for one layout. */
 export default function DisplayLinksPage() {
@@ -20,7 +21,7 @@ export default function DisplayLinksPage() {
     <div className="space-y-4">
       <div className="flex flex-wrap items-baseline justify-between gap-3">
         <h1 className="text-2xl font-bold">Display links</h1>
-        <Link to={`/layouts/${slug}/live`} className="text-sm underline">
+        <Link to={paths.live({ slug })} className="text-sm underline">
           Back to the live page
         </Link>
       </div>

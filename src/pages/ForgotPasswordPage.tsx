@@ -6,6 +6,7 @@ import { ApiError } from "../api/http";
 import { AuthCard, FormAlert, submitClass } from "../components/auth/AuthCard";
 import { TextField } from "../components/auth/TextField";
 import { zodResolver } from "../lib/zodResolver";
+import { paths } from "../lib/paths";
 
 /** Asks for a reset link by e-mail; the answer is the same whether or not the address is a member's. */
 export default function ForgotPasswordPage() {
@@ -20,7 +21,7 @@ export default function ForgotPasswordPage() {
           outbox.)
         </p>
         <p className="mt-4 text-sm">
-          <Link to="/login" className="underline">Back to sign-in</Link>
+          <Link to={paths.login()} className="underline">Back to sign-in</Link>
         </p>
       </AuthCard>
     );
@@ -36,7 +37,7 @@ export default function ForgotPasswordPage() {
         </button>
       </form>
       <p className="mt-4 text-sm">
-        <Link to="/login" className="underline">Back to sign-in</Link>
+        <Link to={paths.login()} className="underline">Back to sign-in</Link>
       </p>
     </AuthCard>
   );

@@ -6,6 +6,7 @@ import { useAcceptInvitation, useInvitation } from "../api/admin";
 import { Button } from "../components/ui/Button";
 import { ROLE_LABELS } from "../lib/permissions";
 import { zodResolver } from "../lib/zodResolver";
+import { paths } from "../lib/paths";
 
 /** Someone invited by e-mail chooses a name and password here. */
 export default function InvitePage() {
@@ -48,7 +49,7 @@ export default function InvitePage() {
       ) : null}
       {accept.isSuccess ? (
         <p role="status" className="text-notice-ok">
-          Your account is ready. <Link to="/login" className="underline">Sign in</Link>.
+          Your account is ready. <Link to={paths.login()} className="underline">Sign in</Link>.
         </p>
       ) : null}
     </main>

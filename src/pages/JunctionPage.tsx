@@ -18,6 +18,7 @@ import { Panel } from "../components/ui/Panel";
 import { SafetyNote } from "../components/ui/SafetyNote";
 import { LoadError, Loading } from "../components/ui/Status";
 import { provingAxles } from "../lib/longestTrain";
+import { paths } from "../lib/paths";
 
 /** New junction from a template: pick it, map the layout's records to its roles, read, save, prove, publish. */
 export default function JunctionPage() {
@@ -29,7 +30,7 @@ export default function JunctionPage() {
     return (
       <Panel title="New junction from a template">
         <p className="text-sm">
-          A junction needs detectors and signals first. <Link className="text-brass underline" to={`/layouts/${slug}/edit`}>Add them on the workbench</Link>.
+          A junction needs detectors and signals first. <Link className="text-brass underline" to={paths.layoutEdit({ slug })}>Add them on the workbench</Link>.
         </p>
       </Panel>
     );
@@ -140,7 +141,7 @@ function JunctionWizard({ slug, layout }: { slug: string; layout: NonNullable<Re
           <Panel title="5. Publish" actions={summary ? <PublishControl slug={slug} layoutName={layout.name} version={summary} /> : null}>
             {summary?.live ? (
               <p role="status" className="text-sm text-notice-ok">
-                Version {savedVersion} runs live. <Link className="text-brass underline" to={`/layouts/${slug}/live`}>Open the live mimic</Link>
+                Version {savedVersion} runs live. <Link className="text-brass underline" to={paths.live({ slug })}>Open the live mimic</Link>
               </p>
             ) : (
               <p className="text-sm text-ink-soft">Once proved, publish it to run live; the rulebook page keeps every version.</p>

@@ -14,6 +14,7 @@ import { useCurrentUser } from "../hooks/useCurrentUser";
 import { useDraftHistory } from "../hooks/useDraftHistory";
 import { draftErrors, draftFromLayout, layoutFileFromDraft, type EditableLayout, type LayoutDraft } from "../lib/layoutDraft";
 import { can } from "../lib/permissions";
+import { paths } from "../lib/paths";
 
 type Tab = "records" | "schematic";
 const TABS: { id: Tab; label: string }[] = [
@@ -102,10 +103,10 @@ export default function LayoutEditPage() {
           </p>
         </div>
         <div className="flex flex-wrap gap-2 text-sm">
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${slug}/junction`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.junction({ slug })}>
             New junction from a template
           </Link>
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${slug}/placement`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.placement({ slug })}>
             Detector placement
           </Link>
           {can.archiveLayout(user.role) ? (

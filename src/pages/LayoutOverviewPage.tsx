@@ -9,6 +9,7 @@ import { can } from "../lib/permissions";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
+import { paths } from "../lib/paths";
 
 const lineCol = columnsFor<LayoutLine>();
 const lineColumns = lineCol.columns([lineCol.accessor("id", { header: "Id" }), lineCol.accessor("name", { header: "Name" })]);
@@ -65,19 +66,19 @@ export default function LayoutOverviewPage() {
           </p>
         </div>
         <div className="flex flex-wrap gap-2 text-sm">
-          <Link className="rounded-md border border-brass/70 px-3 py-1.5 font-semibold text-brass hover:bg-panel-800" to={`/layouts/${l.slug}/edit`}>
+          <Link className="rounded-md border border-brass/70 px-3 py-1.5 font-semibold text-brass hover:bg-panel-800" to={paths.layoutEdit({ slug: l.slug })}>
             {me.data && can.importLayout(me.data.role) ? "Edit records and schematic" : "Records and schematic"}
           </Link>
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/rulebook`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.rulebook({ slug: l.slug })}>
             Rulebook
           </Link>
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/simulate`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.simulate({ slug: l.slug })}>
             Simulator
           </Link>
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/sessions`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.sessions({ slug: l.slug })}>
             Sessions and replay
           </Link>
-          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={`/layouts/${l.slug}/placement`}>
+          <Link className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" to={paths.placement({ slug: l.slug })}>
             Detector placement
           </Link>
           <a className="rounded-md border border-panel-600 px-3 py-1.5 hover:bg-panel-800" href={layoutExportUrl(l.slug)} download={`${l.slug}.layout.json`}>

@@ -8,13 +8,14 @@ import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
 import { can } from "../lib/permissions";
+import { paths } from "../lib/paths";
 
 const col = columnsFor<LayoutSummary>();
 const columns = col.columns([
   col.accessor("name", {
     header: "Layout",
     cell: (info) => (
-      <Link to={`/layouts/${info.row.original.slug}`} className="font-semibold text-brass underline-offset-2 hover:underline">
+      <Link to={paths.layout({ slug: info.row.original.slug })} className="font-semibold text-brass underline-offset-2 hover:underline">
         {info.getValue()}
       </Link>
     ),

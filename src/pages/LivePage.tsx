@@ -30,6 +30,7 @@ import { useTickerHistory } from "../hooks/useTickerHistory";
 const PANEL_REFRESH_MS = 250;
 import { drawnAspects, layoutStatus } from "../lib/liveStatus";
 import { can } from "../lib/permissions";
+import { paths } from "../lib/paths";
 
 /** The control room: mimic, state, events, nodes, alarms and (for signallers) commands. */
 export default function LivePage() {
@@ -94,14 +95,14 @@ export default function LivePage() {
         <div className="flex flex-wrap items-center gap-3">
           <LayoutStatusBadge status={status} />
           <ConnectionIndicator connection={connection} />
-          <Link to={`/layouts/${slug}/alarms`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+          <Link to={paths.alarms({ slug })} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
             Alarms
           </Link>
-          <Link to={`/layouts/${slug}/audit`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+          <Link to={paths.audit({ slug })} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
             Audit log
           </Link>
           {user.role === "admin" ? (
-            <Link to={`/layouts/${slug}/display-links`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
+            <Link to={paths.displayLinks({ slug })} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800">
               Display links
             </Link>
           ) : null}

@@ -5,6 +5,7 @@ import { useLogin, useMe } from "../api/auth";
 import { ApiError } from "../api/http";
 import { LoginForm } from "../components/auth/LoginForm";
 import { SAFETY_TEXT } from "../components/ui/SafetyNote";
+import { paths } from "../lib/paths";
 
 function destination(state: unknown): string {
   const from = (state as { from?: unknown } | null)?.from;
@@ -56,7 +57,7 @@ export default function LoginPage() {
         ) : null}
         <LoginForm onSubmit={submit} serverError={serverError} />
         <p className="mt-4 text-center text-sm">
-          <Link to="/forgot-password" className="text-ink-soft underline hover:text-ink">
+          <Link to={paths.forgotPassword()} className="text-ink-soft underline hover:text-ink">
             Forgot password?
           </Link>
         </p>

@@ -18,6 +18,7 @@ import { usePlayback } from "../hooks/usePlayback";
 import { useSimulation } from "../hooks/useSimulation";
 import { carryStartState, compareRuns, runSession } from "../lib/replay";
 import type { SimEntry } from "../lib/simulation";
+import { paths } from "../lib/paths";
 
 const DRAFT = "draft";
 /** Steps of the change log drawn either side of the cursor. */
@@ -93,7 +94,7 @@ export default function ReplayPage() {
         <h1 className="text-2xl font-bold">
           Replay of session #{sessionId} — {layout.data.name}
         </h1>
-        <Link to={`/layouts/${slug}/sessions?session=${sessionId}`} className="text-sm text-brass hover:underline">
+        <Link to={paths.sessions({ slug }, { query: { session: sessionId } })} className="text-sm text-brass hover:underline">
           Back to the event log
         </Link>
       </div>

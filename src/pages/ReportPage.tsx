@@ -7,6 +7,7 @@ import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { formatSeconds, formatTime } from "../lib/duration";
 import { formatDateTimeSeconds } from "../lib/format";
+import { paths } from "../lib/paths";
 
 const linkClass = "rounded-md border border-panel-600 px-3 py-1.5 text-sm hover:bg-panel-800";
 
@@ -33,10 +34,10 @@ export default function ReportPage() {
         </h1>
         <div className="no-print flex flex-wrap gap-2">
           <Button onClick={() => window.print()}>Print</Button>
-          <Link className={linkClass} to={`/layouts/${slug}/sessions?session=${r.sessionId}`}>
+          <Link className={linkClass} to={paths.sessions({ slug }, { query: { session: r.sessionId } })}>
             Event log
           </Link>
-          <Link className={linkClass} to={`/layouts/${slug}/sessions/${r.sessionId}/replay`}>
+          <Link className={linkClass} to={paths.replay({ slug, id: r.sessionId })}>
             Replay
           </Link>
         </div>

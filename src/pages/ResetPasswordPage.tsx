@@ -9,6 +9,7 @@ import { AuthCard, FormAlert, submitClass } from "../components/auth/AuthCard";
 import { TextField } from "../components/auth/TextField";
 import { applyServerErrors } from "../lib/formErrors";
 import { zodResolver } from "../lib/zodResolver";
+import { paths } from "../lib/paths";
 
 const resetFormSchema = z
   .object({ password: passwordSchema, repeat: z.string() })
@@ -27,7 +28,7 @@ export default function ResetPasswordPage() {
     return (
       <AuthCard title="Password changed">
         <p role="status" className="text-notice-ok">
-          Your new password works now; every browser signed in with the old one has been signed out. <Link to="/login" className="font-semibold underline">Sign in</Link>.
+          Your new password works now; every browser signed in with the old one has been signed out. <Link to={paths.login()} className="font-semibold underline">Sign in</Link>.
         </p>
       </AuthCard>
     );
@@ -36,7 +37,7 @@ export default function ResetPasswordPage() {
     return (
       <AuthCard title="This link has been used or is too old">
         <p role="alert" className="text-ink-soft">
-          A reset link works once, for one hour. <Link to="/forgot-password" className="underline">Ask for a new one</Link>.
+          A reset link works once, for one hour. <Link to={paths.forgotPassword()} className="underline">Ask for a new one</Link>.
         </p>
       </AuthCard>
     );

@@ -16,6 +16,7 @@ import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
 import { formatDateTime } from "../lib/format";
 import { can } from "../lib/permissions";
+import { paths } from "../lib/paths";
 
 export default function RulebookPage() {
   const { slug = "" } = useParams();
@@ -59,7 +60,7 @@ export default function RulebookPage() {
           <Button onClick={() => window.print()} disabled={!version}>
             Print rules
           </Button>
-          <Link to={`/layouts/${slug}/simulate${version ? `?version=${version.version}` : ""}`} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm font-semibold hover:bg-panel-800">
+          <Link to={paths.simulate({ slug }, { query: { version: version?.version } })} className="rounded-md border border-panel-600 px-3 py-1.5 text-sm font-semibold hover:bg-panel-800">
             Simulate this version
           </Link>
         </div>

@@ -11,6 +11,7 @@ import { Button } from "../components/ui/Button";
 import { Panel } from "../components/ui/Panel";
 import { LoadError, Loading } from "../components/ui/Status";
 import { useCurrentUser } from "../hooks/useCurrentUser";
+import { paths } from "../lib/paths";
 
 /** Rows per page of the event log: enough to read, few enough for a quick table. */
 const PAGE_EVENTS = 100;
@@ -100,10 +101,10 @@ function EventLog({ slug, session, summary, detectors, nodes, fromEvent }: Event
           <a className={linkClass} href={sessionExportUrl(session, "csv")} download={`session-${session}.csv`}>
             Download CSV
           </a>
-          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/replay`}>
+          <Link className={linkClass} to={paths.replay({ slug, id: session })}>
             Replay this session
           </Link>
-          <Link className={linkClass} to={`/layouts/${slug}/sessions/${session}/report`}>
+          <Link className={linkClass} to={paths.report({ slug, id: session })}>
             Report of the day
           </Link>
         </>

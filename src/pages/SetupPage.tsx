@@ -9,6 +9,7 @@ import { TextField } from "../components/auth/TextField";
 import { LoadError, Loading } from "../components/ui/Status";
 import { applyServerErrors } from "../lib/formErrors";
 import { zodResolver } from "../lib/zodResolver";
+import { paths } from "../lib/paths";
 
 const FIELDS = ["society", "name", "email", "password"] as const;
 
@@ -32,7 +33,7 @@ export default function SetupPage() {
     return (
       <AuthCard title="Your society is set up">
         <p role="status" className="text-notice-ok">
-          You are its first admin. <Link to="/login" className="font-semibold underline">Sign in</Link>, then invite your members from the Members page.
+          You are its first admin. <Link to={paths.login()} className="font-semibold underline">Sign in</Link>, then invite your members from the Members page.
         </p>
       </AuthCard>
     );
@@ -41,7 +42,7 @@ export default function SetupPage() {
     return (
       <AuthCard title="Set up Blocklight">
         <p className="text-ink-soft">
-          This install is set up already. <Link to="/login" className="underline">Sign in</Link>, or ask your society's admin for an invitation.
+          This install is set up already. <Link to={paths.login()} className="underline">Sign in</Link>, or ask your society's admin for an invitation.
         </p>
       </AuthCard>
     );

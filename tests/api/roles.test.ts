@@ -13,10 +13,8 @@ import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";
 import { raiseAlarm } from "../../server/features/alarms/service";
 import { createLayout } from "../../server/features/layouts/edit";
-import { API_ROUTERS } from "../../server/app";
-import type { RouteGuard } from "../../server/features/auth/middleware";
+import { apiRoutes, type RouteMethod as Method } from "../support/apiRoutes";
 
-type Method = "get" | "post" | "put" | "patch" | "delete";
 interface RouteCase {
   method: Method;
   /** A function when the path names a row made in beforeAll. */
@@ -147,25 +145,6 @@ const PUBLIC_ROUTES: { method: Method; path: string; body?: unknown; status: num
   { method: "post", path: "/api/auth/reset/not-a-token", body: { password: "long-enough-pw" }, status: 404 },
   { method: "get", path: "/api/invitations/not-a-token", status: 404 },
 ];
-
-type MethodName = Method;
-interface AppRoute {
-  method: MethodName;
-  path: string;
-  guard: RouteGuard | undefined;
-}
-
-/** Every route of every feature router, with the guard its handlers carry. */
-function apiRoutes(deps: TestApp["deps"]): AppRoute[] {
-  type Layer = { route?: { path: string; methods: Record<string, boolean>; stack: { handle: { guard?: RouteGuard } }[] } };
-  return API_ROUTERS.flatMap((factory) =>
-    (factory(deps).stack as Layer[]).flatMap((layer) => {
-      if (!layer.route) return [];
-      const guard = layer.route.stack.map((s) => s.handle.guard).find(Boolean);
-      return Object.keys(layer.route.methods).map((method) => ({ method: method as MethodName, path: layer.route!.path, guard }));
-    }),
-  );
-}
 
 describe("route × role matrix", () => {
   let t: TestApp;

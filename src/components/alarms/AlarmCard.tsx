@@ -3,6 +3,7 @@ import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
 import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { Panel } from "../ui/Panel";
 import { AcknowledgeForm } from "./AcknowledgeForm";
+import { paths } from "../../lib/paths";
 
 export const ALARM_KIND_WORDS: Record<AlarmKind, string> = {
   stuck: "Stuck latch or counter",
@@ -59,16 +60,16 @@ export function AlarmCard({ slug, alarm: a, canAcknowledge }: { slug: string; al
       {a.comment ? <p className="mt-1 text-sm text-ink-soft">“{a.comment}”</p> : null}
       <p className="mt-1 flex flex-wrap gap-3 text-sm">
         {a.sessionId && a.eventId ? (
-          <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions?session=${a.sessionId}&event=${a.eventId}`}>
+          <Link className="text-brass hover:underline" to={paths.sessions({ slug }, { query: { session: a.sessionId, event: a.eventId } })}>
             Event #{a.eventId} in the log
           </Link>
         ) : null}
         {a.sessionId ? (
-          <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions?session=${a.sessionId}`}>
+          <Link className="text-brass hover:underline" to={paths.sessions({ slug }, { query: { session: a.sessionId } })}>
             Session #{a.sessionId}
           </Link>
         ) : null}
-        <Link className="text-brass hover:underline" to={`/layouts/${slug}/live${a.subject ? `#${encodeURIComponent(a.subject)}` : ""}`}>
+        <Link className="text-brass hover:underline" to={paths.live({ slug }, { hash: a.subject ?? undefined })}>
           On the mimic
         </Link>
       </p>

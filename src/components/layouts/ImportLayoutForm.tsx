@@ -4,6 +4,7 @@ import { ApiError, type FieldError } from "../../api/http";
 import { useImportLayoutMutation } from "../../api/layouts";
 import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
+import { paths } from "../../lib/paths";
 
 interface PickedFile {
   name: string;
@@ -78,7 +79,7 @@ export function ImportLayoutForm() {
       <ErrorList errors={errors} title={errors.length > 1 ? `The layout was not imported: ${errors.length} problems` : "The layout was not imported"} />
       {imported ? (
         <p role="status" className="text-sm text-notice-ok">
-          Imported. <Link className="underline" to={`/layouts/${imported}`}>Open {imported}</Link>
+          Imported. <Link className="underline" to={paths.layout({ slug: imported })}>Open {imported}</Link>
         </p>
       ) : null}
     </form>

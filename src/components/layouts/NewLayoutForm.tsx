@@ -9,6 +9,7 @@ import { COMMON_SCALES, CUSTOM_SCALE } from "../../lib/scales";
 import { zodResolver } from "../../lib/zodResolver";
 import { Button } from "../ui/Button";
 import { FormField, INPUT } from "../records/FormField";
+import { paths } from "../../lib/paths";
 
 const scaleShape = layoutFileSchema.shape.scale.shape;
 const newLayoutSchema = z
@@ -53,7 +54,7 @@ export function NewLayoutForm() {
     const body = { name: v.name, slug: v.slug, scale: chosen ? { name: chosen.name, ratio: chosen.ratio } : { name: v.customName.trim(), ratio: v.customRatio } };
     try {
       const res = await create.mutateAsync(body);
-      navigate(`/layouts/${res.slug}/edit`);
+      navigate(paths.layoutEdit({ slug: res.slug }));
     } catch (error) {
       if (error instanceof ApiError && error.status === 409) setError("slug", { message: "a layout with this slug exists already" });
       else if (error instanceof ApiError && error.fieldErrors.length > 0) {

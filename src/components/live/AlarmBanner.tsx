@@ -1,5 +1,6 @@
 import { Link } from "react-router-dom";
 import type { AlarmDto, LiveState } from "../../../shared/contract/live";
+import { paths } from "../../lib/paths";
 
 export const isOpen = (a: AlarmDto) => a.clearedAt === null;
 export const needsAttention = (a: AlarmDto) => isOpen(a) && a.acknowledgedAt === null;
@@ -31,14 +32,14 @@ export function AlarmBanner({ slug, state }: { slug: string; state: LiveState })
           </span>
           <span className="text-lg font-bold">{attention.length === 1 ? "Alarm needs attention" : "Alarms need attention"}</span>
           <span className="min-w-0 flex-1 truncate text-ink-soft">{attention[0].message}</span>
-          <Link to={`/layouts/${slug}/alarms`} className="rounded-md border border-ink/50 bg-panel-950/70 px-3 py-1 font-semibold hover:bg-panel-900">
+          <Link to={paths.alarms({ slug })} className="rounded-md border border-ink/50 bg-panel-950/70 px-3 py-1 font-semibold hover:bg-panel-900">
             Open alarms
           </Link>
         </div>
       ) : open.length > 0 ? (
         <p data-alarm-banner="acknowledged" className="rounded-md border border-aspect-caution/60 bg-aspect-caution/10 px-3 py-2 text-sm">
           {open.length} acknowledged {open.length === 1 ? "alarm is" : "alarms are"} still open.{" "}
-          <Link to={`/layouts/${slug}/alarms`} className="font-semibold underline">
+          <Link to={paths.alarms({ slug })} className="font-semibold underline">
             See alarms
           </Link>
         </p>

@@ -5,6 +5,7 @@ import { ApiError } from "../../api/http";
 import { useSessionControlMutation } from "../../api/live";
 import { formatTime } from "../../lib/duration";
 import { Button } from "../ui/Button";
+import { paths } from "../../lib/paths";
 
 /** The running day: which session is open, and (for signallers and admins) start or end it with a note. */
 export function SessionControl({ slug, session, canControl }: { slug: string; session: SessionDto | null; canControl: boolean }) {
@@ -20,7 +21,7 @@ export function SessionControl({ slug, session, canControl }: { slug: string; se
         {open ? (
           <>
             Session #{session.id} running since {formatTime(session.openedAt)} ·{" "}
-            <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions/${session.id}/report`}>
+            <Link className="text-brass hover:underline" to={paths.report({ slug, id: session.id })}>
               report so far
             </Link>
           </>

@@ -1,6 +1,7 @@
 import { Link } from "react-router-dom";
 import type { SessionReportDto } from "../../../shared/contract/report";
 import { formatSeconds, formatTime } from "../../lib/duration";
+import { paths } from "../../lib/paths";
 
 const th = "px-2 py-1 text-left text-xs font-semibold uppercase tracking-wide text-ink-soft";
 const td = "px-2 py-1 align-top whitespace-nowrap";
@@ -41,7 +42,7 @@ export function ChecksTable({ report, slug }: { report: SessionReportDto; slug: 
               ].join(", ")}
             </td>
             <td className={`${td} no-print`}>
-              <Link className="text-brass hover:underline" to={`/layouts/${slug}/sessions/${report.sessionId}/replay?step=${c.inputIndex + 1}`}>
+              <Link className="text-brass hover:underline" to={paths.replay({ slug, id: report.sessionId }, { query: { step: c.inputIndex + 1 } })}>
                 Replay at {formatTime(c.from)}
               </Link>
             </td>

@@ -1,6 +1,7 @@
 import { Link } from "react-router-dom";
 import type { ProofMoveDto } from "../../../shared/contract/rest";
 import { encodeTrace } from "../../lib/simulation";
+import { paths } from "../../lib/paths";
 
 interface CounterexampleProps {
   slug: string;
@@ -36,8 +37,7 @@ export function describeProofMoves(moves: ProofMoveDto[], detectorNames: Record<
 
 /** The link that opens the simulator on this version with the counterexample loaded. */
 export function simulatorTraceLink(slug: string, version: number, moves: ProofMoveDto[]): string {
-  const search = new URLSearchParams({ version: String(version), trace: encodeTrace(moves) });
-  return `/layouts/${encodeURIComponent(slug)}/simulate?${search.toString()}`;
+  return paths.simulate({ slug }, { query: { version, trace: encodeTrace(moves) } });
 }
 
 /** The shortest run that breaks a property, numbered, with a link to play it step by step. */

@@ -10,6 +10,7 @@ import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
 import { DraftForm, DraftTabs, type DraftView } from "./form/DraftViews";
 import { provingAxles } from "../../lib/longestTrain";
+import { paths } from "../../lib/paths";
 
 export function prettyRulebook(rulebook: Rulebook): string {
   return JSON.stringify(rulebook, null, 2) + "\n";
@@ -94,7 +95,7 @@ export function RulebookEditor({ slug, context, selected, onSaved }: RulebookEdi
 
   const trySimulator = () => {
     writeDraft(slug, { text, basedOn });
-    navigate(`/layouts/${slug}/simulate?version=draft`, { state: { source: "draft" } });
+    navigate(paths.simulate({ slug }, { query: { version: "draft" } }), { state: { source: "draft" } });
   };
 
   const errorCount = check.ok ? 0 : check.errors.length;

@@ -5,6 +5,7 @@ import { ApiError, type FieldError } from "../../api/http";
 import { useImportSessionMutation } from "../../api/sessions";
 import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
+import { paths } from "../../lib/paths";
 
 /** The server's limit (server/features/sessions/import.ts), checked here too so a huge file is not sent for nothing. */
 const MAX_IMPORT_BYTES = 20 * 1024 * 1024;
@@ -98,7 +99,7 @@ export function ImportEventLogForm({ slug }: { slug: string }) {
       {imported ? (
         <p role="status" className="text-sm text-notice-ok">
           Imported {imported.events.toLocaleString("en-GB")} events as session #{imported.sessionId}.{" "}
-          <Link className="underline" to={`/layouts/${slug}/sessions/${imported.sessionId}/replay`}>
+          <Link className="underline" to={paths.replay({ slug, id: imported.sessionId })}>
             Replay session #{imported.sessionId}
           </Link>
         </p>

@@ -2,6 +2,7 @@ import { Link } from "react-router-dom";
 import type { SessionSummaryDto } from "../../../shared/contract/sessions";
 import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { columnsFor, DataTable } from "../ui/DataTable";
+import { paths } from "../../lib/paths";
 
 interface SessionTableProps {
   slug: string;
@@ -50,10 +51,10 @@ export function SessionTable({ slug, sessions, chosen, onChoose }: SessionTableP
             >
               Event log
             </button>
-            <Link to={`/layouts/${slug}/sessions/${id}/replay`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
+            <Link to={paths.replay({ slug, id: id })} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
               Replay
             </Link>
-            <Link to={`/layouts/${slug}/sessions/${id}/report`} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
+            <Link to={paths.report({ slug, id: id })} className="rounded border border-panel-600 px-2 py-0.5 text-xs font-semibold hover:bg-panel-800">
               Report
             </Link>
           </span>
