@@ -11,7 +11,7 @@
  */
 import type pg from "pg";
 import type { Logger } from "../logger";
-import { commitBatch, emptyBatch, eventIdsAfter, lastEventId, poolQuery, type Batch, type CommitResult, type PendingEvent } from "./eventLog";
+import { commitBatch, emptyBatch, eventIdsAfter, lastEventId, poolQuery, type Batch, type CommitResult, type PendingEvent, type SessionRef } from "./eventLog";
 
 const RETRY_FIRST_MS = 50;
 const RETRY_MAX_MS = 1_000;
@@ -152,8 +152,9 @@ export class Committer {
       if (!isDataError(err)) throw err;
       this.logger.error({ err, layoutId: this.layoutId }, "sessions and audit entries of a batch could not be stored");
     }
-    const resolve = (e: PendingEvent): PendingEvent =>
-      e.session && "temp" in e.session ? { ...e, session: sessionIds.has(e.session.temp) ? { id: sessionIds.get(e.session.temp)! } : null } : e;
+    const resolveRef = (ref: SessionRef | null): SessionRef | null =>
+      ref && "temp" in ref ? (sessionIds.has(ref.temp) ? { id: sessionIds.get(ref.temp)! } : null) : ref;
+    const resolve = (e: PendingEvent): PendingEvent => (e.session && "temp" in e.session ? { ...e, session: resolveRef(e.session) } : e);
     const eventIds: string[] = [];
     for (const event of safe.events) {
       const one = { ...emptyBatch(batch.layoutId), events: [resolve(event)] };
@@ -168,7 +169,8 @@ export class Committer {
       }
     }
     if (batch.snapshot || batch.aspectRev !== null) {
-      await commitBatch(this.pool, { ...emptyBatch(batch.layoutId), snapshot: batch.snapshot, aspectRev: batch.aspectRev });
+      const snapshot = batch.snapshot && { ...batch.snapshot, session: resolveRef(batch.snapshot.session) };
+      await commitBatch(this.pool, { ...emptyBatch(batch.layoutId), snapshot, aspectRev: batch.aspectRev });
     }
     const result = { eventIds, sessionIds };
     this.noteIds(result);

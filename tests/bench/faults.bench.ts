@@ -27,6 +27,7 @@ import type { AppDeps } from "../../server/deps";
 import { importLayout, registerNode } from "../../server/features/layouts/service";
 import { createLogger } from "../../server/logger";
 import { countingLayout, FaultRig, stream } from "../support/faultRig";
+import { durableCommitTimes } from "./durableCommit";
 
 type Report = (name: string, value: number, unit: string) => void;
 
@@ -217,13 +218,7 @@ export async function run(report: Report): Promise<void> {
     await probe.endAsync();
     report("mqtt.round_trip_ms.p50", quantile(rtt, 0.5), "ms");
     report("mqtt.round_trip_ms.p99", quantile(rtt, 0.99), "ms");
-    await check.query(`CREATE TABLE IF NOT EXISTS bench_commit (id serial PRIMARY KEY, at timestamptz NOT NULL DEFAULT now())`);
-    const commits: number[] = [];
-    for (let i = 0; i < SAMPLES; i++) {
-      const started = performance.now();
-      await check.query(`INSERT INTO bench_commit DEFAULT VALUES`);
-      commits.push(performance.now() - started);
-    }
+    const commits = await durableCommitTimes(check, SAMPLES);
     report("pg.commit_ms.p50", quantile(commits, 0.5), "ms");
     report("pg.commit_ms.p99", quantile(commits, 0.99), "ms");
 

@@ -13,7 +13,8 @@
  * committed/offered, pulse → aspect (at the probe board) p50/p99/max and its stages,
  * pulse → socket.io update (at a signed-in browser) p50/p99/max, server CPU (% of one core)
  * and peak RSS; then the time for the server to go idle after the load, the alarms raised
- * per layout during the load, and the bare broker round trip.
+ * per layout during the load, the load average during each rate (other work on the machine),
+ * and from the same run the bare broker round trip and one durable commit (a WAL flush).
  *
  * `BENCH_CPU_PROFILE=DIR` profiles the server process from the start of the load (V8 CPU
  * profile, as `--cpu-prof` would, through cpuProfilePreload.mjs), written to DIR when it stops,
@@ -31,6 +32,7 @@ import { ReferenceBoard } from "../../broker/referenceBoard";
 import type { LiveUpdate } from "../../shared/contract/live";
 import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
 import { freePort } from "../../server/db/embeddedPostgres";
+import { durableCommitTimes } from "./durableCommit";
 import { AspectProbe, PROBE_DETECTOR, PROBE_SIGNAL, probeRulebookPart, type ProbeSample } from "./sustainedProbe";
 
 type Report = (name: string, value: number, unit: string) => void;
@@ -410,6 +412,8 @@ export async function run(report: Report): Promise<void> {
       const stages = await probeStages(samples);
       const s = sorted(toSocket);
       report(`sustained.${rate}.offered`, total, "pulses");
+      // Other work on the machine: every timed figure depends on it.
+      report(`sustained.${rate}.loadavg_1m`, os.loadavg()[0], "runnable");
       report(`sustained.${rate}.committed_over_offered`, committed / total, "fraction");
       report(`sustained.${rate}.aspect_p50_ms`, pct(a, 50), "ms");
       report(`sustained.${rate}.aspect_p99_ms`, pct(a, 99), "ms");
@@ -480,6 +484,13 @@ export async function run(report: Report): Promise<void> {
     report("sustained.mqtt_bare_roundtrip_p50_ms", pct(b, 50), "ms");
     report("sustained.mqtt_bare_roundtrip_p99_ms", pct(b, 99), "ms");
     await Promise.all([sub.endAsync(), pub.endAsync()]);
+
+    // One durable commit on the bench's own database (one WAL flush): the floor under the
+    // server stage, and the disk's flush tail under every p99 above.
+    const c = sorted(await durableCommitTimes(db, BARE_SAMPLES));
+    report("sustained.pg_commit_p50_ms", pct(c, 50), "ms");
+    report("sustained.pg_commit_p99_ms", pct(c, 99), "ms");
+    report("sustained.pg_commit_max_ms", c[c.length - 1], "ms");
   } finally {
     for (const cleanup of cleanups.reverse()) {
       try {
