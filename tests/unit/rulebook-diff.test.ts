@@ -1,16 +1,29 @@
 import { describe, expect, it } from "vitest";
-import { KESTREL_MAX_AXLES, kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES } from "../../shared/demo/fernmoor";
 import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "../../shared/rulebook/diff";
 import type { Rule, Rulebook } from "../../shared/rulebook/schema";
+import { convergingJunction } from "../../shared/rulebook/templates";
 
-/** A fresh copy of the Kestrel Bank demo rulebook each time, so edits never leak between rows. */
+/**
+ * A fresh two-route converging junction (Kestrel Bank's main line and quarry branch, without its
+ * shed road) each time, so edits never leak between rows and the rows keep their small figures.
+ */
 function kestrel(): Rulebook {
-  return structuredClone(kestrelBankLayout().rulebook);
+  return convergingJunction({
+    routes: [
+      { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
+      { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+    ],
+    order: "priority",
+    priority: "main",
+    maxAxles: KESTREL_MAX_AXLES,
+    maxTrainsPerRoute: 2,
+  });
 }
 
 function ruleOf(rulebook: Rulebook, id: string): Rule {
   const rule = rulebook.rules.find((r) => r.id === id);
-  if (!rule) throw new Error(`no rule ${id} in the demo rulebook`);
+  if (!rule) throw new Error(`no rule ${id} in the rulebook`);
   return rule;
 }
 
