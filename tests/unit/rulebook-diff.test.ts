@@ -1,24 +1,12 @@
 import { describe, expect, it } from "vitest";
 import { KESTREL_MAX_AXLES } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "../../shared/rulebook/diff";
 import type { Rule, Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction } from "../../shared/rulebook/templates";
 
-/**
- * A fresh two-route converging junction (Kestrel Bank's main line and quarry branch, without its
- * shed road) each time, so edits never leak between rows and the rows keep their small figures.
- */
+/** A fresh two-route junction (the demo without its shed road) each time, so edits never leak between rows. */
 function kestrel(): Rulebook {
-  return convergingJunction({
-    routes: [
-      { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-      { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-    ],
-    order: "priority",
-    priority: "main",
-    maxAxles: KESTREL_MAX_AXLES,
-    maxTrainsPerRoute: 2,
-  });
+  return structuredClone(kestrelTwoRoutesLayout().rulebook);
 }
 
 function ruleOf(rulebook: Rulebook, id: string): Rule {
