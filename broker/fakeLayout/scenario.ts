@@ -4,7 +4,7 @@
  *
  * ```json
  * { "format": "blocklight.scenario/1", "layout": "kestrel-bank", "name": "A day on the bank",
- *   "trains": [ { "name": "Up goods", "route": "main", "axles": 8, "axleSpacingM": 0.3,
+ *   "trains": [ { "name": "Up goods", "route": "main", "axles": 4, "axleSpacingM": 0.3,
  *                 "speedMps": 0.6, "startS": 0, "repeat": { "everyS": 240, "count": 3 } } ] }
  * ```
  * `route` names one of the rulebook's `proving.routes`; a list of routes (which must share
