@@ -5,8 +5,9 @@
  * 2. Migrations and (DEMO on) the Fernmoor demo data and the demo boards' secrets, once,
  *    so every child finds a ready database.
  * 3. Child processes, each `node --import tsx <file>` with DATABASE_URL set:
- *    the broker (unless MQTT_URL is set), the server, and with DEMO on the fake layout
- *    playing a day at Kestrel Bank once the server answers /api/health; with DEV=1 also
+ *    the broker (unless MQTT_URL is set), the server, and with DEMO on one fake layout per
+ *    demo layout (Kestrel Bank, Wrenfold Loop) playing its day in a loop once the server answers
+ *    /api/health; with DEV=1 also
  *    the Vite dev server. A child that dies unexpectedly is restarted.
  * Ctrl-C / SIGTERM stops the clients (fake layout, server) together, then the broker, then
  * PostgreSQL. If the launcher dies without stopping them (`kill -9`), the children see their
@@ -36,8 +37,11 @@ const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), "..");
 const HEALTH_TIMEOUT_MS = 120_000;
 const HEALTH_POLL_MS = 250;
 const BROKER_TIMEOUT_MS = 30_000;
-const DEMO_LAYOUT = "kestrel-bank";
-const DEMO_SCENARIO = "broker/fakeLayout/scenarios/kestrel-bank-day.json";
+/** One fake layout per demo layout, each named for its console prefix (at most 11 characters). */
+const DEMO_FAKE_LAYOUTS = [
+  { name: "kestrel", slug: "kestrel-bank", title: "Kestrel Bank" },
+  { name: "wrenfold", slug: "wrenfold-loop", title: "Wrenfold Loop" },
+];
 const VITE_PORT = 5173;
 const PARENT_CHECK_MS = 1_000;
 
@@ -231,11 +235,10 @@ async function main(): Promise<void> {
     if (!(await waitForPort(broker.hostname, Number(broker.port || 1883), BROKER_TIMEOUT_MS)) && !shuttingDown) {
       say(`the broker at ${mqttUrl} is not answering yet; the fake layout will keep trying`);
     }
-    supervise(
-      "fake-layout",
-      nodeFile("broker/fakeLayout/cli.ts", "--layout", DEMO_LAYOUT, "--scenario", path.join(ROOT, DEMO_SCENARIO), "--speed", "1", "--loop", "--broker", mqttUrl),
-      env,
-    );
+    for (const fake of DEMO_FAKE_LAYOUTS) {
+      const scenario = path.join(ROOT, "broker/fakeLayout/scenarios", `${fake.slug}-day.json`);
+      supervise(fake.name, nodeFile("broker/fakeLayout/cli.ts", "--layout", fake.slug, "--scenario", scenario, "--speed", "1", "--loop", "--broker", mqttUrl), env);
+    }
   }
 
   // From process start, so the figure includes loading the launcher itself.
@@ -245,7 +248,7 @@ async function main(): Promise<void> {
     config.databaseUrl ? "PostgreSQL from DATABASE_URL" : `PostgreSQL on 127.0.0.1:${config.pgPort}`,
     config.mqttUrl ? `the broker at ${config.mqttUrl}` : `the broker on ${mqttUrl}`,
     `the server on ${baseUrl}`,
-    ...(config.demo ? ["the fake layout (trains at Kestrel Bank)"] : []),
+    ...(config.demo ? [`the fake layout (trains at ${DEMO_FAKE_LAYOUTS.map((fake) => fake.title).join(" and ")})`] : []),
     ...(dev ? [`Vite on ${url}`] : []),
   ];
   const lines = [

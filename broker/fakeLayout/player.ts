@@ -16,6 +16,14 @@
  *   A train stops FOLLOW_GAP_M behind the last axle of the train ahead on the same track.
  * - A train given a list of routes takes the first road with none of our trains on it, at
  *   the moment its signal clears for it (as a "first free road" rulebook would choose).
+ * - Never more trains on a route at once than the rulebook is proved for (`proving`'s
+ *   `maxTrainsPerRoute`; routes sharing signal, approach and entry count together, as in the
+ *   prover): a train due while its route is full waits off the layout (in the fiddle yard) and
+ *   appears, in turn, when one has left. The scenario check refuses trains longer than `maxAxles`.
+ * - One train at a time on an approach: a train stops STOP_SHORT_M before its first detector
+ *   while the train ahead has not yet passed its signal with every axle, so the axles of two
+ *   trains never run together at a detector (the server's alarm watchers group pulses into trains
+ *   by the gaps between them).
  */
 import type { AspectPayload, PointsPayload, PointsSetPayload, PulsePayload, ShownPayload } from "../../shared/contract/live";
 import type { LayoutFile } from "../../shared/layout/schema";
@@ -30,6 +38,8 @@ export const FOLLOW_GAP_M = 1;
 export const FOLLOW_RECHECK_MS = 250;
 export const DEFAULT_LOOP_PAUSE_S = 20;
 export const FAKE_FIRMWARE = "fake-layout-1";
+/** With no `proving` block in the rulebook: the prover's own default. */
+const DEFAULT_MAX_TRAINS_PER_ROUTE = 2;
 /** Two detectors closer than this along a path are treated as this far apart. */
 const MIN_GAP_M = 0.05;
 const EPS_M = 1e-9;
@@ -88,6 +98,8 @@ interface PathDetector {
 interface RoutePath {
   id: string;
   signal: string;
+  /** Routes with the same group share signal, approach and entry: one queue of trains. */
+  group: string;
   /** Index of the entry detector in `detectors`. */
   entryIndex: number;
   detectors: PathDetector[];
@@ -146,7 +158,8 @@ export function routePaths(layout: LayoutFile): Map<string, RoutePath> {
       }
       out.push({ id: detectorId, pos, node: nodeOf.get(detectorId) ?? "" });
     });
-    paths.set(route.id, { id: route.id, signal: route.signal, entryIndex: route.approach.length, detectors: out, points: { ...(route.points ?? {}) } });
+    const group = [route.signal, ...route.approach, route.entry].join("|");
+    paths.set(route.id, { id: route.id, signal: route.signal, group, entryIndex: route.approach.length, detectors: out, points: { ...(route.points ?? {}) } });
   }
   return paths;
 }
@@ -158,6 +171,9 @@ export class FakeLayoutPlayer {
   private readonly shownRev = new Map<string, number>();
   private trains: Train[] = [];
   private spawns: Spawn[] = [];
+  /** Trains due while their route was full, in the order they became due. */
+  private held: Spawn[] = [];
+  private readonly maxTrainsPerRoute: number;
   private trainCount = 0;
   private cycle = 0;
   private cycleEndsAt: number | null = null;
@@ -174,6 +190,7 @@ export class FakeLayoutPlayer {
   constructor(private readonly options: PlayerOptions) {
     this.speed = options.speed ?? 1;
     this.paths = routePaths(options.layout);
+    this.maxTrainsPerRoute = options.layout.rulebook.proving?.maxTrainsPerRoute ?? DEFAULT_MAX_TRAINS_PER_ROUTE;
     const newBoot = options.newBoot ?? randomBoot;
     const now = options.scheduler.now();
     this.boards = options.layout.nodes.map((n) => ({
@@ -319,28 +336,46 @@ export class FakeLayoutPlayer {
   }
 
   private handleEventsAt(t: number): void {
-    while (this.spawns.length && this.spawns[0].at <= t + TIMER_SLACK_MS) this.appear(this.spawns.shift()!);
+    while (this.spawns.length && this.spawns[0].at <= t + TIMER_SLACK_MS) this.held.push(this.spawns.shift()!);
+    this.appearHeld();
     if (this.cycleEndsAt !== null && this.cycleEndsAt <= t + TIMER_SLACK_MS) this.startCycle(t);
     this.crossDetectors(t);
+    const before = this.trains.length;
     this.trains = this.trains.filter((train) => {
       const gone = train.next[train.axles - 1] >= train.path.detectors.length;
       if (gone) this.options.onEvent?.({ type: "leaves", train: train.no, name: train.name });
       return !gone;
     });
+    if (this.trains.length < before) this.appearHeld();
     this.updateLimits();
-    if (!this.trains.length && !this.spawns.length && this.cycleEndsAt === null) {
+    if (!this.trains.length && !this.spawns.length && !this.held.length && this.cycleEndsAt === null) {
       this.options.onEvent?.({ type: "day-over", cycle: this.cycle });
       if (this.options.loop) this.cycleEndsAt = t + (this.options.scenario.loopPauseS ?? DEFAULT_LOOP_PAUSE_S) * 1000;
     }
   }
 
-  private appear(spawn: Spawn): void {
+  /** Every due train whose route has room appears, in the order they became due. */
+  private appearHeld(): void {
+    this.held = this.held.filter((spawn) => {
+      const group = this.candidatesOf(spawn)[0].group;
+      if (this.trains.filter((t) => t.path.group === group).length >= this.maxTrainsPerRoute) return true;
+      this.appear(spawn);
+      return false;
+    });
+  }
+
+  private candidatesOf(spawn: Spawn): RoutePath[] {
     const routeIds = typeof spawn.spec.route === "string" ? [spawn.spec.route] : spawn.spec.route;
-    const candidates = routeIds.map((id) => {
+    return routeIds.map((id) => {
       const path = this.paths.get(id);
       if (!path) throw new Error(`no route "${id}" on ${this.options.layout.slug}`);
       return path;
     });
+  }
+
+  private appear(spawn: Spawn): void {
+    const routeIds = typeof spawn.spec.route === "string" ? [spawn.spec.route] : spawn.spec.route;
+    const candidates = this.candidatesOf(spawn);
     const no = ++this.trainCount;
     const name = spawn.spec.name ?? `Train ${no}`;
     const lead = -LEAD_IN_M;
@@ -403,7 +438,10 @@ export class FakeLayoutPlayer {
       }
       const ahead = this.trainAhead(train);
       if (ahead) {
-        const tail = ahead.lead - (ahead.axles - 1) * ahead.spacing - FOLLOW_GAP_M;
+        // One train at a time on the approach: wait off it until the one ahead is past its signal.
+        const aheadOnApproach = ahead.next[ahead.axles - 1] <= ahead.path.entryIndex;
+        const behindTail = ahead.lead - (ahead.axles - 1) * ahead.spacing - FOLLOW_GAP_M;
+        const tail = aheadOnApproach && train.next[0] === 0 ? Math.min(behindTail, train.path.detectors[0].pos - STOP_SHORT_M) : behindTail;
         if (tail < limit) {
           limit = tail;
           limitedBy = "train";

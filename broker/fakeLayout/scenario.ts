@@ -4,7 +4,7 @@
  *
  * ```json
  * { "format": "blocklight.scenario/1", "layout": "kestrel-bank", "name": "A day on the bank",
- *   "trains": [ { "name": "Up goods", "route": "main", "axles": 8, "axleSpacingM": 0.3,
+ *   "trains": [ { "name": "Up goods", "route": "main", "axles": 4, "axleSpacingM": 0.3,
  *                 "speedMps": 0.6, "startS": 0, "repeat": { "everyS": 240, "count": 3 } } ] }
  * ```
  * `route` names one of the rulebook's `proving.routes`; a list of routes (which must share
@@ -90,8 +90,9 @@ export function loadScenarioFile(file: string): Scenario {
 }
 
 /**
- * Checks a scenario against the layout it is played on: the layout's slug, that every route
- * exists, that alternative routes share signal, approach and entry, and that every detector
+ * Checks a scenario against the layout it is played on: the layout's slug, that no train is
+ * longer than the rulebook is proved for (`proving.maxAxles`), that every route exists, that
+ * alternative routes share signal, approach and entry, and that every detector
  * on a route is served by some node (otherwise no board could report its pulses).
  */
 export function checkScenarioAgainstLayout(scenario: Scenario, layout: LayoutFile, source = "scenario"): void {
@@ -100,9 +101,13 @@ export function checkScenarioAgainstLayout(scenario: Scenario, layout: LayoutFil
     errors.push({ path: "$.layout", message: `the scenario is for "${scenario.layout}", not "${layout.slug}"` });
   }
   const routes = new Map((layout.rulebook.proving?.routes ?? []).map((r) => [r.id, r]));
+  const maxAxles = layout.rulebook.proving?.maxAxles;
   const served = new Set(layout.nodes.flatMap((n) => n.detectors));
   const known = [...routes.keys()].join(", ");
   scenario.trains.forEach((train, i) => {
+    if (maxAxles !== undefined && train.axles > maxAxles) {
+      errors.push({ path: `$.trains[${i}].axles`, message: `${train.axles} axles is longer than ${layout.slug}'s rulebook is proved for (at most ${maxAxles}: its proving maxAxles)` });
+    }
     const ids = typeof train.route === "string" ? [train.route] : train.route;
     ids.forEach((routeId, j) => {
       const at = typeof train.route === "string" ? `$.trains[${i}].route` : `$.trains[${i}].route[${j}]`;

@@ -1,9 +1,12 @@
 /**
  * Demo layouts of the (invented) Fernmoor Garden Railway Society, G scale 1:22.5.
  *
- * - Kestrel Bank Junction: the main line climbs the bank at 1 in 40 and the quarry branch
- *   joins it on the bank. Main-line trains have priority so they are never stopped on the
- *   gradient. Axle-counted converging junction (see `templates.ts`).
+ * - Kestrel Bank Junction: the main line climbs the bank at 1 in 40, the quarry branch joins it
+ *   on the bank, and the road from the bank-engine shed joins it just below the bank points.
+ *   Three routes converge on one axle-counted section (see `templates.ts`); main-line trains
+ *   have priority so they are never stopped on the gradient, then quarry trains, then engines
+ *   off the shed. The shed road's signal and detectors are placed by the placement arithmetic
+ *   from the society's measured figures (`kestrelShedRoad.ts`).
  * - Wrenfold Loop: a facing junction into a passing loop with power-worked points; the rulebook
  *   sends each train to the first free road and throws the points, whose board reports them.
  *
@@ -11,25 +14,29 @@
  * signal, entry detectors level with it, exit detectors beyond the fouling point. The same
  * files are kept as fixtures in `tests/fixtures/*.layout.json` (a test checks they match).
  *
- * Proving sections cover the trains the demo's fake layout runs (broker/fakeLayout/scenarios,
- * 2–10 axles) as far as the prover reaches: 8 axles (the most a rulebook may name), with 3 trains
- * a route at Wrenfold Loop and 2 at Kestrel Bank, where 3 does not finish in the prover's time
- * and memory (docs/prover.md, "Reductions").
+ * Proving sizes: the fake layout (broker/fakeLayout/scenarios) never runs a train longer, or more
+ * trains on one route at once, than the rulebook is proved for (its scenario check refuses longer
+ * trains, its player holds a train off a full route; tests/unit/fakeLayout-proving.test.ts).
+ * Wrenfold Loop is proved for 8 axles (the most a rulebook may name) and 3 trains a route. Kestrel
+ * Bank, with three routes, for what today's prover finishes well inside the server's 60 s: 4 axles
+ * and 2 trains a route (about 160,000 states; 8 × 3 does not finish yet, docs/prover.md).
  */
 import type { LayoutFile } from "../layout/schema";
 import { LAYOUT_FORMAT } from "../layout/schema";
 import { convergingJunction, facingJunction } from "../rulebook/templates";
+import { SHED_POINTS_MAIN_AT_M, shedRoadPlacement } from "./kestrelShedRoad";
 
 const G_SCALE = { name: "G", ratio: 22.5 };
 
 /** The trains each demo rulebook is proved for (see the module notes). */
-export const KESTREL_MAX_AXLES = 8;
+export const KESTREL_MAX_AXLES = 4;
 export const KESTREL_MAX_TRAINS = 2;
 export const WRENFOLD_MAX_AXLES = 8;
 export const WRENFOLD_MAX_TRAINS = 3;
 
-/** Kestrel Bank Junction: main line and quarry branch converging on the bank. */
+/** Kestrel Bank Junction: main line, quarry branch and shed road converging on the bank. */
 export function kestrelBankLayout(): LayoutFile {
+  const shed = shedRoadPlacement();
   return {
     format: LAYOUT_FORMAT,
     slug: "kestrel-bank",
@@ -37,6 +44,9 @@ export function kestrelBankLayout(): LayoutFile {
     scale: { ...G_SCALE },
     lines: [
       { id: "main", name: "Main line (Kestrel Bank, 1 in 40)" },
+      // Before the branch: the automatic drawing joins the n-th other line at the n-th points
+      // along the main line, and the shed points come before the bank points.
+      { id: "shed", name: "Loco shed road" },
       { id: "branch", name: "Quarry branch" },
     ],
     detectors: [
@@ -45,30 +55,40 @@ export function kestrelBankLayout(): LayoutFile {
       { id: "JX", name: "Junction exit", line: "main", at: 19.5 },
       { id: "BA", name: "Branch approach", line: "branch", at: 2.5 },
       { id: "BE", name: "Branch entry", line: "branch", at: 12.5 },
+      { id: "SA", name: "Shed approach", line: "shed", at: shed.approachDetectorAt },
+      { id: "SE", name: "Shed entry", line: "shed", at: shed.signalAt },
     ],
     signals: [
       { id: "M1", name: "Main home", line: "main", at: 14.0, aspects: ["danger", "clear"] },
       { id: "B1", name: "Branch home", line: "branch", at: 12.5, aspects: ["danger", "caution", "clear"] },
+      { id: "S1", name: "Shed exit", line: "shed", at: shed.signalAt, aspects: ["danger", "clear"] },
     ],
-    points: [{ id: "P1", name: "Bank points", line: "main", at: 16.0 }],
+    points: [
+      { id: "P1", name: "Bank points", line: "main", at: 16.0 },
+      { id: "P3", name: "Shed points", line: "main", at: SHED_POINTS_MAIN_AT_M },
+    ],
     nodes: [
       { id: "bank-foot", name: "Bank foot board", detectors: ["MA"], signals: [] },
       { id: "junction", name: "Junction board", detectors: ["ME", "JX"], signals: ["M1"] },
       { id: "quarry", name: "Quarry board", detectors: ["BA", "BE"], signals: ["B1"] },
+      { id: "shed", name: "Loco shed board", detectors: ["SA", "SE"], signals: ["S1"] },
     ],
     schematic: {
       width: 640,
-      height: 240,
+      height: 290,
       tracks: [
         { line: "main", points: [[20, 160], [620, 160]] },
         { line: "branch", points: [[20, 60], [300, 60], [380, 160]] },
+        // The shed road joins from below, between the main home signal and the bank points.
+        { line: "shed", points: [[20, 240], [280, 240], [345, 160]] },
       ],
-      detectors: { MA: [100, 160], ME: [300, 160], JX: [450, 160], BA: [60, 60], BE: [250, 60] },
-      signals: { M1: [300, 185], B1: [250, 35] },
-      points: { P1: [380, 160] },
+      detectors: { MA: [100, 160], ME: [300, 160], JX: [450, 160], BA: [60, 60], BE: [250, 60], SA: [150, 240], SE: [235, 240] },
+      signals: { M1: [300, 185], B1: [250, 35], S1: [235, 265] },
+      points: { P1: [380, 160], P3: [345, 160] },
       labels: [
         { text: "to Fernmoor", at: [20, 200] },
         { text: "quarry", at: [20, 40] },
+        { text: "loco shed", at: [20, 280] },
         { text: "up the bank (1 in 40)", at: [520, 200] },
       ],
     },
@@ -76,6 +96,7 @@ export function kestrelBankLayout(): LayoutFile {
       routes: [
         { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
         { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+        { id: "shed", signal: "S1", approach: ["SA"], entry: "SE", exit: ["JX"] },
       ],
       order: "priority",
       priority: "main",

@@ -22,8 +22,8 @@ function deepCondition(depth: number): unknown {
   return condition;
 }
 
-/** The demo junction's state is 8 values a step: the most inputs its simulation may have. */
-const LARGEST_KESTREL = Math.floor(MAX_OUTPUT_CELLS / 8);
+/** The demo junction's state is 10 values a step (three routes): the most inputs its simulation may have. */
+const LARGEST_KESTREL = Math.floor(MAX_OUTPUT_CELLS / 10);
 const pulses = (n: number) => Array.from({ length: n }, (_, i) => ({ type: "pulse", detector: i % 2 ? "ME" : "MA", at: i * 1000 }));
 
 describe("bounded requests", () => {

@@ -77,6 +77,7 @@ describe("junction templates", () => {
         routes: [
           { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
           { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+          { id: "shed", signal: "S1", approach: ["SA"], entry: "SE", exit: ["JX"] },
         ],
         order: "priority",
         priority: "main",

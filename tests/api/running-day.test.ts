@@ -83,7 +83,7 @@ describe("running day: alarm settings, board roll call, session control", () => 
     await waitFor(async () => (await rollCall(t.deps)) > 0, "the roll call", 5_000);
     const alarms = (await signaller.get(`/api/layouts/${SLUG}/alarms`)).body.alarms as { kind: string; subject: string; message: string }[];
     const missing = alarms.filter((a) => a.kind === "node-offline" && a.message.includes("has not connected")).map((a) => a.subject).sort();
-    expect(missing).toEqual(["junction", "quarry"]);
+    expect(missing).toEqual(["junction", "quarry", "shed"]);
 
     const closed = await signaller.post(`/api/layouts/${SLUG}/sessions`).send({ action: "close", note: "Last train stabled" });
     expect(closed.status).toBe(200);

@@ -102,7 +102,7 @@ describe.skipIf(!built || !chromiumAvailable())("control room in the browser", (
   it("the simulator draws the same mimic", async () => {
     await page.goto(`${live.httpUrl}/layouts/${SLUG}/simulate`);
     await page.locator('svg [data-signal="M1"]').waitFor();
-    expect(await page.locator("svg [data-detector]").count()).toBe(5);
+    expect(await page.locator("svg [data-detector]").count()).toBe(7);
     await page.screenshot({ path: path.join(ARTIFACTS, "simulator.png"), fullPage: true });
   });
 

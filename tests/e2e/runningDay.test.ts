@@ -37,9 +37,9 @@ describe.skipIf(!built || !chromiumAvailable())("the running day in the browser"
     t = await startTestApp({ config: { serveClient: true } });
     live = await startLiveHarness(t);
     // The quarry board is registered but never connects.
-    const secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction, KESTREL_BOARDS.quarry]);
+    const secrets = await issueBoardSecrets(t, SLUG, [KESTREL_BOARDS.bankFoot, KESTREL_BOARDS.junction, KESTREL_BOARDS.quarry, KESTREL_BOARDS.shed]);
     boards = {};
-    for (const id of ["bank-foot", "junction"]) {
+    for (const id of ["bank-foot", "junction", "shed"]) {
       boards[id] = await connectBoard(live.mqttUrl, SLUG, id, secrets.get(id)!);
       await boards[id].publish(`blocklight/v1/${SLUG}/node/${id}/status`, JSON.stringify({ online: true, boot: boards[id].boot }));
     }
@@ -60,7 +60,7 @@ describe.skipIf(!built || !chromiumAvailable())("the running day in the browser"
     const day = new RunningDayPanel(page);
     await livePage.open(SLUG);
     await day.waitForStatus("boards-offline");
-    expect(await day.layoutStatus().innerText()).toContain("1 board of 3 offline: quarry");
+    expect(await day.layoutStatus().innerText()).toContain("1 board of 4 offline: quarry");
     expect(await livePage.aspectOf("B1")).toBe("dark");
     expect(await livePage.aspectOf("M1")).toBe("danger");
     expect(await day.stateRow("B1").innerText()).toContain("offline: lamp unknown");

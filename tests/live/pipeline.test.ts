@@ -50,7 +50,7 @@ describe("live pipeline", () => {
     const joined = await join(browser.socket, SLUG);
     expect(joined.ok).toBe(true);
     const startVersion = joined.ok ? joined.data.version : 0;
-    expect(joined.ok && joined.data.shown).toEqual({ M1: "danger", B1: "danger" });
+    expect(joined.ok && joined.data.shown).toEqual({ M1: "danger", B1: "danger", S1: "danger" });
 
     const bankFoot = await connectBoard(h.mqttUrl, SLUG, "bank-foot", secrets.get("bank-foot")!);
     const junction = await connectBoard(h.mqttUrl, SLUG, "junction", secrets.get("junction")!);
@@ -99,7 +99,7 @@ describe("live pipeline", () => {
 
     const live = await request(t.app).get(`/api/layouts/${SLUG}/live`).set("Cookie", signallerCookie);
     expect(live.status).toBe(200);
-    expect(live.body.counters).toEqual({ mainApproach: 0, branchApproach: 0, junction: 0 });
+    expect(live.body.counters).toEqual({ mainApproach: 0, branchApproach: 0, shedApproach: 0, junction: 0 });
     expect(live.body.session.id).toBe(events[0].session_id);
 
     browser.socket.disconnect();

@@ -194,6 +194,7 @@ export const KESTREL_BOARDS = {
   bankFoot: ["bank-foot", ["MA"], []],
   junction: ["junction", ["ME", "JX"], ["M1"]],
   quarry: ["quarry", ["BA", "BE"], ["B1"]],
+  shed: ["shed", ["SA", "SE"], ["S1"]],
 } as const satisfies Record<string, readonly [string, readonly string[], readonly string[]]>;
 
 /**

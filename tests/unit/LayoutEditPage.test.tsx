@@ -60,7 +60,7 @@ describe("the workbench page", () => {
     const put = calls.find((c) => c.method === "PUT")!;
     expect(put.url).toBe("/api/layouts/kestrel-bank");
     expect(put.body).toMatchObject({ format: "blocklight.layout/1", slug: "kestrel-bank", revision: 3 });
-    expect((put.body as { detectors: { id: string }[] }).detectors.map((d) => d.id)).toEqual(["MA", "ME", "BA", "BE"]);
+    expect((put.body as { detectors: { id: string }[] }).detectors.map((d) => d.id)).toEqual(["MA", "ME", "BA", "BE", "SA", "SE"]);
     expect((put.body as { nodes: { id: string; detectors: string[] }[] }).nodes.find((n) => n.id === "junction")?.detectors).toEqual(["ME"]);
     expect(Object.keys(put.body as object)).toEqual(["format", "slug", "name", "scale", "lines", "detectors", "signals", "points", "nodes", "schematic", "revision"]);
     expect(alert).toBeTruthy();

@@ -64,7 +64,7 @@ describe("Mimic", () => {
 
   it("draws a layout without a schematic automatically", () => {
     const { container } = render(<Mimic title="Kestrel" layout={noSchematic} state={{ shown: { M1: "clear" } }} />);
-    expect(container.querySelectorAll("[data-signal]")).toHaveLength(2);
+    expect(container.querySelectorAll("[data-signal]")).toHaveLength(kestrel.signals.length);
     expect(container.querySelectorAll("polyline").length).toBeGreaterThanOrEqual(2);
   });
 });
@@ -82,14 +82,17 @@ describe("mimic geometry", () => {
     const main = g.tracks.find((t) => t.line === "main")!.points;
     const branch = g.tracks.find((t) => t.line === "branch")!.points;
     expect(main.every((p) => p[1] === main[0][1])).toBe(true);
+    const shed = g.tracks.find((t) => t.line === "shed")!.points;
     expect(branch[branch.length - 1]).toEqual(g.points.P1);
+    expect(shed[shed.length - 1]).toEqual(g.points.P3);
     expect(g.detectors.MA[0]).toBeLessThan(g.detectors.ME[0]);
     expect(g.detectors.ME[0]).toBeLessThan(g.detectors.JX[0]);
   });
 
   it("accepts the straight-line shorthand", () => {
-    const g = layoutGeometry({ ...kestrel, schematic: { lines: { main: { x0: 0, y0: 0, x1: 1000, y1: 0 }, branch: { x0: 0, y0: -100, x1: 500, y1: 0 } } } });
-    expect(g.tracks).toHaveLength(2);
+    const lines = { main: { x0: 0, y0: 0, x1: 1000, y1: 0 }, branch: { x0: 0, y0: -100, x1: 500, y1: 0 }, shed: { x0: 0, y0: 100, x1: 450, y1: 0 } };
+    const g = layoutGeometry({ ...kestrel, schematic: { lines } });
+    expect(g.tracks).toHaveLength(3);
     expect(g.detectors.MA[1]).toBe(0);
   });
 

@@ -2,7 +2,7 @@
 import { cleanup, fireEvent, render, screen, within } from "@testing-library/react";
 import { useState } from "react";
 import { afterEach, describe, expect, it, vi } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import type { Condition, Rulebook } from "../../shared/rulebook/schema";
 import type { RulebookContext } from "../../shared/rulebook/validate";
 import { RuleFormEditor } from "../../src/components/rulebook/form/RuleFormEditor";
@@ -19,7 +19,7 @@ import {
 
 afterEach(cleanup);
 
-const layout = kestrelBankLayout();
+const layout = kestrelTwoRoutesLayout();
 const context: RulebookContext = {
   detectors: layout.detectors.map((d) => d.id),
   signals: layout.signals.map((s) => ({ id: s.id, aspects: s.aspects })),

@@ -1,9 +1,9 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { initialState, shownAspects, step, type Change, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 
-const kestrel = kestrelBankLayout().rulebook;
+const kestrel = kestrelTwoRoutesLayout().rulebook;
 
 /** Plays pulses one second apart (or the given inputs) and keeps every step. */
 function play(rulebook: Rulebook, inputs: (string | EngineInput)[], from?: EngineState) {

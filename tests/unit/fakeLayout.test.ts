@@ -14,7 +14,7 @@ import { checkScenarioAgainstLayout, loadScenarioFile, parseScenario, ScenarioIn
 import type { AspectPayload } from "../../shared/contract/live";
 import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import type { LayoutFile } from "../../shared/layout/schema";
-import { initialState, shownAspects, step, type Change } from "../../shared/rulebook/engine";
+import { playFakeDay } from "../support/fakeDay";
 
 const SCENARIO_DIR = path.resolve(__dirname, "../../broker/fakeLayout/scenarios");
 const MINUTE_MS = 60_000;
@@ -134,16 +134,37 @@ describe("fake layout player: obeying aspects", () => {
     expect(pulses().map((p) => p.detector)).not.toContain("ME");
   });
 
-  it("lets the following train wait behind the one standing at the signal", () => {
+  it("keeps the following train off the approach while the one ahead stands at the signal, then lets it on", () => {
     const { scheduler, player, pulses } = setUp(kestrelBankLayout(), oneTrain({ axles: 4, repeat: { everyS: 5, count: 2 } }));
     player.start();
     player.onAspect("junction", "M1", aspect("danger", 1));
     scheduler.advanceBy(5 * MINUTE_MS);
     const [first, second] = player.snapshot();
     expect(first.lead).toBeCloseTo(10 - STOP_SHORT_M, 6);
-    expect(second.stopped).toBe(true);
-    expect(second.lead).toBeLessThan(first.lead - 3 * 0.3);
+    expect(second).toMatchObject({ stopped: true, lead: expect.closeTo(-STOP_SHORT_M, 6) });
+    expect(pulses().filter((p) => p.detector === "MA")).toHaveLength(4);
+
+    player.onAspect("junction", "M1", aspect("clear", 2));
+    scheduler.advanceBy(10_000);
+    // The first train's last axle is past M1 (it went back to danger behind it): the second is let on.
+    player.onAspect("junction", "M1", aspect("danger", 3));
+    scheduler.advanceBy(MINUTE_MS);
     expect(pulses().filter((p) => p.detector === "MA")).toHaveLength(8);
+    expect(player.snapshot().at(-1)).toMatchObject({ stopped: true, lead: expect.closeTo(10 - STOP_SHORT_M, 6) });
+  });
+
+  it("holds a train off a route that already has as many trains as the rulebook is proved for", () => {
+    const layout = kestrelBankLayout();
+    const max = layout.rulebook.proving!.maxTrainsPerRoute;
+    const { scheduler, player, events } = setUp(layout, oneTrain({ axles: 2, repeat: { everyS: 1, count: max + 2 } }));
+    player.start();
+    scheduler.advanceBy(5 * MINUTE_MS);
+    expect(player.snapshot()).toHaveLength(max);
+    expect(events.filter((e) => e.type === "appears")).toHaveLength(max);
+    player.onAspect("junction", "M1", aspect("clear", 1));
+    scheduler.advanceBy(5 * MINUTE_MS);
+    expect(events.filter((e) => e.type === "appears")).toHaveLength(max + 2);
+    expect(events.filter((e) => e.type === "leaves")).toHaveLength(max + 2);
   });
 
   it("reports lamp proving from the board that serves the signal only", () => {
@@ -199,53 +220,10 @@ describe("scenario validation", () => {
   });
 });
 
-/** The rulebook engine standing in for the server: pulses in, aspect commands out. */
 function playWithEngine(layout: LayoutFile, scenarioFile: string, durationMs: number) {
-  const scenario = loadScenarioFile(scenarioFile);
-  checkScenarioAgainstLayout(scenario, layout);
-  const rulebook = layout.rulebook;
-  let state = initialState(rulebook, 0);
-  let rev = 0;
-  const changes: Change[] = [];
-  const { scheduler, player, sent, events } = setUp(layout, scenario);
-  const publish = (shown: Record<string, string>) => {
-    rev++;
-    for (const [signal, value] of Object.entries(shown)) {
-      // Delivered a little later, as over MQTT, to every board.
-      scheduler.after(5, () => layout.nodes.forEach((n) => player.onAspect(n.id, signal, aspect(value as AspectPayload["aspect"], rev))));
-    }
-  };
-  let lastShown = shownAspects(rulebook, state);
-  const send = sent.push.bind(sent);
-  sent.push = (...messages: OutMessage[]) => {
-    for (const m of messages) {
-      if (m.kind === "shown") continue;
-      const input =
-        m.kind === "pulse"
-          ? ({ type: "pulse", detector: m.payload.detector, at: scheduler.now() } as const)
-          : ({ type: "points", points: m.payload.points, lies: m.payload.lies, at: scheduler.now() } as const);
-      const result = step(rulebook, state, input);
-      state = result.state;
-      changes.push(...result.changes);
-      // A throw goes out as a points command to the board that drives the points, a little later.
-      for (const c of result.changes) {
-        if (c.kind !== "throw") continue;
-        const to = c.to as "normal" | "reverse";
-        const node = layout.nodes.find((n) => n.points?.includes(c.name));
-        const setRev = ++rev;
-        if (node) scheduler.after(5, () => player.onPointsSet(node.id, c.name, { to, rev: setRev, at: "2026-05-02T10:00:00.000Z" }));
-      }
-      const shown = shownAspects(rulebook, state);
-      const changed = Object.fromEntries(Object.entries(shown).filter(([s, a]) => lastShown[s] !== a));
-      lastShown = shown;
-      if (Object.keys(changed).length) publish(changed);
-    }
-    return send(...messages);
-  };
-  player.start();
-  publish(lastShown);
-  scheduler.advanceBy(durationMs);
-  return { events, changes, state, sent };
+  const day = playFakeDay(layout, loadScenarioFile(scenarioFile));
+  day.scheduler.advanceBy(durationMs);
+  return { events: day.events, changes: day.changes, state: day.state(), sent: day.sent };
 }
 
 describe("demo scenarios played against the rulebook", () => {

@@ -1,10 +1,11 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { convergingOptionsSchema, facingOptionsSchema } from "../../shared/rulebook/templateCatalog";
 import { fieldOfPath, initialValues, optionsOf } from "../../src/components/junction/roleForm";
 import { detectorsOn, guessRoute } from "../../src/lib/junctionRoles";
 
-const kestrel = kestrelBankLayout();
+const kestrel = kestrelTwoRoutesLayout();
 const wrenfold = wrenfoldLoopLayout();
 
 describe("junction roles from the layout's records", () => {

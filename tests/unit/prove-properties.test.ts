@@ -8,7 +8,7 @@ import { describe, expect, it } from "vitest";
 import { shownAspects } from "../../shared/rulebook/engine";
 import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "../../shared/rulebook/prove";
 import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "../../shared/rulebook/schema";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
 import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
@@ -551,9 +551,10 @@ describe("the prover proves sound rulebooks", () => {
     expect(prove(layout.rulebook, { points }).verdict).toBe("proved");
   });
 
-  it("the Kestrel Bank demo is proved for 8-axle trains, 2 at once on each route", () => {
+  it("the Kestrel Bank demo (three routes) is proved for the trains its fake layout runs: 4 axles, 2 at once on each route", () => {
     const layout = kestrelBankLayout();
-    expect(layout.rulebook.proving).toMatchObject({ maxAxles: 8, maxTrainsPerRoute: 2 });
+    expect(layout.rulebook.proving).toMatchObject({ maxAxles: KESTREL_MAX_AXLES, maxTrainsPerRoute: KESTREL_MAX_TRAINS });
+    expect(layout.rulebook.proving!.routes.map((r) => r.id)).toEqual(["main", "branch", "shed"]);
     expect(prove(layout.rulebook).verdict).toBe("proved");
   }, 60_000);
 

@@ -3,13 +3,13 @@
  * step by step; and where a what-if run starts.
  */
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import type { EngineInput } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { carryStartState, compareRuns, playbackDelayMs, runSession } from "../../src/lib/replay";
 import { startEntry } from "../../src/lib/simulation";
 
-const base = (): Rulebook => kestrelBankLayout().rulebook;
+const base = (): Rulebook => kestrelTwoRoutesLayout().rulebook;
 
 /** A draft that never gives the branch a proceed: the branch signal stays at danger. */
 function branchNeverClears(): Rulebook {

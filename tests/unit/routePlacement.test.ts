@@ -14,10 +14,13 @@ describe("placement against the layout's own positions", () => {
   it("measures each route's approach detector to its signal and finds 10 m enough at 25 km/h", () => {
     const result = check();
     expect(result.required.totalM).toBeCloseTo(approachDistance({ ...GOODS, ratio: 22.5 }).totalM, 9);
-    expect(result.routes.map((r) => [r.route, r.approach.detector, r.approach.actualM, r.approach.ok])).toEqual([
-      ["main", "MA", 10, true],
-      ["branch", "BA", 10, true],
+    expect(result.routes.map((r) => [r.route, r.approach.detector, r.approach.ok])).toEqual([
+      ["main", "MA", true],
+      ["branch", "BA", true],
+      ["shed", "SA", true],
     ]);
+    // The shed road's approach is placed for its own, slower speed (kestrelShedRoad.ts), still enough at 25 km/h.
+    expect(result.routes.map((r) => r.approach.actualM)).toEqual([10, 10, expect.closeTo(1.29, 9)]);
     expect(result.routes[0].approach.message).toMatch(/10\.00 m before signal M1/);
   });
 
@@ -47,11 +50,13 @@ describe("placement against the layout's own positions", () => {
 
   it("checks the clearance detector beyond the points against the rear overhang and the longest train", () => {
     const result = check({ clearance: { longestTrainM: 2.4, rearOverhangM: 0.15, nextStopAt: { main: 30 } } });
-    const [main, branch] = result.routes.map((r) => r.clearance!);
+    const [main, branch, shed] = result.routes.map((r) => r.clearance!);
     expect(main).toMatchObject({ detector: "JX", foulingPointAt: 16, foulingPointFrom: "points P1", ok: true });
     expect(main.findings).toHaveLength(2);
-    // The branch joins the main line: its exit is measured on the main line, the same way up.
+    // The branch and the shed road join the main line: their exit is measured on the main line,
+    // the same way up, from the bank points (nearer JX than the shed points).
     expect(branch).toMatchObject({ detector: "JX", foulingPointAt: 16, ok: true });
+    expect(shed).toMatchObject({ detector: "JX", foulingPointAt: 16, foulingPointFrom: "points P1", ok: true });
 
     const tight = check({ clearance: { longestTrainM: 5, rearOverhangM: 4, foulingPointAt: { main: 17 }, nextStopAt: { main: 20 } } }).routes[0].clearance!;
     expect(tight).toMatchObject({ foulingPointAt: 17, foulingPointFrom: "given", ok: false });

@@ -1,16 +1,17 @@
 import { describe, expect, it } from "vitest";
-import { KESTREL_MAX_AXLES, kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "../../shared/rulebook/diff";
 import type { Rule, Rulebook } from "../../shared/rulebook/schema";
 
-/** A fresh copy of the Kestrel Bank demo rulebook each time, so edits never leak between rows. */
+/** A fresh two-route junction (the demo without its shed road) each time, so edits never leak between rows. */
 function kestrel(): Rulebook {
-  return structuredClone(kestrelBankLayout().rulebook);
+  return structuredClone(kestrelTwoRoutesLayout().rulebook);
 }
 
 function ruleOf(rulebook: Rulebook, id: string): Rule {
   const rule = rulebook.rules.find((r) => r.id === id);
-  if (!rule) throw new Error(`no rule ${id} in the demo rulebook`);
+  if (!rule) throw new Error(`no rule ${id} in the rulebook`);
   return rule;
 }
 

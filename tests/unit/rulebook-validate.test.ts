@@ -1,11 +1,12 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { toJsonPath, validateLayoutFile, validateRulebookFile } from "../../shared/rulebook/validate";
 
 /** A fresh, plain-JSON Kestrel Bank layout to break. */
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- tests poke at arbitrary JSON
 type Json = any;
-const kestrel = (): Json => JSON.parse(JSON.stringify(kestrelBankLayout()));
+const kestrel = (): Json => JSON.parse(JSON.stringify(kestrelTwoRoutesLayout()));
 
 function errorPaths(input: unknown): string[] {
   const result = validateLayoutFile(input);
@@ -14,7 +15,7 @@ function errorPaths(input: unknown): string[] {
 
 describe("validateLayoutFile", () => {
   it.each([
-    ["the demo layouts", kestrelBankLayout()],
+    ["the demo layouts", kestrelTwoRoutesLayout()],
     ["Wrenfold Loop", wrenfoldLoopLayout()],
   ])("accepts %s", (_name, layout) => {
     const result = validateLayoutFile(JSON.parse(JSON.stringify(layout)));

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
 import { layoutGeometry, labelKey, LABEL_FONT } from "../../src/components/mimic/geometry";
 import { addTrack, insertVertex, migrateForEditing, moveItemTo, moveLabel, moveVertex, placeNewItem, removeVertex, setItemAt, type DrawingDoc } from "../../src/components/schematic/edits";
 import { emptySchematic, parseSchematic, serializeSchematic, type Pt } from "../../src/components/schematic/format";
@@ -179,7 +179,7 @@ describe("editing a drawing", () => {
 
 describe("older drawings", () => {
   it("reads a version 1 schematic and migrates it without moving the tracks or signal lamps", () => {
-    const kestrel = kestrelBankLayout();
+    const kestrel = kestrelTwoRoutesLayout();
     const before = layoutGeometry(kestrel);
     const { doc: migrated, moved } = migrateForEditing({ ...kestrel, schematic: parseSchematic(kestrel.schematic) });
     expect(moved).toBe(6); // five detectors and one points were pinned by hand
@@ -205,7 +205,7 @@ describe("older drawings", () => {
 
 describe("automatic drawing", () => {
   it.each([
-    ["Kestrel Bank without a schematic", () => ({ ...kestrelBankLayout(), schematic: undefined })],
+    ["Kestrel Bank without a schematic", () => ({ ...kestrelTwoRoutesLayout(), schematic: undefined })],
     [
       "a crowded line",
       () => ({

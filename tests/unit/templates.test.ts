@@ -34,10 +34,24 @@ describe("templates validate", () => {
     expect(result.ok ? [] : result.errors).toEqual([]);
   });
 
-  it("the Kestrel Bank rulebook is the priority template", () => {
-    const demo = converging("priority", KESTREL_MAX_AXLES);
-    demo.proving!.maxTrainsPerRoute = KESTREL_MAX_TRAINS;
+  it("the Kestrel Bank rulebook is the priority template over its three routes, main line first", () => {
+    const demo = convergingJunction({
+      routes: [
+        { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
+        { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
+        { id: "shed", signal: "S1", approach: ["SA"], entry: "SE", exit: ["JX"] },
+      ],
+      order: "priority",
+      priority: "main",
+      maxAxles: KESTREL_MAX_AXLES,
+      maxTrainsPerRoute: KESTREL_MAX_TRAINS,
+    });
     expect(kestrelBankLayout().rulebook).toEqual(demo);
+    expect(demo.proving!.conflicts).toEqual([
+      ["main", "branch"],
+      ["main", "shed"],
+      ["branch", "shed"],
+    ]);
   });
 
   it.each([
