@@ -55,13 +55,14 @@ const label = (p: SpinProperty): string => p.replace(/-/g, "_");
  * last thrown (`pt_i`), and per facing group (routes with one signal, approach and entry; a
  * plain route is a group of one) `n_g` trains in slots `ax_g[]` (axles), `rt_g[]` (route: 0
  * until fixed at entry, else 1 + its place in the group) and `pos_g[]` (detectors crossed by
- * each axle, slot-major). `init` starts the rulebook and then
- * loops over every environment move, each one `atomic` and followed by the property asserts.
+ * each axle, slot-major). `init` starts the rulebook and then loops over every environment
+ * move, each one `atomic`: the move's nondeterministic choice, then one `d_step` running the
+ * engine and the property asserts.
  */
 export function toPromela(rulebook: Rulebook, options: PromelaOptions = {}): string {
   const out: string[] = [];
-  emitModel(rulebook, "", out, options);
-  out.push(`init { main() }`);
+  const main = emitModel(rulebook, "", out, options);
+  out.push(`init {`, ...main, `}`);
   return out.join("\n") + "\n";
 }
 
@@ -72,8 +73,8 @@ export function toPromela(rulebook: Rulebook, options: PromelaOptions = {}): str
  */
 export function toPromelaBatch(rulebooks: Rulebook[], options: PromelaOptions[] = []): string {
   const out: string[] = [];
-  rulebooks.forEach((rulebook, i) => emitModel(rulebook, `r${i}_`, out, options[i] ?? {}));
-  out.push(`init {`, `  if`, ...rulebooks.map((_, i) => `  :: r${i}_main()`), `  fi`, `}`);
+  const mains = rulebooks.map((rulebook, i) => emitModel(rulebook, `r${i}_`, out, options[i] ?? {}));
+  out.push(`init {`, `  if`, ...mains.flatMap(([first, ...rest]) => [`  :: ${first.trim()}`, ...rest]), `  fi`, `}`);
   return out.join("\n") + "\n";
 }
 
@@ -88,7 +89,12 @@ export interface PromelaOptions {
 /** Keeps user text (rule ids, names) from ending a Promela comment early. */
 const commentSafe = (text: string): string => text.replace(/\*\//g, "* /").replace(/[\r\n]/g, " ");
 
-function emitModel(rulebook: Rulebook, P: string, out: string[], options: PromelaOptions): void {
+/**
+ * Emits the declarations and inlines of `rulebook`'s model into `out` and returns the body of its
+ * main process (the start, then the loop of moves). The body goes straight into `init`, not into
+ * an inline: SPIN limits an inline's text (64 KB), which the moves of 8-axle trains exceed.
+ */
+function emitModel(rulebook: Rulebook, P: string, out: string[], options: PromelaOptions): string[] {
   const proving = rulebook.proving;
   if (!proving) throw new Error("the rulebook has no proving section");
   const maxAxles = proving.maxAxles ?? 2;
@@ -140,8 +146,9 @@ function emitModel(rulebook: Rulebook, P: string, out: string[], options: Promel
   const pointsInput = (p: number, code: number): number => quietBase + quietRules.length + 3 * p + code - 1;
   const NO_INPUT = 255;
 
+  let sink = out;
   const emit = (line = ""): void => {
-    out.push(line);
+    sink.push(line);
   };
   const shownProceed = (signal: string): string => `(!${P}faulted && ${wanted(signal)} != 0)`;
   const assertOnce = (p: SpinProperty, ok: string): void => {
@@ -301,7 +308,8 @@ function emitModel(rulebook: Rulebook, P: string, out: string[], options: Promel
     for (const { r, i } of mine) emit(`    ${P}sel_${i} = ${cond(r.if)}; /* rule ${commentSafe(r.id)} */`);
     for (const { r, i } of mine) emit(`    if :: ${P}sel_${i} -> ${actions(r.do)} :: else -> skip fi;`);
     for (const q of quietRules.filter((r) => (r.on as { quiet: string }).quiet === d)) emit(`    ${quiet(q.id)} = 1;`);
-    emit(`    ${P}settle()`);
+    // No settle here: engine_input settles after every input (one copy of settle per step).
+    emit(`    skip`);
     emit(`  :: else -> skip`);
     emit(`  fi`);
     emit(`}`);
@@ -358,22 +366,24 @@ function emitModel(rulebook: Rulebook, P: string, out: string[], options: Promel
   emit(`}`);
   emit();
   const endLabel = `${P}branch_ends`;
-  emit(`inline ${P}main() {`);
+  const main: string[] = [];
+  sink = main;
   // The start (§5): initial values, settle, then each modelled points reported normal once, in id order.
   const startReports = modelled.map((_, pi) => `${P}inp = ${pointsInput(pi, 1)}; ${P}engine_input(); `).join("");
+  // (atomic, not d_step: it runs once, and a d_step holding several engine steps can exceed SPIN's size limit.)
   emit(`  atomic { ${P}uf = 0; ${P}inp = ${NO_INPUT}; ${P}engine_input(); ${startReports}${P}check() };`);
   emit(`  do`);
   emit(`  :: atomic {`);
   emit(`    if`);
   emitMoves(ctx, endLabel);
   emit(`    fi;`);
-  emit(`    ${P}uf = 0;`);
-  emit(`    ${P}engine_input();`);
-  emit(`    ${P}check()`);
+  // The engine step is deterministic: one d_step, so pan takes it as one transition (about a
+  // tenth of the steps of a plain atomic sequence, and one level of the search stack per move).
+  emit(`    d_step { ${P}uf = 0; ${P}engine_input(); ${P}check() }`);
   emit(`  }`);
   emit(`  od;`);
   emit(`${endLabel}: skip`);
-  emit(`}`);
+  return main;
 }
 
 /** What pan reported: the error count, which properties failed, and whether the search was complete. */
@@ -384,7 +394,7 @@ export interface PanReport {
   /** Violated properties of rulebook i of a batch (`toPromelaBatch`); absent = none. */
   byModel: Map<number, SpinProperty[]>;
   states: number;
-  /** False when pan ran out of memory or depth, so "no errors" is not a proof. */
+  /** False when pan ran out of memory or depth or was interrupted, so "no errors" is not a proof. */
   complete: boolean;
 }
 
@@ -405,7 +415,7 @@ export function parsePanOutput(text: string): PanReport {
   }
   const states = Number(/(\d+(?:e\+\d+)?) states, stored/.exec(text)?.[1] ?? NaN);
   const complete =
-    Number.isFinite(errors) && !/max search depth too small|out of memory|reached -DMEMLIM bound|aborted/i.test(text);
+    Number.isFinite(errors) && !/max search depth too small|out of memory|reached -DMEMLIM bound|aborted|interrupted|search not completed/i.test(text);
   const ordered = (set: Set<SpinProperty>): SpinProperty[] => SPIN_PROPERTIES.filter((p) => set.has(p));
   return {
     errors,

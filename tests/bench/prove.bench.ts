@@ -8,9 +8,13 @@
  *   and `prove.three_route_3x2_ms`, the largest three-route case that finishes quickly.
  * - `prove.wrenfold_power_ms`, `prove.wrenfold_hand_ms`: the facing template as at Wrenfold Loop
  *   (8 axles × 3 trains), power- and hand-worked points.
- * - `spin.*_ms`: SPIN 6.5.2 (Debian package spin) on the same model, `spin -a` + gcc -O2 -DSAFETY
- *   + pan, where the Promela model covers it (not the points environment yet: no Wrenfold figure);
- *   `spin.*_complete` is 0 when pan ran out of memory (1 GB) or depth, so its time is not a proof.
+ * - `spin.*`: SPIN 6.5.2 (Debian package spin) on the same rulebook and §5 environment (the
+ *   Promela model of shared/rulebook/promela.ts, points included), exhaustive (tests/support/spin.ts:
+ *   `spin -a` + gcc -O2 -DSAFETY -DNOREDUCE -DSC + pan, depth unbounded, hash table sized to the
+ *   states, 3 GB, 300 s): `_ms` wall time of compile + run, `_cpu_ms` their CPU time, `_complete`
+ *   1 only when pan searched every state (0: stopped by memory or time, so its time is no proof
+ *   and only a lower bound), `_states`, `_states_per_s`; and `prove_vs_spin.*_cpu`, our CPU time
+ *   over SPIN's (goal ≤ 1). SPIN explores the plain §5 environment: no lazy arrival or length.
  */
 import os from "node:os";
 import { kestrelBankLayout } from "../../shared/demo/fernmoor";
@@ -19,14 +23,16 @@ import { prove } from "../../shared/rulebook/prove";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { convergingJunction } from "../../shared/rulebook/templates";
 import { wrenfoldFacing } from "../fixtures/junctions";
-import { runSpin, spinAvailable } from "../support/spin";
+import { runSpin, spinAvailable, type SpinRun } from "../support/spin";
 import type { Report } from "./run";
 
 const now = (): number => performance.now();
 /** Past this a proof is reported unfinished (the server's own limit is 60 s). */
 const BENCH_PROOF_MAX_MS = 40_000;
-/** SPIN (compile + every pan run) is stopped after this and reported incomplete. */
-const BENCH_SPIN_MAX_MS = 120_000;
+/** pan is interrupted after this and reported incomplete. */
+const BENCH_SPIN_MAX_MS = 300_000;
+/** pan's memory limit in the bench (the machine has 23 GB, shared). */
+const BENCH_SPIN_MEMORY_MB = 3072;
 
 function threeRoutes(maxAxles: number, maxTrainsPerRoute: number): Rulebook {
   return convergingJunction({
@@ -50,8 +56,14 @@ function withTrains(rulebook: Rulebook, maxAxles: number, maxTrainsPerRoute: num
   return { ...rulebook, proving: { ...rulebook.proving!, maxAxles, maxTrainsPerRoute } };
 }
 
+/** Our CPU time on one proof, and whether it finished (for the comparison with SPIN). */
+interface Ours {
+  cpuMs: number;
+  proved: boolean;
+}
+
 /** One proof, with its figures under `name`. */
-function measure(report: Report, name: string, rulebook: Rulebook, points?: Record<string, "power" | "hand">): void {
+function measure(report: Report, name: string, rulebook: Rulebook, points?: Record<string, "power" | "hand">): Ours {
   let peakHeap = process.memoryUsage().heapUsed;
   const load = os.loadavg()[0];
   const cpu = process.cpuUsage();
@@ -71,16 +83,45 @@ function measure(report: Report, name: string, rulebook: Rulebook, points?: Reco
   report(`${name}_peak_heap_mb`, peakHeap / 1048576, "MB");
   report(`${name}_search_mb`, result.stats.bytes / 1048576, "MB");
   report(`${name}_load_avg`, load, "");
+  return { cpuMs, proved: result.verdict === "proved" };
 }
 
-/** `states`: the plain search's count where known (sizes pan's depth and hash table). */
-async function measureSpin(report: Report, name: string, rulebook: Rulebook, states?: number): Promise<void> {
+/**
+ * SPIN on the model of `rulebook`, figures under `spin.<name>`, beside our proof `ours`.
+ * `states`: the plain state count where known (sizes pan's hash table).
+ */
+async function measureSpin(
+  report: Report,
+  name: string,
+  ours: Ours,
+  rulebook: Rulebook,
+  options: { states?: number; points?: Record<string, "power" | "hand"> } = {},
+): Promise<void> {
+  const load = os.loadavg()[0];
   const started = now();
-  const spin = await runSpin(toPromela(rulebook), { optimise: true, states, timeoutMs: BENCH_SPIN_MAX_MS });
+  const spin: SpinRun = await runSpin(toPromela(rulebook, { points: options.points }), {
+    optimise: true,
+    states: options.states,
+    memoryMb: BENCH_SPIN_MEMORY_MB,
+    timeoutMs: BENCH_SPIN_MAX_MS,
+  });
+  const verdict = spin.complete
+    ? `complete, ${spin.errors} errors`
+    : `incomplete: stopped by ${spin.stoppedBy === "memory" ? `memory (${BENCH_SPIN_MEMORY_MB} MB)` : spin.stoppedBy === "time" ? `time (${BENCH_SPIN_MAX_MS / 1000} s)` : (spin.stoppedBy ?? "pan")}; its times are lower bounds`;
+  if (spin.complete && spin.errors > 0) throw new Error(`SPIN refutes ${name}: ${spin.violated.join(", ")}`);
   report(`spin.${name}_ms`, now() - started, "ms");
-  report(`spin.${name}_complete`, spin.complete ? 1 : 0, spin.complete ? `complete, ${spin.errors} errors` : "incomplete (memory or depth)");
+  report(`spin.${name}_compile_ms`, spin.compileMs, "ms");
+  report(`spin.${name}_cpu_ms`, spin.cpuMs, "ms");
+  report(`spin.${name}_complete`, spin.complete ? 1 : 0, verdict);
   report(`spin.${name}_states`, spin.states, "states");
-  report(`spin.${name}_load_avg`, os.loadavg()[0], "");
+  report(`spin.${name}_states_per_s`, Math.round(spin.states / (spin.panMs / 1000)), "states/s");
+  report(`spin.${name}_load_avg`, load, "");
+  const note = !ours.proved
+    ? "(goal ≤ 1; not comparable: our proof is unfinished)"
+    : spin.complete
+      ? "(goal ≤ 1)"
+      : "(goal ≤ 1; SPIN unfinished, so the true ratio is smaller)";
+  report(`prove_vs_spin.${name}_cpu`, ours.cpuMs / spin.cpuMs, note);
 }
 
 export async function run(report: Report): Promise<void> {
@@ -88,18 +129,23 @@ export async function run(report: Report): Promise<void> {
   // Warm up the JIT on a small case: the figures are the prover's, not V8's start-up.
   for (let i = 0; i < 5; i++) prove(withTrains(kestrel, 2, 2));
 
-  measure(report, "prove.kestrel_bank", kestrel);
-  measure(report, "prove.kestrel_bank_8x3", withTrains(kestrel, 8, 3));
-  measure(report, "prove.three_route_3x2", threeRoutes(3, 2));
-  measure(report, "prove.three_route_8x3", threeRoutes(8, 3));
-  measure(report, "prove.wrenfold_power", wrenfold("power"), { P2: "power" });
-  measure(report, "prove.wrenfold_hand", wrenfold("hand"), { P2: "hand" });
+  const ours = {
+    kestrel_bank: measure(report, "prove.kestrel_bank", kestrel),
+    kestrel_bank_8x3: measure(report, "prove.kestrel_bank_8x3", withTrains(kestrel, 8, 3)),
+    three_route_3x2: measure(report, "prove.three_route_3x2", threeRoutes(3, 2)),
+    three_route_8x3: measure(report, "prove.three_route_8x3", threeRoutes(8, 3)),
+    wrenfold_power: measure(report, "prove.wrenfold_power", wrenfold("power"), { P2: "power" }),
+    wrenfold_hand: measure(report, "prove.wrenfold_hand", wrenfold("hand"), { P2: "hand" }),
+  };
 
   if (await spinAvailable()) {
-    // Plain state counts measured with `plain: true` (docs/prover.md); unknown for 8 × 3.
-    await measureSpin(report, "kestrel_bank", kestrel, 9_800_000);
-    await measureSpin(report, "kestrel_bank_8x3", withTrains(kestrel, 8, 3), 100_000_000);
-    await measureSpin(report, "three_route_3x2", threeRoutes(3, 2), 1_327_147);
-    await measureSpin(report, "three_route_8x3", threeRoutes(8, 3), 100_000_000);
+    // Plain state counts as SPIN measured them (they size the hash table); unknown for 8 × 3,
+    // where the hash table gets the largest size the memory limit allows.
+    await measureSpin(report, "kestrel_bank", ours.kestrel_bank, kestrel, { states: 9_795_350 });
+    await measureSpin(report, "three_route_3x2", ours.three_route_3x2, threeRoutes(3, 2), { states: 1_327_148 });
+    await measureSpin(report, "wrenfold_power", ours.wrenfold_power, wrenfold("power"), { states: 459_812, points: { P2: "power" } });
+    await measureSpin(report, "wrenfold_hand", ours.wrenfold_hand, wrenfold("hand"), { states: 535_880, points: { P2: "hand" } });
+    await measureSpin(report, "kestrel_bank_8x3", ours.kestrel_bank_8x3, withTrains(kestrel, 8, 3), { states: 1e9 });
+    await measureSpin(report, "three_route_8x3", ours.three_route_8x3, threeRoutes(8, 3), { states: 1e9 });
   }
 }
