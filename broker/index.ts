@@ -12,6 +12,7 @@ import { configFromEnv } from "../server/config";
 import { createLogger } from "../server/logger";
 import { loadOrCreateSecret } from "../server/secrets";
 import { databaseAuthenticator } from "./auth";
+import { watchNodeCredentials } from "./credentialWatch";
 import { startBroker } from "./server";
 import { stopWhenLauncherGoes } from "../server/parentWatch";
 
@@ -24,7 +25,7 @@ async function main(): Promise<void> {
   // first start, and whichever write lands last is the one both sides use.
   const serverPassword = () => config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
   serverPassword();
-  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 4 });
+  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 5 });
   pool.on("error", (err) => logger.warn({ err }, "database connection lost; the next login reconnects"));
   const broker = await startBroker({
     port: config.mqttPort,
@@ -33,6 +34,8 @@ async function main(): Promise<void> {
     onRefusal: (refusal) => logger.warn(refusal, "MQTT refused"),
     onClient: (event, clientId, identity) => logger.info({ clientId, identity }, `MQTT client ${event}`),
   });
+  // One pool connection stays with the LISTEN of re-issued and removed board secrets.
+  const credentials = watchNodeCredentials({ pool, broker, onError: (err) => logger.warn({ err }, "watching board secrets: retrying") });
   logger.info({ port: broker.port }, "MQTT broker is up");
 
   let stopping = false;
@@ -40,6 +43,7 @@ async function main(): Promise<void> {
     if (stopping) return;
     stopping = true;
     logger.info({ signal }, "stopping the MQTT broker");
+    await credentials.stop();
     await broker.close();
     await pool.end();
     process.exit(0);
