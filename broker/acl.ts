@@ -20,6 +20,10 @@ export interface NodeCredential {
   secretHash: string;
 }
 
+/** The identity without its credential, for logs. */
+export const loggableIdentity = (identity: BrokerIdentity | undefined) =>
+  identity?.kind === "node" ? { kind: identity.kind, layout: identity.layout, node: identity.node } : identity;
+
 export const RESERVED_CLIENT_ID_PREFIX = "blocklight-";
 export const SERVER_CLIENT_ID_PREFIX = "blocklight-server";
 

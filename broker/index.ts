@@ -11,6 +11,7 @@ import pg from "pg";
 import { configFromEnv } from "../server/config";
 import { createLogger } from "../server/logger";
 import { loadOrCreateSecret } from "../server/secrets";
+import { loggableIdentity } from "./acl";
 import { databaseAuthenticator } from "./auth";
 import { watchNodeCredentials } from "./credentialWatch";
 import { startBroker } from "./server";
@@ -32,7 +33,7 @@ async function main(): Promise<void> {
     host: process.env.MQTT_HOST ?? "127.0.0.1",
     authenticate: databaseAuthenticator({ pool, serverUsername: config.serverMqttUsername, serverPassword }),
     onRefusal: (refusal) => logger.warn(refusal, "MQTT refused"),
-    onClient: (event, clientId, identity) => logger.info({ clientId, identity }, `MQTT client ${event}`),
+    onClient: (event, clientId, identity) => logger.info({ clientId, identity: loggableIdentity(identity) }, `MQTT client ${event}`),
   });
   // One pool connection stays with the LISTEN of re-issued and removed board secrets.
   const credentials = watchNodeCredentials({ pool, broker, onError: (err) => logger.warn({ err }, "watching board secrets: retrying") });
