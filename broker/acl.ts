@@ -12,7 +12,17 @@
 import { TOPIC_ROOT, topics } from "../shared/contract/live";
 import { filterWithin } from "../shared/contract/topicMatch";
 
-export type BrokerIdentity = { kind: "server" } | { kind: "node"; layout: string; node: string };
+export type BrokerIdentity = { kind: "server" } | { kind: "node"; layout: string; node: string; credential?: NodeCredential };
+
+/** Which stored secret let a board in: when it changes or goes, the connection must go too (broker/credentialWatch.ts). */
+export interface NodeCredential {
+  layoutId: number;
+  secretHash: string;
+}
+
+/** The identity without its credential, for logs. */
+export const loggableIdentity = (identity: BrokerIdentity | undefined) =>
+  identity?.kind === "node" ? { kind: identity.kind, layout: identity.layout, node: identity.node } : identity;
 
 export const RESERVED_CLIENT_ID_PREFIX = "blocklight-";
 export const SERVER_CLIENT_ID_PREFIX = "blocklight-server";

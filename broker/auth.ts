@@ -45,13 +45,19 @@ export function databaseAuthenticator(options: DbAuthOptions): Authenticate {
     for (const row of rows) {
       const checked = await checkNodeSecret(password, row.secret_hash);
       if (!checked.ok) continue;
+      let secretHash = row.secret_hash;
       if (checked.rehash) {
         // Only if nobody re-issued the secret meanwhile.
-        await options.pool
+        const replaced = await options.pool
           .query(`UPDATE nodes SET secret_hash = $1 WHERE layout_id = $2 AND node_id = $3 AND secret_hash = $4`, [checked.rehash, row.layout_id, row.node_id, row.secret_hash])
-          .catch((err: unknown) => options.onRehashError?.(err));
+          .then((r) => r.rowCount === 1)
+          .catch((err: unknown) => {
+            options.onRehashError?.(err);
+            return false;
+          });
+        if (replaced) secretHash = checked.rehash;
       }
-      return { kind: "node", layout: row.slug, node: row.node_id };
+      return { kind: "node", layout: row.slug, node: row.node_id, credential: { layoutId: row.layout_id, secretHash } };
     }
     return null;
   };

@@ -11,7 +11,9 @@ import pg from "pg";
 import { configFromEnv } from "../server/config";
 import { createLogger } from "../server/logger";
 import { loadOrCreateSecret } from "../server/secrets";
+import { loggableIdentity } from "./acl";
 import { databaseAuthenticator } from "./auth";
+import { watchNodeCredentials } from "./credentialWatch";
 import { startBroker } from "./server";
 import { stopWhenLauncherGoes } from "../server/parentWatch";
 
@@ -24,15 +26,17 @@ async function main(): Promise<void> {
   // first start, and whichever write lands last is the one both sides use.
   const serverPassword = () => config.serverMqttPassword || loadOrCreateSecret(config.dataDir, "server-mqtt");
   serverPassword();
-  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 4 });
+  const pool = new pg.Pool({ connectionString: config.databaseUrl, max: 5 });
   pool.on("error", (err) => logger.warn({ err }, "database connection lost; the next login reconnects"));
   const broker = await startBroker({
     port: config.mqttPort,
     host: process.env.MQTT_HOST ?? "127.0.0.1",
     authenticate: databaseAuthenticator({ pool, serverUsername: config.serverMqttUsername, serverPassword }),
     onRefusal: (refusal) => logger.warn(refusal, "MQTT refused"),
-    onClient: (event, clientId, identity) => logger.info({ clientId, identity }, `MQTT client ${event}`),
+    onClient: (event, clientId, identity) => logger.info({ clientId, identity: loggableIdentity(identity) }, `MQTT client ${event}`),
   });
+  // One pool connection stays with the LISTEN of re-issued and removed board secrets.
+  const credentials = watchNodeCredentials({ pool, broker, onError: (err) => logger.warn({ err }, "watching board secrets: retrying") });
   logger.info({ port: broker.port }, "MQTT broker is up");
 
   let stopping = false;
@@ -40,6 +44,7 @@ async function main(): Promise<void> {
     if (stopping) return;
     stopping = true;
     logger.info({ signal }, "stopping the MQTT broker");
+    await credentials.stop();
     await broker.close();
     await pool.end();
     process.exit(0);

@@ -45,9 +45,18 @@ export interface StartBrokerOptions {
   maxPacketBytes?: number;
 }
 
+export type NodeIdentity = Extract<BrokerIdentity, { kind: "node" }>;
+
 export interface RunningBroker {
   port: number;
   broker: Aedes;
+  /** The boards connected now, by identity. */
+  connectedNodes(): NodeIdentity[];
+  /**
+   * Drops every connected board `shouldGo` picks (not a clean disconnect, so its Last Will
+   * says it is offline) and returns their client ids.
+   */
+  disconnectNodes(shouldGo: (identity: NodeIdentity) => boolean, reason: string): string[];
   close(): Promise<void>;
 }
 
@@ -72,6 +81,7 @@ const CONNACK_SERVER_UNAVAILABLE = Buffer.from([0x20, 0x02, 0x00, SERVER_UNAVAIL
 export async function startBroker(options: StartBrokerOptions): Promise<RunningBroker> {
   const identities = new WeakMap<Client, BrokerIdentity>();
   const usernames = new WeakMap<Client, string>();
+  const connectedBoards = new Set<Client>();
   const addresses = new WeakMap<Duplex, string>();
   const limiter = new ConnectLimiter(options.connectLimits ?? DEFAULT_CONNECT_LIMITS);
   const maxPacketBytes = options.maxPacketBytes ?? MAX_PACKET_BYTES;
@@ -138,8 +148,18 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
     },
   });
 
-  broker.on("client", (client) => options.onClient?.("connected", client.id, identities.get(client)));
-  broker.on("clientDisconnect", (client) => options.onClient?.("disconnected", client.id, identities.get(client)));
+  broker.on("client", (client) => {
+    if (identities.get(client)?.kind === "node") connectedBoards.add(client);
+    options.onClient?.("connected", client.id, identities.get(client));
+  });
+  broker.on("clientDisconnect", (client) => {
+    connectedBoards.delete(client);
+    options.onClient?.("disconnected", client.id, identities.get(client));
+  });
+  const nodeIdentityOf = (client: Client) => {
+    const identity = identities.get(client);
+    return identity?.kind === "node" && !client.closed ? identity : null;
+  };
 
   // Small MQTT packets (a PUBACK, then an aspect command) must not wait for Nagle's
   // algorithm and the peer's delayed ACK: that alone adds ~40 ms per hop.
@@ -180,6 +200,19 @@ export async function startBroker(options: StartBrokerOptions): Promise<RunningB
   return {
     port,
     broker,
+    connectedNodes: () => [...connectedBoards].map(nodeIdentityOf).filter((identity): identity is NodeIdentity => identity !== null),
+    disconnectNodes(shouldGo, reason) {
+      const dropped: string[] = [];
+      for (const client of connectedBoards) {
+        const identity = nodeIdentityOf(client);
+        if (!identity || !shouldGo(identity)) continue;
+        refuse({ what: "connect", clientId: client.id, username: usernames.get(client) ?? null, reason });
+        connectedBoards.delete(client);
+        dropped.push(client.id);
+        client.close();
+      }
+      return dropped;
+    },
     close: () =>
       new Promise<void>((resolve) => {
         broker.close(() => server.close(() => resolve()));

@@ -15,6 +15,9 @@ import bcrypt from "bcryptjs";
 
 const PREFIX = "sha256:";
 
+/** PostgreSQL NOTIFY channel: a node's secret was re-issued or its record removed (migration 018). */
+export const NODE_CREDENTIALS_CHANNEL = "blocklight_node_credentials";
+
 export function hashNodeSecret(secret: string): string {
   return PREFIX + createHash("sha256").update(secret, "utf8").digest("base64url");
 }

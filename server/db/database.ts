@@ -14,6 +14,7 @@ import * as workbench from "./migrations/007-workbench";
 import * as groupedAlarms from "./migrations/009-grouped-alarms";
 import * as alarmSettings from "./migrations/010-alarm-settings";
 import * as replayedImports from "./migrations/014-replayed-imports";
+import * as nodeCredentialNotify from "./migrations/018-node-credential-notify";
 import { defineModels, type Models } from "./models";
 
 export interface Database {
@@ -33,6 +34,7 @@ const MIGRATIONS = [
   { name: "009-grouped-alarms", ...groupedAlarms },
   { name: "010-alarm-settings", ...alarmSettings },
   { name: "014-replayed-imports", ...replayedImports },
+  { name: "018-node-credential-notify", ...nodeCredentialNotify },
 ];
 
 export async function openDatabase(url: string, options: { poolMax?: number } = {}): Promise<Database> {

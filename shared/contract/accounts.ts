@@ -4,6 +4,7 @@
  * these schemas; the client's forms use the same ones.
  */
 import { z } from "zod";
+import { trimmedNameText } from "./nameText";
 import { roleSchema } from "./rest";
 
 /** Shown beside every new-password field before anyone gets it wrong. */
@@ -12,7 +13,8 @@ export const PASSWORD_MIN_CHARS = 10;
 export const passwordSchema = z.string().min(PASSWORD_MIN_CHARS, `use at least ${PASSWORD_MIN_CHARS} characters`).max(200, "use at most 200 characters");
 
 const emailSchema = z.string().trim().toLowerCase().email("that does not look like an e-mail address").max(200);
-const personNameSchema = z.string().trim().min(1, "give a name").max(120, "use at most 120 characters");
+const personNameSchema = trimmedNameText(120, "give a name");
+const societyNameSchema = trimmedNameText(120, "give the society's name");
 
 /** Reply to `GET /api/setup`. */
 export interface SetupStatus {
@@ -21,7 +23,7 @@ export interface SetupStatus {
 
 export const setupBodySchema = z.strictObject({
   token: z.string().min(1, "the setup link's token is missing").max(200),
-  society: z.string().trim().min(1, "give the society's name").max(120, "use at most 120 characters"),
+  society: societyNameSchema,
   name: personNameSchema,
   email: emailSchema,
   password: passwordSchema,
@@ -29,7 +31,7 @@ export const setupBodySchema = z.strictObject({
 export type SetupBody = z.infer<typeof setupBodySchema>;
 
 /** `PATCH /api/society` (admin): renaming the society, e.g. after moving from the demo. */
-export const societyBodySchema = z.strictObject({ name: z.string().trim().min(1, "give the society's name").max(120, "use at most 120 characters") });
+export const societyBodySchema = z.strictObject({ name: societyNameSchema });
 export type SocietyBody = z.infer<typeof societyBodySchema>;
 
 /** Reply to `GET /api/society`: the name shown in the header, in mail and on the display. */

@@ -7,6 +7,7 @@ import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../
 import type { ProvingRoute } from "../rulebook/schema";
 import type { AlarmDto, AlarmKind } from "./live";
 import { passwordSchema } from "./accounts";
+import { trimmedNameText } from "./nameText";
 import { roleSchema, type Role } from "./rest";
 
 export interface AuditEntryDto {
@@ -101,7 +102,7 @@ export const invitationBodySchema = z.strictObject({
 export type InvitationBody = z.infer<typeof invitationBodySchema>;
 
 export const acceptInvitationBodySchema = z.strictObject({
-  name: z.string().trim().min(1, "give your name").max(120),
+  name: trimmedNameText(120, "give your name"),
   password: passwordSchema,
 });
 export type AcceptInvitationBody = z.infer<typeof acceptInvitationBodySchema>;

@@ -16,10 +16,11 @@
 import { z } from "zod";
 import { layoutRecordsSchema, scaleSchema, slugSchema } from "../layout/schema";
 import type { Rulebook } from "../rulebook/schema";
+import { trimmedNameText } from "./nameText";
 
 export type { LayoutResponse, LayoutDetail } from "./rest";
 
-const nameText = z.string().trim().min(1, "must not be empty").max(120);
+const nameText = trimmedNameText(120, "must not be empty");
 
 /** `POST /api/layouts`: a new, empty layout (no records, no rulebook). */
 export const createLayoutBodySchema = z.strictObject({

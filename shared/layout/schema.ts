@@ -5,6 +5,9 @@
  */
 import { z } from "zod";
 import { aspectSchema, idSchema, rulebookSchema } from "../rulebook/schema";
+import { nameText as nameTextOf } from "../contract/nameText";
+
+const nameText = nameTextOf();
 
 export const LAYOUT_FORMAT = "blocklight.layout/1";
 
@@ -12,7 +15,6 @@ export const slugSchema = z
   .string()
   .regex(/^[a-z0-9][a-z0-9-]{0,62}$/, "must be lower-case letters, digits and '-', starting with a letter or digit");
 
-const nameText = z.string().min(1, "must not be empty").max(120);
 /** Metres of model track from the start of the line. */
 const metres = z.number().finite().min(0, "must not be negative");
 

@@ -10,6 +10,7 @@ import mqtt, { type MqttClient } from "mqtt";
 import type pg from "pg";
 import { io as ioClient, type Socket } from "socket.io-client";
 import { databaseAuthenticator } from "../../broker/auth";
+import { watchNodeCredentials, type CredentialWatch } from "../../broker/credentialWatch";
 import { ReferenceBoard, type ReferenceBoardOptions } from "../../broker/referenceBoard";
 import { startBroker, type BrokerRefusal, type RunningBroker } from "../../broker/server";
 import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "../../shared/contract/live";
@@ -25,6 +26,8 @@ export const SERVER_MQTT_USERNAME = "blocklight-server";
 
 export interface LiveHarness {
   broker: RunningBroker;
+  /** Drops boards whose secret was re-issued or whose node was removed, as the broker process does. */
+  credentials: CredentialWatch;
   runtime: LiveRuntime;
   refusals: BrokerRefusal[];
   mqttUrl: string;
@@ -37,7 +40,8 @@ export interface LiveHarness {
 
 export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions> = {}): Promise<LiveHarness> {
   const serverPassword = randomBytes(12).toString("hex");
-  const authPool: pg.Pool = poolFromDeps(t.deps, 2);
+  // One connection of the pool stays with the credential watch's LISTEN.
+  const authPool: pg.Pool = poolFromDeps(t.deps, 3);
   authPool.on("error", () => {}); // connections ended by an outage test
   const refusals: BrokerRefusal[] = [];
   const broker = await startBroker({
@@ -45,6 +49,7 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
     authenticate: databaseAuthenticator({ pool: authPool, serverUsername: SERVER_MQTT_USERNAME, serverPassword }),
     onRefusal: (r) => refusals.push(r),
   });
+  const credentials = watchNodeCredentials({ pool: authPool, broker });
   const mqttUrl = `mqtt://127.0.0.1:${broker.port}`;
   const startRuntime = async (options: Partial<RunnerOptions> = {}) => {
     const runtime = await startLiveRuntime({
@@ -64,6 +69,7 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
   const sockets = attachLiveSocket(server, t.deps);
   const harness: LiveHarness = {
     broker,
+    credentials,
     runtime: undefined as unknown as LiveRuntime,
     refusals,
     mqttUrl,
@@ -75,6 +81,7 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
       await sockets.close();
       server.closeAllConnections();
       await new Promise<void>((resolve) => server.close(() => resolve()));
+      await credentials.stop();
       await broker.close();
       await authPool.end();
     },

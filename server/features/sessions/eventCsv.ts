@@ -8,6 +8,7 @@
  */
 import type { ChangeDto } from "../../../shared/contract/live";
 import type { SessionEventDto } from "../../../shared/contract/sessions";
+import { guardFormula, unguardFormula } from "./csvFormula";
 
 /** The export's columns, in order. */
 export const EVENT_CSV_COLUMNS = [
@@ -45,7 +46,7 @@ export const REQUIRED_CSV_COLUMNS = ["receivedAt", "kind", "status"] as const;
 
 function csvCell(value: unknown): string {
   if (value === null || value === undefined) return "";
-  const text = typeof value === "string" ? value : typeof value === "number" || typeof value === "boolean" ? String(value) : JSON.stringify(value);
+  const text = typeof value === "string" ? guardFormula(value) : typeof value === "number" || typeof value === "boolean" ? String(value) : JSON.stringify(value);
   return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
@@ -109,7 +110,7 @@ export const EVENT_CSV_HEADER = EVENT_CSV_COLUMNS.join(",") + "\r\n";
 
 // ───────────────────────────── reading ─────────────────────────────
 
-/** RFC 4180 records with the physical line each starts on (a quoted cell may span lines). */
+/** RFC 4180 records with the physical line each starts on (a quoted cell may span lines); cells as the export guarded them (csvFormula.ts) are read as typed. */
 export function* csvRecords(text: string): Generator<{ line: number; cells: string[] }> {
   let line = 1;
   let start = 1;
@@ -118,7 +119,7 @@ export function* csvRecords(text: string): Generator<{ line: number; cells: stri
   let quoted = false;
   let i = 0;
   const end = () => {
-    cells.push(cell);
+    cells.push(unguardFormula(cell));
     const record = { line: start, cells };
     cells = [];
     cell = "";
@@ -142,7 +143,7 @@ export function* csvRecords(text: string): Generator<{ line: number; cells: stri
     }
     if (c === '"') quoted = true;
     else if (c === ",") {
-      cells.push(cell);
+      cells.push(unguardFormula(cell));
       cell = "";
     } else if (c === "\n" || c === "\r") {
       if (c === "\r" && text[i + 1] === "\n") i++;

@@ -3,6 +3,7 @@
  * plain value, so a spreadsheet opens it as it is.
  */
 import type { SessionReportDto } from "../../../shared/contract/report";
+import { guardFormula } from "./csvFormula";
 
 export const REPORT_TABLES = ["routes", "trains", "checks", "detectors", "nodes", "alarms"] as const;
 export type ReportTable = (typeof REPORT_TABLES)[number];
@@ -11,7 +12,7 @@ type Cell = string | number | boolean | null | undefined;
 
 function cell(value: Cell): string {
   if (value === null || value === undefined) return "";
-  const text = String(value);
+  const text = typeof value === "string" ? guardFormula(value) : String(value);
   return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
