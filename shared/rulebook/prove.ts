@@ -6,6 +6,8 @@
  * - `proving/abstraction.ts` — how the real `step` is fed (time left out) and what an engine
  *   state means to the environment (`EngineFacts`);
  * - `proving/environment.ts` — packed trains and every §5 move, each rule written once;
+ * - `proving/engineStore.ts` — interned engine states and the memoised `step` per input;
+ * - `proving/trainCodec.ts` — the compact (bit-field) form the state table keeps trains in;
  * - `proving/stateTable.ts` — typed-array storage and the open-addressing state table;
  * - `proving/properties.ts` — property ids, per-state verdicts, `no-stuck-train`;
  * - `proving/search.ts` — the breadth-first search and its limits;

@@ -4,9 +4,13 @@
  * that decides `no-stuck-train` once the search is done.
  */
 import type { EngineFacts } from "./abstraction";
-import { MOVE_GROUP_SHIFT, MOVE_REVEAL, SLOT_AXLES, SLOT_POS, SLOT_ROUTE, type Packing } from "./environment";
+import * as env from "./environment";
 import type { Model } from "./model";
-import { IntVec } from "./stateTable";
+
+// Local copies: imported bindings are read through getters by some loaders, on the hot path.
+const SLOT_AXLES = env.SLOT_AXLES;
+const SLOT_POS = env.SLOT_POS;
+const SLOT_ROUTE = env.SLOT_ROUTE;
 
 /** The properties of CONTRACT.md §5, in the order results are reported. */
 export const PROPERTY_IDS = [
@@ -77,7 +81,7 @@ export interface StateVerdict {
  * `priority-unhindered` is broken when a train of the priority route's group waits at a danger
  * signal, no section is occupied and no other group has a train past its first approach detector.
  */
-export function judgeState(model: Model, pack: Packing, facts: EngineFacts, cur: Uint8Array): StateVerdict {
+export function judgeState(model: Model, pack: env.Packing, facts: EngineFacts, cur: Uint8Array): StateVerdict {
   const proceed = facts.proceedMask;
   const { base, slotWidth } = pack;
   const priorityGroup = model.priority >= 0 ? model.routes[model.priority].group : -1;
@@ -122,13 +126,13 @@ export function slotPositions(cur: Uint8Array, slot: number): number[] {
 
 /** The stored non-arrival edges of a finished search, grouped by source state. */
 export interface EdgeStore {
-  /** Edges of state s: `start[s]` to `end[s]` (exclusive) in `to` and `kind`. */
+  /** Edges of state s: `count[s]` of them from `start[s]` on, in `to` and `kind`. */
   start: Int32Array;
-  end: Int32Array;
+  count: ArrayLike<number>;
   to: Int32Array;
-  /** 0, or MOVE_REVEAL / MOVE_CLOSE with the group in the higher bits (environment.ts). */
-  kind: Int32Array;
-  count: number;
+  /** 0, or 1 + g for an edge that reveals an axle of the open train of group g (environment.ts). */
+  kind: ArrayLike<number>;
+  total: number;
 }
 
 /**
@@ -161,21 +165,21 @@ export function findStuckTrain(
   model: Model,
   nStates: number,
   proceedMaskOf: (state: number) => number,
-  waitMaskOf: IntVec,
-  depthOf: IntVec,
+  waitMaskOf: { data: ArrayLike<number> },
+  depthOf: { data: ArrayLike<number> },
   edges: EdgeStore,
   hidden: Hidden,
 ): { state: number; group: number; extra: number[] } | undefined {
   const { words, base: B } = hidden;
-  const nEdges = edges.count;
+  const nEdges = edges.total;
   const start = new Int32Array(nStates + 1);
   for (let e = 0; e < nEdges; e++) start[edges.to[e] + 1]++;
   for (let s = 0; s < nStates; s++) start[s + 1] += start[s];
   const fill = start.slice(0, nStates);
   const sources = new Int32Array(nEdges);
-  const kinds = new Int32Array(nEdges);
+  const kinds = new Uint8Array(nEdges);
   for (let s = 0; s < nStates; s++) {
-    for (let e = edges.start[s]; e < edges.end[s]; e++) {
+    for (let e = edges.start[s], end = e + edges.count[s]; e < end; e++) {
       const i = fill[edges.to[e]]++;
       sources[i] = s;
       kinds[i] = edges.kind[e];
@@ -213,18 +217,14 @@ export function findStuckTrain(
   }
   const validOf = (s: number): Int32Array => validSets[validIndex[s]];
   const revealShift = model.groups.map((g) => Math.pow(B, g.index));
-  const REVEAL = MOVE_REVEAL;
-  const SHIFT = MOVE_GROUP_SHIFT;
 
   let best: { state: number; group: number; extra: number[] } | undefined;
   const canReach = new Int32Array(nStates * words);
   const queued = new Uint8Array(nStates);
-  // Worklist by depth, deepest first: bits flow backwards, mostly from deeper states to shallower
-  // ones, so a state is usually taken once, after its successors have their bits.
-  let maxDepth = 0;
-  for (let s = 0; s < nStates; s++) if (depthOf.data[s] > maxDepth) maxDepth = depthOf.data[s];
-  const work: IntVec[] = [];
-  for (let d = 0; d <= maxDepth; d++) work.push(new IntVec(16));
+  // A first-in first-out worklist (a ring: a state is in it at most once): bits flow backwards
+  // from the states where the signal shows a proceed, and a state is taken again only when it
+  // gained bits since it was last taken (bits only grow, so this ends).
+  const ring = new Int32Array(Math.max(1, nStates));
   const add = new Int32Array(words);
   for (const group of model.groups) {
     const bit = 1 << group.index;
@@ -233,28 +233,27 @@ export function findStuckTrain(
     for (let s = 0; s < nStates && !anyWaiting; s++) if (waitMaskOf.data[s] & bit) anyWaiting = true;
     if (!anyWaiting) continue;
     canReach.fill(0);
-    let at = maxDepth;
+    let head = 0;
+    let queuedCount = 0;
     for (let s = 0; s < nStates; s++) {
       if (proceedMaskOf(s) & signalBit) {
-        canReach.set(validOf(s), s * words);
+        const valid = validOf(s);
+        for (let w = 0; w < words; w++) canReach[s * words + w] = valid[w];
         queued[s] = 1;
-        work[depthOf.data[s]].push(s);
+        ring[(head + queuedCount++) % nStates] = s;
       }
     }
-    while (at >= 0) {
-      const bucket = work[at];
-      if (bucket.length === 0) {
-        at--;
-        continue;
-      }
-      const s = bucket.data[--bucket.length];
+    while (queuedCount > 0) {
+      const s = ring[head];
+      head = head + 1 === nStates ? 0 : head + 1;
+      queuedCount--;
       queued[s] = 0;
       for (let i = start[s]; i < start[s + 1]; i++) {
         const p = sources[i];
         const kind = kinds[i];
-        if ((kind & REVEAL) !== 0) {
+        if (kind !== 0) {
           // Source bit d ↔ target bit d − B^g (one axle fewer still hidden).
-          shiftUp(canReach, s * words, add, words, revealShift[kind >>> SHIFT]);
+          shiftUp(canReach, s * words, add, words, revealShift[kind - 1]);
           const valid = validOf(p);
           for (let w = 0; w < words; w++) add[w] &= valid[w];
         } else {
@@ -268,11 +267,11 @@ export function findStuckTrain(
             grew = true;
           }
         }
-        if (grew && !queued[p]) {
+        if (grew && queued[p] === 0) {
           queued[p] = 1;
-          const dp = depthOf.data[p];
-          work[dp].push(p);
-          if (dp > at) at = dp;
+          let tail = head + queuedCount++;
+          if (tail >= nStates) tail -= nStates;
+          ring[tail] = p;
         }
       }
     }

@@ -4,16 +4,14 @@
  * state remembers the state and move it was reached by on a shortest path, so every refuted
  * property comes with a shortest counterexample.
  */
-import { initialStep, type EngineState } from "../engine";
 import type { Rulebook } from "../schema";
-import { canonical, engineFacts, isUnderflowChange, normalise, runInput, type EngineFacts } from "./abstraction";
+import { EngineStore, startState } from "./engineStore";
 import {
   forEachMove,
   LAZY_ARRIVAL,
   LAZY_LENGTH,
   moveCodes,
   MOVE_ARRIVAL,
-  MOVE_CLOSE,
   MOVE_FUSED,
   MOVE_GROUP_SHIFT,
   MOVE_MISROUTED,
@@ -25,10 +23,11 @@ import {
   SLOT_OPEN,
   type Reduction,
 } from "./environment";
-import { compileModel, pointsInput, type Model, type PointsWorking } from "./model";
+import { compileModel, type Model, type PointsWorking } from "./model";
 import { decodePath, type Move, type PathStep } from "./moves";
 import { findStuckTrain, judgeState, propertiesOf, type Hidden, type PropertyId } from "./properties";
-import { IntVec, StateTable } from "./stateTable";
+import { IntVec, StateTable, vecFor } from "./stateTable";
+import { TrainCodec } from "./trainCodec";
 
 export interface PropertyResult {
   id: PropertyId;
@@ -79,74 +78,6 @@ export const DEFAULT_MAX_STATES = Number.POSITIVE_INFINITY;
 export const DEFAULT_MAX_BYTES = 1536 * 1024 * 1024;
 const PROGRESS_EVERY_STATES = 4096;
 
-/** Interned engine states, with the outcome of every (engine state, input) pair memoised. */
-class EngineStore {
-  readonly states: EngineState[] = [];
-  readonly facts: EngineFacts[] = [];
-  private ids = new Map<string, number>();
-  private memoNext: Int32Array;
-  private memoUnderflow: Uint8Array;
-  constructor(private readonly model: Model) {
-    this.memoNext = new Int32Array(1024 * Math.max(1, model.inputs.length)).fill(-1);
-    this.memoUnderflow = new Uint8Array(this.memoNext.length);
-  }
-  intern(s: EngineState): number {
-    const n = normalise(s);
-    const key = canonical(n);
-    let id = this.ids.get(key);
-    if (id === undefined) {
-      id = this.states.length;
-      this.ids.set(key, id);
-      this.states.push(n);
-      this.facts.push(engineFacts(this.model, n));
-      const nInputs = this.model.inputs.length;
-      if ((id + 1) * nInputs > this.memoNext.length) {
-        const next = new Int32Array(this.memoNext.length * 2).fill(-1);
-        next.set(this.memoNext);
-        this.memoNext = next;
-        const under = new Uint8Array(next.length);
-        under.set(this.memoUnderflow);
-        this.memoUnderflow = under;
-      }
-    }
-    return id;
-  }
-  /** The engine state after `input`; `underflow` then says whether that step drove a counter below 0. */
-  after(engine: number, input: number): number {
-    const slot = engine * this.model.inputs.length + input;
-    let next = this.memoNext[slot];
-    if (next < 0) {
-      const { state, changes } = runInput(this.model, this.states[engine], this.model.inputs[input]);
-      next = this.intern(state);
-      this.memoNext[slot] = next;
-      this.memoUnderflow[slot] = changes.some(isUnderflowChange) ? 1 : 0;
-    }
-    return next;
-  }
-  underflows(engine: number, input: number): boolean {
-    return this.memoUnderflow[engine * this.model.inputs.length + input] === 1;
-  }
-  get bytes(): number {
-    return this.memoNext.byteLength + this.memoUnderflow.byteLength;
-  }
-}
-
-/**
- * The start of a proof (§4 "Start", §5): initial values, settle, then — when points are
- * modelled — each modelled points reported `normal` once, in id order (inputs, not moves).
- */
-export function startState(model: Model): { state: EngineState; underflow: boolean } {
-  const start = initialStep(model.rulebook, 0);
-  let state = start.state;
-  let underflow = start.changes.some(isUnderflowChange);
-  for (const p of model.points) {
-    const r = runInput(model, state, model.inputs[pointsInput(model, p.index, "normal")]);
-    state = r.state;
-    underflow ||= r.changes.some(isUnderflowChange);
-  }
-  return { state, underflow };
-}
-
 /** How many hidden-length bits `no-stuck-train` may track per state before lazy length is left off. */
 const MAX_HIDDEN_BITS = 1024;
 
@@ -189,21 +120,23 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const engines = new EngineStore(model);
   const width = pack.width;
 
-  const table = new StateTable(width);
+  const table = new StateTable(new TrainCodec(model, pack));
   // Per state id: parent, move code, depth (in §5 moves), state verdict bits, edge range.
   const parent = new IntVec(1 << 14);
-  const moveOf = new IntVec(1 << 14);
+  const moveOf = vecFor(codes.total, 1 << 14);
   const depthOf = new IntVec(1 << 14);
-  const waitMaskOf = new IntVec(1 << 14);
+  const waitMaskOf = vecFor(2 ** model.groups.length - 1, 1 << 14);
+  // Non-arrival edges, grouped by source: the first and the number of each state's, then per edge
+  // its target and kind (0, or 1 + g for an edge that reveals an axle in group g).
   const edgeStart = new IntVec(1 << 14);
-  const edgeEnd = new IntVec(1 << 14);
+  const edgeCount = vecFor(codes.total, 1 << 14);
   const edgeTo = new IntVec(1 << 16);
-  const edgeKind = new IntVec(1 << 16);
+  const edgeKind = vecFor(model.groups.length + 1, 1 << 16);
   // States waiting to be expanded, by depth modulo 3 (moves are worth one or two).
   const buckets = [new IntVec(1 << 12), new IntVec(1 << 12), new IntVec(1 << 12)];
   const bytesUsed = (): number =>
     table.bytes +
-    [parent, moveOf, depthOf, waitMaskOf, edgeStart, edgeEnd, edgeTo, edgeKind, ...buckets].reduce((sum, v) => sum + v.bytes, 0) +
+    [parent, moveOf, depthOf, waitMaskOf, edgeStart, edgeCount, edgeTo, edgeKind, ...buckets].reduce((sum, v) => sum + v.bytes, 0) +
     engines.bytes;
   let transitions = 0;
 
@@ -232,7 +165,6 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const startEngine = engines.intern(begin.state);
   table.findOrAdd(startEngine, cur);
   parent.put(0, -1);
-  moveOf.put(0, -1);
   depthOf.put(0, 0);
   buckets[0].push(0);
   // The first settle (or a first points report) can itself drive a counter below zero.
@@ -246,7 +178,8 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const MISROUTED = MOVE_MISROUTED;
   const UNLOCKED = MOVE_UNLOCKED;
   const ARRIVAL = MOVE_ARRIVAL;
-  const EDGE_KIND = MOVE_REVEAL | MOVE_CLOSE | (0xff << MOVE_GROUP_SHIFT);
+  const REVEAL = MOVE_REVEAL;
+  const GROUP_SHIFT = MOVE_GROUP_SHIFT;
   const visit = (code: number, input: number, flags: number): void => {
     transitions++;
     const length = currentDepth + ((flags & FUSED) !== 0 ? 2 : 1);
@@ -270,7 +203,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     }
     if ((flags & ARRIVAL) === 0) {
       edgeTo.push(id);
-      edgeKind.push(flags & EDGE_KIND);
+      edgeKind.push((flags & REVEAL) !== 0 ? 1 + (flags >>> GROUP_SHIFT) : 0);
     }
   };
 
@@ -306,11 +239,11 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       currentId = id;
       currentDepth = depth;
       currentEngine = table.engine[id];
-      cur.set(table.trains.subarray(id * width, (id + 1) * width));
+      table.load(id, cur);
       examine(id, currentEngine, cur, depth);
       edgeStart.put(id, edgeTo.length);
       forEachMove(model, pack, codes, engines.facts[currentEngine], cur, nxt, visit, level);
-      edgeEnd.put(id, edgeTo.length);
+      edgeCount.put(id, edgeTo.length - edgeStart.data[id]);
     }
     bucket.clear();
   }
@@ -325,19 +258,18 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       groups: model.groups.length,
       words: level === LAZY_LENGTH ? Math.ceil(Math.pow(model.maxAxles, model.groups.length) / 32) : 1,
       openOf: (state, out) => {
-        const OPEN = SLOT_OPEN;
-        const AXLES = SLOT_AXLES;
+        const v = table.load(state, cur);
         for (const group of model.groups) {
           out[group.index] = 0;
           const b = pack.base[group.index];
-          for (let t = 0; t < table.trains[state * width + b]; t++) {
-            const slot = state * width + b + 1 + t * pack.slotWidth;
-            if (table.trains[slot + OPEN] !== 0) out[group.index] = table.trains[slot + AXLES];
+          for (let t = 0; t < v[b]; t++) {
+            const slot = b + 1 + t * pack.slotWidth;
+            if (v[slot + SLOT_OPEN] !== 0) out[group.index] = v[slot + SLOT_AXLES];
           }
         }
       },
     };
-    const edges = { start: edgeStart.data, end: edgeEnd.data, to: edgeTo.data, kind: edgeKind.data, count: edgeTo.length };
+    const edges = { start: edgeStart.data, count: edgeCount.data, to: edgeTo.data, kind: edgeKind.data, total: edgeTo.length };
     stuck = findStuckTrain(model, nStates, (s) => engines.facts[table.engine[s]].proceedMask, waitMaskOf, depthOf, edges, hidden);
   }
 
@@ -351,7 +283,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       const s = chain[i];
       const code = i + 1 < chain.length ? moveOf.data[chain[i + 1]] : lastMove;
       if (code === undefined) break;
-      steps.push({ facts: engines.facts[table.engine[s]], trains: table.trains.slice(s * width, (s + 1) * width), code });
+      steps.push({ facts: engines.facts[table.engine[s]], trains: table.load(s, new Uint8Array(width)), code });
     }
     return decodePath(model, pack, codes, steps, level, (g) => extra[g] ?? 0);
   };

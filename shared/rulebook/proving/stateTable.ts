@@ -1,13 +1,19 @@
 /**
  * Storage of the search that does not grow the JavaScript heap per state: growable typed
- * vectors, and the table of distinct states — engine state id plus packed trains — found again
+ * vectors, and the table of distinct states — engine state id plus compact trains — found again
  * through an open-addressing hash table (linear probing) over typed arrays.
  */
-export class IntVec {
-  data: Int32Array;
+import type { TrainCodec } from "./trainCodec";
+
+/** A growable typed vector (the search's per-state and per-edge columns). */
+export class Vec<A extends Int32Array | Uint16Array | Uint8Array> {
+  data: A;
   length = 0;
-  constructor(capacity = 1024) {
-    this.data = new Int32Array(capacity);
+  constructor(
+    private readonly make: (n: number) => A,
+    capacity = 1024,
+  ) {
+    this.data = make(capacity);
   }
   /** Bytes held (for the memory limit). */
   get bytes(): number {
@@ -30,48 +36,71 @@ export class IntVec {
   private reserve(n: number): void {
     let size = this.data.length;
     while (size < n) size *= 2;
-    const bigger = new Int32Array(size);
+    const bigger = this.make(size);
     bigger.set(this.data.subarray(0, this.length));
     this.data = bigger;
   }
 }
 
+export class IntVec extends Vec<Int32Array> {
+  constructor(capacity = 1024) {
+    super((n) => new Int32Array(n), capacity);
+  }
+}
+
+/** The smallest vector whose entries hold every value 0…max. */
+export function vecFor(max: number, capacity = 1024): Vec<Int32Array> | Vec<Uint16Array> | Vec<Uint8Array> {
+  if (max <= 0xff) return new Vec((n) => new Uint8Array(n), capacity);
+  if (max <= 0xffff) return new Vec((n) => new Uint16Array(n), capacity);
+  return new IntVec(capacity);
+}
+
 /**
- * Every distinct state: its engine state id and packed trains, found again through an
- * open-addressing hash table (linear probing). Ids are handed out in order of discovery.
+ * Every distinct state: its engine state id and trains, found again through an open-addressing
+ * hash table (linear probing). Trains are kept in the codec's compact form (trainCodec.ts), so a
+ * state costs its engine id, a few words and its hash slots. Ids are handed out in order of
+ * discovery.
  */
 export class StateTable {
-  readonly width: number;
-  trains: Uint8Array;
+  /** 32-bit words of trains per state. */
+  readonly words: number;
+  trains: Int32Array;
   engine: Int32Array;
   size = 0;
   private slots: Int32Array;
   private mask: number;
-  constructor(width: number) {
-    this.width = width;
-    this.trains = new Uint8Array(width * 4096);
+  private readonly key: Int32Array;
+  constructor(private readonly codec: TrainCodec) {
+    this.words = codec.words;
+    this.key = new Int32Array(this.words);
+    this.trains = new Int32Array(this.words * 4096);
     this.engine = new Int32Array(4096);
     this.slots = new Int32Array(1 << 13).fill(-1);
     this.mask = this.slots.length - 1;
   }
-  private hash(engine: number, v: Uint8Array): number {
+  private hash(engine: number, words: Int32Array, at: number): number {
     let h = Math.imul(engine ^ 0x9e3779b9, 0x85ebca6b);
-    for (let i = 0; i < this.width; i++) h = Math.imul(h ^ v[i], 0x01000193);
-    return (h ^ (h >>> 15)) >>> 0;
+    for (let i = 0; i < this.words; i++) {
+      h = Math.imul(h ^ words[at + i], 0xcc9e2d51);
+      h = (h << 15) | (h >>> 17);
+    }
+    h = Math.imul(h ^ (h >>> 16), 0x85ebca6b);
+    return (h ^ (h >>> 13)) >>> 0;
   }
-  private equals(id: number, engine: number, v: Uint8Array): boolean {
+  private equals(id: number, engine: number): boolean {
     if (this.engine[id] !== engine) return false;
-    const off = id * this.width;
-    for (let i = 0; i < this.width; i++) if (this.trains[off + i] !== v[i]) return false;
+    const off = id * this.words;
+    for (let i = 0; i < this.words; i++) if (this.trains[off + i] !== this.key[i]) return false;
     return true;
   }
-  /** The id of (engine, v), adding it if new; `isNew` tells which. */
+  /** The id of (engine, trains `v` in byte form), adding it if new (then `size` grows). */
   findOrAdd(engine: number, v: Uint8Array): number {
-    let i = this.hash(engine, v) & this.mask;
+    this.codec.encode(v, this.key, 0);
+    let i = this.hash(engine, this.key, 0) & this.mask;
     for (;;) {
       const id = this.slots[i];
       if (id < 0) break;
-      if (this.equals(id, engine, v)) return id;
+      if (this.equals(id, engine)) return id;
       i = (i + 1) & this.mask;
     }
     const id = this.size++;
@@ -79,15 +108,20 @@ export class StateTable {
       const engines = new Int32Array(this.engine.length * 2);
       engines.set(this.engine);
       this.engine = engines;
-      const trains = new Uint8Array(this.trains.length * 2);
+      const trains = new Int32Array(this.trains.length * 2);
       trains.set(this.trains);
       this.trains = trains;
     }
     this.engine[id] = engine;
-    this.trains.set(v, id * this.width);
+    this.trains.set(this.key, id * this.words);
     this.slots[i] = id;
     if (this.size * 2 > this.slots.length) this.grow();
     return id;
+  }
+  /** Writes the trains of state `id`, in byte form, to `v`. */
+  load(id: number, v: Uint8Array): Uint8Array {
+    this.codec.decode(this.trains, id * this.words, v);
+    return v;
   }
   /** Bytes held by the table (for the memory limit). */
   get bytes(): number {
@@ -96,10 +130,8 @@ export class StateTable {
   private grow(): void {
     const slots = new Int32Array(this.slots.length * 2).fill(-1);
     const mask = slots.length - 1;
-    const v = new Uint8Array(this.width);
     for (let id = 0; id < this.size; id++) {
-      v.set(this.trains.subarray(id * this.width, (id + 1) * this.width));
-      let i = this.hash(this.engine[id], v) & mask;
+      let i = this.hash(this.engine[id], this.trains, id * this.words) & mask;
       while (slots[i] >= 0) i = (i + 1) & mask;
       slots[i] = id;
     }
