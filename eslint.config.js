@@ -54,4 +54,20 @@ export default tseslint.config(
       "no-restricted-imports": ["error", { patterns: [{ group: ["**/server/**", "**/broker/**"], message: "the client talks to the server through shared/ types and the REST API only" }] }],
     },
   },
+  // The alarm codes are written once, in their tables; everywhere else names them
+  // (ALARM_KIND.nodeOffline, ENGINE_ALARM.ruleLoop). "stuck", "chatter" and "rulebook" are
+  // ordinary words too, so only the unambiguous codes are caught. Tests may spell them out.
+  {
+    files: ["server/**/*.ts", "src/**/*.{ts,tsx}", "shared/**/*.ts", "broker/**/*.ts"],
+    ignores: ["shared/contract/alarmKinds.ts", "shared/rulebook/engineAlarms.ts"],
+    rules: {
+      "no-restricted-syntax": [
+        "error",
+        {
+          selector: "Literal[value=/^(node-offline|detector-silent|axle-mismatch|missed-pulses|lamp-proving|points-detection|rule-loop|count-underflow|rule-alarm)$/]",
+          message: "name the alarm code from its table: ALARM_KIND (shared/contract/alarmKinds.ts) or ENGINE_ALARM (shared/rulebook/engineAlarms.ts)",
+        },
+      ],
+    },
+  },
 );

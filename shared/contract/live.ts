@@ -5,6 +5,7 @@
  */
 import { z } from "zod";
 import { aspectSchema, idSchema, nameSchema, type Aspect, type ShownAspect } from "../rulebook/schema";
+import type { AlarmKind } from "./alarmKinds";
 import type { ProofJobDto, ProofProgressDto } from "./rest";
 
 // ───────────────────────────── MQTT (CONTRACT.md §2) ─────────────────────────────
@@ -149,18 +150,6 @@ export interface ChangeDto {
   detail?: string;
 }
 
-export type AlarmKind =
-  | "stuck"
-  | "node-offline"
-  | "detector-silent"
-  | "chatter"
-  | "axle-mismatch"
-  | "missed-pulses"
-  | "lamp-proving"
-  | "points-detection"
-  | "rule-loop"
-  | "count-underflow"
-  | "rulebook";
 
 export interface AlarmDto {
   id: number;
@@ -287,4 +276,4 @@ export interface ClientToServerEvents {
   "proof:unwatch": (request: { jobId: string }) => void;
 }
 
-export type { Aspect, ShownAspect };
+export type { AlarmKind, Aspect, ShownAspect };

@@ -16,7 +16,7 @@
  * - **Alarm action**: `{ alarm: TEXT }` changes no state; it adds a change
  *   `{ kind: "alarm", name: <rule id>, to: "rule-alarm", detail: TEXT }`. It never faults.
  * - **Alarm changes** in general: `kind: "alarm"`, `name` = what it is about (rule id, counter,
- *   or `"rulebook"`), `to` = the alarm code (`rule-alarm`, `count-underflow`, `rule-loop`),
+ *   or `"rulebook"`), `to` = the alarm code (`ENGINE_ALARM` in engineAlarms.ts: `rule-alarm`, `count-underflow`, `rule-loop`),
  *   `detail` = readable text.
  * - **Unknown detectors**: a pulse at a detector no rule mentions still advances the clock,
  *   fires due quiet triggers and settles; it is otherwise ignored (no error, no change).
@@ -48,6 +48,7 @@
  *   by a show action, an aspect condition or a proving route, in order of first mention. A
  *   signal not in `initial` starts with wanted aspect danger.
  */
+import { ENGINE_ALARM } from "./engineAlarms";
 import { matchAction, matchCondition, matchTrigger, unreachable } from "./kinds";
 import { signalsMentioned } from "./mentions";
 import type { Action, Aspect, Condition, PointsLie, PointsPosition, Rule, Rulebook } from "./schema";
@@ -210,7 +211,7 @@ function writeCounter(work: Work, counter: string, value: number): void {
   const from = work.counters[counter] ?? 0;
   let to = value;
   if (to < 0) {
-    emit(work, "alarm", counter, null, "count-underflow", `counter ${counter} would go below 0 (${to}); held at 0`);
+    emit(work, "alarm", counter, null, ENGINE_ALARM.countUnderflow, `counter ${counter} would go below 0 (${to}); held at 0`);
     to = 0;
   }
   if (to === from) return;
@@ -368,7 +369,7 @@ function compileAction(action: Action, ruleId: string): Effect {
     select: ({ select: selector, value }) => (work) => writeSelector(work, selector, value),
     show: ({ show: signal, aspect }) => (work) => writeWanted(work, signal, aspect),
     throw: ({ throw: points, to }) => (work) => writeThrown(work, points, to),
-    alarm: ({ alarm: text }) => (work) => emit(work, "alarm", ruleId, null, "rule-alarm", text),
+    alarm: ({ alarm: text }) => (work) => emit(work, "alarm", ruleId, null, ENGINE_ALARM.ruleAlarm, text),
   });
 }
 
@@ -501,7 +502,7 @@ function fault(compiled: CompiledRulebook, work: Work, rule: CompiledRule): void
   }
   work.faulted = { reason, at: work.clock };
   emit(work, "fault", "rulebook", null, work.faulted, reason);
-  emit(work, "alarm", "rulebook", null, "rule-loop", `${reason}; every signal shows danger until restart`);
+  emit(work, "alarm", "rulebook", null, ENGINE_ALARM.ruleLoop, `${reason}; every signal shows danger until restart`);
 }
 
 function settle(compiled: CompiledRulebook, work: Work): void {

@@ -18,6 +18,7 @@ import type {
   UserDto,
 } from "../../../shared/contract/rest";
 import { PROPERTY_IDS, type ProofResult } from "../../../shared/rulebook/prove";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { PointsWorking } from "../../../shared/layout/schema";
 import type { AppDeps } from "../../deps";
@@ -301,7 +302,7 @@ async function announceRefutedPublished(deps: AppDeps, layoutId: number, version
   if (live) {
     await raiseAlarm(deps, {
       layoutId,
-      kind: "rulebook",
+      kind: ALARM_KIND.rulebook,
       subject: `version ${version}`,
       message: `The live rulebook (version ${version}) was refuted: ${failed.join(", ")} can fail. Publish a proved version, or run only under the society's own rules until then.`,
     });
