@@ -5,6 +5,7 @@
  */
 import { z } from "zod";
 import { aspectSchema, idSchema, nameSchema, type Aspect, type ShownAspect } from "../rulebook/schema";
+import type { Change } from "../rulebook/changes";
 import type { AlarmKind } from "./alarmKinds";
 import type { ProofJobDto, ProofProgressDto } from "./rest";
 
@@ -140,15 +141,11 @@ export interface LiveEventDto {
   boardT: number | null;
 }
 
-export interface ChangeDto {
-  kind: string;
-  name: string;
-  from: unknown;
-  to: unknown;
-  rule?: string;
-  command?: string;
-  detail?: string;
-}
+/**
+ * One change of a step as the client, the exports and the event log see it: the engine's own
+ * change (discriminated by `kind`; shared/rulebook/changes.ts), which is plain JSON already.
+ */
+export type ChangeDto = Change;
 
 
 export interface AlarmDto {

@@ -48,6 +48,7 @@
  *   by a show action, an aspect condition or a proving route, in order of first mention. A
  *   signal not in `initial` starts with wanted aspect danger.
  */
+import type { Change, ChangeKind, ChangeOf, EngineFault } from "./changes";
 import { ENGINE_ALARM } from "./engineAlarms";
 import { matchAction, matchCondition, matchTrigger, unreachable } from "./kinds";
 import { signalsMentioned } from "./mentions";
@@ -75,32 +76,14 @@ export interface EngineState {
   held: string[];
   /** Armed quiet triggers: rule id → deadline (ms). */
   quiet: Record<string, number>;
-  faulted: null | { reason: string; at: number };
+  faulted: null | EngineFault;
   /** Where each points lie as last reported (absent: `unknown`, no report yet). */
   points: Record<string, PointsLie>;
   /** Where the rules last threw each power-worked points (absent: never thrown). */
   thrown: Record<string, PointsPosition>;
 }
 
-/**
- * `points`: a report recorded where points lie (from → to). `throw`: the rules threw power-worked
- * points (from = where last thrown or null, to = the new position): the effect a live runner
- * publishes on `…/points/{id}/set`.
- */
-export type ChangeKind = "latch" | "counter" | "selector" | "wanted" | "held" | "quiet" | "fault" | "alarm" | "shown" | "points" | "throw";
-
-export type Change = {
-  kind: ChangeKind;
-  name: string;
-  from: unknown;
-  to: unknown;
-  /** The rule that made the change. */
-  rule?: string;
-  /** The signaller command that made the change. */
-  command?: string;
-  /** Alarm text, a command's reason, etc. */
-  detail?: string;
-};
+export type { Change, ChangeKind, ChangeOf, EngineFault } from "./changes";
 
 export interface StepResult {
   state: EngineState;
@@ -180,13 +163,15 @@ function finishWork(work: Work): EngineState {
 const NO_POINTS: Record<string, PointsLie> = Object.freeze({}) as Record<string, PointsLie>;
 const NO_THROWS: Record<string, PointsPosition> = Object.freeze({}) as Record<string, PointsPosition>;
 
-function emit(work: Work, kind: ChangeKind, name: string, from: unknown, to: unknown, detail?: string): void {
-  const change: Change =
+function emit<K extends ChangeKind>(work: Work, kind: K, name: string, from: ChangeOf<K>["from"], to: ChangeOf<K>["to"], detail?: string): void {
+  // Built the same way for every kind; the parameters tie `from` and `to` to the kind.
+  const change = (
     work.rule !== undefined
       ? { kind, name, from, to, rule: work.rule }
       : work.command !== undefined
         ? { kind, name, from, to, command: work.command }
-        : { kind, name, from, to };
+        : { kind, name, from, to }
+  ) as Change;
   const text = detail ?? (work.rule === undefined ? work.commandDetail : undefined);
   if (text !== undefined) change.detail = text;
   work.changes.push(change);

@@ -48,7 +48,7 @@ export function pointsCommands(core: Core, all = false): { points: string; to: P
 export function notePointsChanges(core: Core, changes: Change[], at: number, out: Step): void {
   for (const change of changes) {
     if (change.kind === "throw") {
-      const to = change.to as PointsPosition;
+      const to = change.to;
       if ((core.state.points?.[change.name] ?? "unknown") === to) finishCheck(core, change.name, out);
       else core.pointsChecks.set(change.name, { to, since: at, alarmed: core.pointsChecks.get(change.name)?.alarmed ?? false });
     } else if (change.kind === "points") {

@@ -66,7 +66,7 @@ const ALARM_OF_ENGINE_CODE: Record<EngineAlarmCode, AlarmKind> = {
 function alarmOfChange(change: Change): { kind: AlarmKind; subject: string; message: string } | null {
   if (change.kind !== "alarm") return null;
   const message = change.detail ?? String(change.to);
-  return { kind: ALARM_OF_ENGINE_CODE[change.to as EngineAlarmCode] ?? ALARM_KIND.rulebook, subject: change.name, message };
+  return { kind: ALARM_OF_ENGINE_CODE[change.to], subject: change.name, message };
 }
 
 /**

@@ -5,6 +5,7 @@
  */
 import type { AlarmKind, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "../../../shared/contract/live";
 import { shownAspects, type Change, type EngineState } from "../../../shared/rulebook/engine";
+import { unreachable } from "../../../shared/rulebook/kinds";
 import type { Aspect, PointsPosition, Rulebook } from "../../../shared/rulebook/schema";
 import type { PendingAudit, PendingEvent, PendingSnapshot, SessionRef } from "../eventLog";
 import type { IngestResult, NodeEntry } from "../ingest";
@@ -253,8 +254,11 @@ export function patchFor(core: Core, changes: Change[], at: string): LiveUpdate[
         patch.held = core.state.held;
         patch.faulted = faultedDto(core);
         break;
-      default:
+      case "alarm":
+        // Alarms reach the state through the alarm port, not the patch.
         break;
+      default:
+        unreachable(change);
     }
   }
   if (changes.length > 0) patch.since = core.since;
