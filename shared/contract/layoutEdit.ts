@@ -16,6 +16,7 @@
 import { z } from "zod";
 import { layoutRecordsSchema, scaleSchema, slugSchema } from "../layout/schema";
 import type { Rulebook } from "../rulebook/schema";
+import type { ProofResultDto } from "./rest";
 
 export type { LayoutResponse, LayoutDetail } from "./rest";
 
@@ -101,4 +102,4 @@ export const publishBodySchema = z
 export type PublishBody = z.infer<typeof publishBodySchema>;
 
 /** The last proof of a version, in brief, as the versions list shows it. */
-export type ProofVerdict = "proved" | "refuted" | "unfinished";
+export type ProofVerdict = ProofResultDto["verdict"];

@@ -1,5 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import type { CreateNodeBody, CreateNodeResponse, ImportLayoutResponse, LayoutResponse, LayoutsResponse } from "../../shared/contract/rest";
+import type { CreateLayoutBody } from "../../shared/contract/layoutEdit";
 import type { EditableLayout } from "../lib/layoutDraft";
 import { http } from "./http";
 
@@ -47,11 +48,7 @@ export function useRegisterNodeMutation(slug: string) {
   });
 }
 
-export interface CreateLayoutInput {
-  slug: string;
-  name: string;
-  scale: { name: string; ratio: number };
-}
+export type CreateLayoutInput = CreateLayoutBody;
 
 /** `POST /api/layouts`: a new, empty layout (no rulebook until one is published). */
 export function useCreateLayoutMutation() {

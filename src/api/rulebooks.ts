@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { PublishResponse, RulebookVersionResponse, SaveDraftResponse } from "../../shared/contract/rest";
+import type { PublishResponse, RulebookVersionResponse, SaveDraftBody, SaveDraftResponse } from "../../shared/contract/rest";
 import type { PublishBody } from "../../shared/contract/layoutEdit";
 import { http } from "./http";
 import { layoutKeys } from "./layouts";
@@ -24,10 +24,7 @@ export function useRulebookVersion(slug: string | undefined, version: number | u
   });
 }
 
-export interface SaveDraftInput {
-  rulebook: unknown;
-  note?: string;
-}
+export type SaveDraftInput = SaveDraftBody;
 
 /** Saves a new draft version. A 400 lists the rulebook's errors as `[{path,message}]`. */
 export function useSaveDraftMutation(slug: string) {
