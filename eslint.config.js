@@ -4,6 +4,12 @@ import tseslint from "typescript-eslint";
 import reactHooks from "eslint-plugin-react-hooks";
 import globals from "globals";
 
+const FEATURE_SERVICE = { group: ["../*/service"], message: "a feature does not call another feature's service: use the bus, a port in deps, or a module in server/data/" };
+const LAYOUTS_FEATURE = {
+  group: ["../layouts/*", "**/features/layouts/*"],
+  message: "look layouts up through server/data/layouts.ts, not the layouts feature",
+};
+
 export default tseslint.config(
   { ignores: ["dist/**", "node_modules/**", ".data/**", "tests/artifacts/**"] },
   ...tseslint.configs.recommended,
@@ -34,6 +40,28 @@ export default tseslint.config(
     files: ["server/runtime/**/*.ts"],
     rules: {
       "no-restricted-imports": ["error", { patterns: [{ group: ["**/features/**", "**/http/**", "**/app"], message: "runtime/ imports no feature or HTTP code: pass a port in (server/runtimeDeps.ts)" }] }],
+    },
+  },
+  // Layout lookup is one data module (server/data/layouts.ts) that every feature imports; a
+  // feature reaches another feature through the bus or a port, not through its service. The
+  // files in the next block still call another feature's service (listed in DEVELOPERS.md);
+  // they too may not reach the layouts feature.
+  {
+    files: ["server/features/**/*.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [FEATURE_SERVICE, LAYOUTS_FEATURE] }],
+    },
+  },
+  {
+    files: ["server/features/auth/reset.ts", "server/features/prove/service.ts", "server/features/members/service.ts", "server/features/setup/service.ts", "server/features/live/routes.ts", "server/features/live/socket.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [LAYOUTS_FEATURE] }],
+    },
+  },
+  {
+    files: ["server/data/**/*.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["**/features/**", "**/runtime/**"], message: "server/data/ is read by features; it imports none of them" }] }],
     },
   },
   {

@@ -25,7 +25,7 @@ import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
 import { raiseAlarm } from "../alarms/service";
-import { findLayout } from "../layouts/service";
+import { findLayout } from "../../data/layouts";
 import { PROOF_MAX_MS, PROOF_MAX_STATES, PoolFull, ProofCancelled, ProofPool, type ProofRun } from "./pool";
 
 /** Progress reaches sockets at most this often per job. */
