@@ -58,6 +58,13 @@ export default tseslint.config(
       "no-restricted-imports": ["error", { patterns: [LAYOUTS_FEATURE] }],
     },
   },
+  // deps holds ports: interfaces the runtime and features implement, not their code.
+  {
+    files: ["server/deps.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["./features/**", "./runtime/**", "./http/**"], message: "server/deps.ts holds ports (interfaces) only: declare the interface here and implement it in the feature or runtime" }] }],
+    },
+  },
   {
     files: ["server/data/**/*.ts"],
     rules: {
