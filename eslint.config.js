@@ -4,6 +4,12 @@ import tseslint from "typescript-eslint";
 import reactHooks from "eslint-plugin-react-hooks";
 import globals from "globals";
 
+const FEATURE_SERVICE = { group: ["../*/service"], message: "a feature does not call another feature's service: use the bus, a port in deps, or a module in server/data/" };
+const LAYOUTS_FEATURE = {
+  group: ["../layouts/*", "**/features/layouts/*"],
+  message: "look layouts up through server/data/layouts.ts, not the layouts feature",
+};
+
 export default tseslint.config(
   { ignores: ["dist/**", "node_modules/**", ".data/**", "tests/artifacts/**"] },
   ...tseslint.configs.recommended,
@@ -36,6 +42,35 @@ export default tseslint.config(
       "no-restricted-imports": ["error", { patterns: [{ group: ["**/features/**", "**/http/**", "**/app"], message: "runtime/ imports no feature or HTTP code: pass a port in (server/runtimeDeps.ts)" }] }],
     },
   },
+  // Layout lookup is one data module (server/data/layouts.ts) that every feature imports; a
+  // feature reaches another feature through the bus or a port, not through its service. The
+  // files in the next block still call another feature's service (listed in DEVELOPERS.md);
+  // they too may not reach the layouts feature.
+  {
+    files: ["server/features/**/*.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [FEATURE_SERVICE, LAYOUTS_FEATURE] }],
+    },
+  },
+  {
+    files: ["server/features/auth/reset.ts", "server/features/prove/service.ts", "server/features/members/service.ts", "server/features/setup/service.ts", "server/features/live/routes.ts", "server/features/live/socket.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [LAYOUTS_FEATURE] }],
+    },
+  },
+  // deps holds ports: interfaces the runtime and features implement, not their code.
+  {
+    files: ["server/deps.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["./features/**", "./runtime/**", "./http/**"], message: "server/deps.ts holds ports (interfaces) only: declare the interface here and implement it in the feature or runtime" }] }],
+    },
+  },
+  {
+    files: ["server/data/**/*.ts"],
+    rules: {
+      "no-restricted-imports": ["error", { patterns: [{ group: ["**/features/**", "**/runtime/**"], message: "server/data/ is read by features; it imports none of them" }] }],
+    },
+  },
   {
     files: ["shared/**/*.ts"],
     rules: {
@@ -52,6 +87,22 @@ export default tseslint.config(
     files: ["src/**/*.{ts,tsx}"],
     rules: {
       "no-restricted-imports": ["error", { patterns: [{ group: ["**/server/**", "**/broker/**"], message: "the client talks to the server through shared/ types and the REST API only" }] }],
+    },
+  },
+  // The alarm codes are written once, in their tables; everywhere else names them
+  // (ALARM_KIND.nodeOffline, ENGINE_ALARM.ruleLoop). "stuck", "chatter" and "rulebook" are
+  // ordinary words too, so only the unambiguous codes are caught. Tests may spell them out.
+  {
+    files: ["server/**/*.ts", "src/**/*.{ts,tsx}", "shared/**/*.ts", "broker/**/*.ts"],
+    ignores: ["shared/contract/alarmKinds.ts", "shared/rulebook/engineAlarms.ts"],
+    rules: {
+      "no-restricted-syntax": [
+        "error",
+        {
+          selector: "Literal[value=/^(node-offline|detector-silent|axle-mismatch|missed-pulses|lamp-proving|points-detection|rule-loop|count-underflow|rule-alarm)$/]",
+          message: "name the alarm code from its table: ALARM_KIND (shared/contract/alarmKinds.ts) or ENGINE_ALARM (shared/rulebook/engineAlarms.ts)",
+        },
+      ],
     },
   },
 );

@@ -20,10 +20,7 @@ export function toEventDto(event: PendingEvent, id: string): LiveEventDto {
   };
 }
 
+/** The engine's change is already its wire form; a copy, so a later edit of one leaves the other. */
 export function toChangeDto(change: Change): ChangeDto {
-  const dto: ChangeDto = { kind: change.kind, name: change.name, from: change.from, to: change.to };
-  if (change.rule !== undefined) dto.rule = change.rule;
-  if (change.command !== undefined) dto.command = change.command;
-  if (change.detail !== undefined) dto.detail = change.detail;
-  return dto;
+  return { ...change };
 }

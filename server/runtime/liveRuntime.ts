@@ -33,6 +33,8 @@ export interface LiveRuntime {
   /** Board messages received but not yet acknowledged to the broker (not yet committed). */
   pendingAcks(): number;
   runner(slug: string): LayoutRunner | undefined;
+  /** Whether the layout has a runner (what features ask; `runner` is for the server and tests). */
+  runs(slug: string): boolean;
   /** Each running layout: live, fail-safe (signals at danger) or stalled. */
   health(): Record<string, LayoutHealth>;
   liveState(slug: string): Promise<LiveState>;
@@ -163,6 +165,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     connected: () => links().every((r) => r.linkConnected()),
     pendingAcks: () => links().reduce((n, r) => n + r.pendingAcks(), 0),
     runner: (slug) => runners.get(slug),
+    runs: (slug) => runners.has(slug),
     health: () => Object.fromEntries([...runners].map(([slug, r]) => [slug, r.health()])),
     liveState: (slug) => need(slug).liveState(),
     async command(slug, body, user) {

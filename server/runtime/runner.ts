@@ -15,6 +15,7 @@
  */
 import type pg from "pg";
 import type { AlarmDto, CommandBody, LivePatch, LiveState, LiveStep, LiveUpdate } from "../../shared/contract/live";
+import type { LayoutHealth } from "../../shared/contract/rest";
 import type { EngineState } from "../../shared/rulebook/engine";
 import type { Rulebook } from "../../shared/rulebook/schema";
 import { commitBatch, emptyBatch, poolQuery, type Batch, type CommitResult, type PendingEvent } from "./eventLog";
@@ -57,8 +58,7 @@ export const DEFAULT_RUNNER_OPTIONS: RunnerOptions = {
   ...systemClock,
 };
 
-export type { CommandUser };
-export type LayoutHealth = "live" | "fail-safe" | "stalled";
+export type { CommandUser, LayoutHealth };
 
 type Item = { input: CoreInput; at: number };
 type Settle = (error: string | null) => void;

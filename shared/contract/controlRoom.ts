@@ -3,12 +3,11 @@
  * and what a display link opens, the mail outbox, members and invitations.
  */
 import { z } from "zod";
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../layout/schema";
 import type { ProvingRoute } from "../rulebook/schema";
 import type { AlarmDto, AlarmKind } from "./live";
 import { passwordSchema } from "./accounts";
 import { trimmedNameText } from "./nameText";
-import { roleSchema, type Role } from "./rest";
+import { roleSchema, type LayoutDetail, type Role, type UserDto } from "./rest";
 
 export interface AuditEntryDto {
   id: number;
@@ -47,16 +46,9 @@ export interface CreateDisplayLinkResponse {
 }
 
 /** What a visitor display needs to draw the mimic: no people, no node secrets. */
-export interface DisplayLayoutDto {
-  slug: string;
-  name: string;
-  lines: LayoutLine[];
-  detectors: LayoutDetector[];
-  signals: LayoutSignal[];
-  points: LayoutPoints[];
-  schematic: Record<string, unknown> | null;
+export type DisplayLayoutDto = Pick<LayoutDetail, "slug" | "name" | "lines" | "detectors" | "signals" | "points" | "schematic"> & {
   routes: ProvingRoute[];
-}
+};
 export interface DisplayResponse {
   layout: DisplayLayoutDto;
 }
@@ -74,13 +66,8 @@ export interface OutboxResponse {
   messages: OutboxMessageDto[];
 }
 
-export interface MemberDto {
-  id: number;
-  email: string;
-  name: string;
-  role: Role;
-  alarmMail: boolean;
-}
+/** A member as the members page lists them: the same account view as `GET /api/me`. */
+export type MemberDto = UserDto;
 export interface InvitationDto {
   id: number;
   email: string;

@@ -17,6 +17,7 @@ import { z } from "zod";
 import { layoutRecordsSchema, scaleSchema, slugSchema } from "../layout/schema";
 import type { Rulebook } from "../rulebook/schema";
 import { trimmedNameText } from "./nameText";
+import type { ProofResultDto } from "./rest";
 
 export type { LayoutResponse, LayoutDetail } from "./rest";
 
@@ -102,4 +103,4 @@ export const publishBodySchema = z
 export type PublishBody = z.infer<typeof publishBodySchema>;
 
 /** The last proof of a version, in brief, as the versions list shows it. */
-export type ProofVerdict = "proved" | "refuted" | "unfinished";
+export type ProofVerdict = ProofResultDto["verdict"];

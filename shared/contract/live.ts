@@ -4,7 +4,10 @@
  * `import type` from here; the server validates incoming MQTT payloads with these schemas.
  */
 import { z } from "zod";
-import { aspectSchema, idSchema, nameSchema, type Aspect, type ShownAspect } from "../rulebook/schema";
+import type { EngineState } from "../rulebook/engine";
+import { aspectSchema, idSchema, nameSchema, POINTS_LIES, POINTS_POSITIONS, type Aspect, type PointsLie, type PointsPosition, type ShownAspect } from "../rulebook/schema";
+import type { Change } from "../rulebook/changes";
+import type { AlarmKind } from "./alarmKinds";
 import type { ProofJobDto, ProofProgressDto } from "./rest";
 
 // ───────────────────────────── MQTT (CONTRACT.md §2) ─────────────────────────────
@@ -60,7 +63,8 @@ export const pulsePayloadSchema = z.strictObject({
   boot: bootSchema,
   t: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER).optional(),
 });
-export const POINTS_LIE = ["normal", "reverse", "moving"] as const;
+/** Where a board may report points lie: the rulebook's own list. */
+export const POINTS_LIE = POINTS_LIES;
 export const pointsPayloadSchema = z.strictObject({
   points: idSchema,
   lies: z.enum(POINTS_LIE),
@@ -90,7 +94,7 @@ export const aspectPayloadSchema = z.strictObject({
 
 /** Server → boards: where the rulebook last threw power-worked points (CONTRACT.md §2). */
 export const pointsSetPayloadSchema = z.strictObject({
-  to: z.enum(["normal", "reverse"]),
+  to: z.enum(POINTS_POSITIONS),
   rev: z.number().int().min(0),
   at: z.string(),
 });
@@ -139,28 +143,12 @@ export interface LiveEventDto {
   boardT: number | null;
 }
 
-export interface ChangeDto {
-  kind: string;
-  name: string;
-  from: unknown;
-  to: unknown;
-  rule?: string;
-  command?: string;
-  detail?: string;
-}
+/**
+ * One change of a step as the client, the exports and the event log see it: the engine's own
+ * change (discriminated by `kind`; shared/rulebook/changes.ts), which is plain JSON already.
+ */
+export type ChangeDto = Change;
 
-export type AlarmKind =
-  | "stuck"
-  | "node-offline"
-  | "detector-silent"
-  | "chatter"
-  | "axle-mismatch"
-  | "missed-pulses"
-  | "lamp-proving"
-  | "points-detection"
-  | "rule-loop"
-  | "count-underflow"
-  | "rulebook";
 
 export interface AlarmDto {
   id: number;
@@ -203,10 +191,10 @@ export interface LiveState {
   rulebookVersion: number | null;
   session: SessionDto | null;
   shown: Record<string, ShownAspect>;
-  latches: Record<string, boolean>;
-  counters: Record<string, number>;
-  selectors: Record<string, string>;
-  held: string[];
+  latches: EngineState["latches"];
+  counters: EngineState["counters"];
+  selectors: EngineState["selectors"];
+  held: EngineState["held"];
   /** Armed quiet triggers: rule id → deadline (ISO 8601). */
   quiet: Record<string, string>;
   faulted: null | { reason: string; at: string };
@@ -216,16 +204,19 @@ export interface LiveState {
    * What each board last reported it shows (lamp proving): signal → aspect (or `dark`), the
    * command rev it answers, when. A board in fail-safe reports danger here before the server knows why.
    */
-  lamps?: Record<string, { aspect: string; rev: number; at: string }>;
+  lamps?: Record<string, LampReportDto>;
   /** Where each points lie as last reported (absent: not reported yet), for the mimic. */
-  points?: Record<string, "normal" | "reverse" | "moving">;
+  points?: Record<string, PointsLie>;
   /** Where the rulebook last threw each power-worked points (absent: never thrown). */
-  thrown?: Record<string, "normal" | "reverse">;
+  thrown?: Record<string, PointsPosition>;
   /** Set when this state was read from memory while the database was unreachable: it may lag behind. */
   stale?: boolean;
   /** When each latch/counter/selector/signal last changed: key `latch:NAME`, `counter:NAME`, `selector:NAME`, `signal:ID`. */
   since: Record<string, string>;
 }
+
+/** A board's last lamp report of one signal: what it shows and the command rev it answers, with when it came. */
+export type LampReportDto = Pick<ShownPayload, "aspect" | "rev"> & { at: string };
 
 /** One committed step: its place in the layout's count (`version`), the event and what it changed. */
 export interface LiveStep {
@@ -287,4 +278,4 @@ export interface ClientToServerEvents {
   "proof:unwatch": (request: { jobId: string }) => void;
 }
 
-export type { Aspect, ShownAspect };
+export type { AlarmKind, Aspect, ShownAspect };

@@ -4,7 +4,7 @@
  * rulebook's proving routes; see server/features/sessions/report.ts for how trains, waits
  * and checks are judged. Times are ISO 8601 UTC strings, durations in seconds.
  */
-import type { AlarmKind } from "./live";
+import type { AlarmDto } from "./live";
 import type { ShownAspect } from "../rulebook/schema";
 
 /** Median and maximum of a list of durations, in seconds (null when the list is empty). */
@@ -99,15 +99,8 @@ export interface SignalTimelineDto {
   changes: { at: string; aspect: ShownAspect }[];
 }
 
-export interface ReportAlarmDto {
-  id: number;
-  kind: AlarmKind;
-  subject: string | null;
-  message: string;
-  raisedAt: string;
-  clearedAt: string | null;
-  acknowledgedAt: string | null;
-}
+/** An alarm of the session, without who acknowledged it or how often it repeated. */
+export type ReportAlarmDto = Pick<AlarmDto, "id" | "kind" | "subject" | "message" | "raisedAt" | "clearedAt" | "acknowledgedAt">;
 
 export interface SessionReportDto {
   sessionId: number;

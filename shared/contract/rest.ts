@@ -4,7 +4,8 @@
  * with the zod schemas here; the client imports the types.
  */
 import { z } from "zod";
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../layout/schema";
+import type { LayoutNode, LayoutRecords, LayoutScale } from "../layout/schema";
+import type { Move, ProofResult, PropertyResult, ProveOptions } from "../rulebook/prove";
 import type { Rulebook } from "../rulebook/schema";
 import { idSchema } from "../rulebook/schema";
 
@@ -43,8 +44,9 @@ export interface HealthResponse {
    * Each running layout: `live`, `fail-safe` (every signal at danger: the database cannot
    * commit, or the rulebook faulted) or `stalled` (its link or its commits are stuck).
    */
-  layouts?: Record<string, "live" | "fail-safe" | "stalled">;
+  layouts?: Record<string, LayoutHealth>;
 }
+export type LayoutHealth = "live" | "fail-safe" | "stalled";
 
 export const RULEBOOK_STATUSES = ["draft", "proved", "published"] as const;
 export type RulebookStatus = (typeof RULEBOOK_STATUSES)[number];
@@ -58,7 +60,7 @@ export interface RulebookVersionSummary {
   note: string | null;
   createdAt: string;
   /** The verdict of the version's last proof; null when it was never proved. */
-  verdict: "proved" | "refuted" | "unfinished" | null;
+  verdict: ProofResultDto["verdict"] | null;
   provedAt: string | null;
 }
 export interface RulebookVersionDetail extends RulebookVersionSummary {
@@ -69,7 +71,7 @@ export interface RulebookVersionDetail extends RulebookVersionSummary {
 export interface LayoutSummary {
   slug: string;
   name: string;
-  scale: { name: string; ratio: number };
+  scale: LayoutScale;
   liveVersion: number | null;
   /** An archived layout does not run live and is read-only. */
   archived: boolean;
@@ -81,22 +83,13 @@ export interface LayoutsResponse {
   layouts: LayoutSummary[];
 }
 
-export interface NodeDto {
-  id: string;
-  name: string;
-  detectors: string[];
-  signals: string[];
-  points: string[];
-}
+/** A board as the layout file has it, every list present (no secret: that never leaves). */
+export type NodeDto = Required<LayoutNode>;
 
-export interface LayoutDetail {
+export interface LayoutDetail extends Pick<LayoutRecords, "lines" | "detectors" | "signals" | "points"> {
   slug: string;
   name: string;
-  scale: { name: string; ratio: number };
-  lines: LayoutLine[];
-  detectors: LayoutDetector[];
-  signals: LayoutSignal[];
-  points: LayoutPoints[];
+  scale: LayoutScale;
   nodes: NodeDto[];
   schematic: Record<string, unknown> | null;
   versions: RulebookVersionSummary[];
@@ -128,6 +121,8 @@ export const saveDraftBodySchema = z.strictObject({
   rulebook: z.unknown(),
   note: z.string().max(500).optional(),
 });
+/** What a client sends to save a draft; the rulebook is checked by the server, so any JSON goes. */
+export type SaveDraftBody = Omit<z.input<typeof saveDraftBodySchema>, "rulebook"> & { rulebook: unknown };
 export interface SaveDraftResponse {
   version: number;
 }
@@ -149,31 +144,24 @@ export interface PublishResponse {
 
 // ───────────────────────────── proofs (CONTRACT.md §5, §6) ─────────────────────────────
 
-/** One move of a counterexample (CONTRACT.md §5); trains are numbered from 1 in order of arrival. */
-export type ProofMoveDto =
-  | { type: "arrive"; route: string; axles: number }
-  | { type: "pulse"; detector: string; route: string; train: number }
-  | { type: "quiet"; rule: string }
-  | { type: "points"; points: string; lies: "normal" | "reverse" | "moving" };
+// The prover's own types (shared/rulebook/prove.ts), not copies: a change there is a change here.
 
-export interface ProofPropertyDto {
-  id: string;
-  /** true: proved; false: refuted (see `counterexample`); null: not decided before a limit. */
-  holds: boolean | null;
-  counterexample?: ProofMoveDto[];
-  detail?: string;
-}
+/** One move of a counterexample (CONTRACT.md §5); trains are numbered from 1 in order of arrival. */
+export type ProofMoveDto = Move;
+
+/** One property: true proved, false refuted (see `counterexample`), null not decided before a limit. */
+export type ProofPropertyDto = PropertyResult;
 
 /**
  * Reply to `POST /api/prove`, and a finished proof job's result. "unfinished" (with a
- * `reason`) when the state or time limit was reached or the proof was cancelled.
+ * `reason`) when the state or time limit was reached or the proof was cancelled. The search's
+ * own figures (bytes, which limit stopped it) stay on the server; a cancelled job has no
+ * transition count.
  */
-export interface ProofResultDto {
-  verdict: "proved" | "refuted" | "unfinished";
+export type ProofResultDto = Pick<ProofResult, "verdict" | "reason"> & {
   properties: ProofPropertyDto[];
-  stats: { states: number; ms: number; transitions?: number };
-  reason?: string;
-}
+  stats: Pick<ProofResult["stats"], "states" | "ms"> & Partial<Pick<ProofResult["stats"], "transitions">>;
+};
 
 /** What `rulebook_versions.proof` holds: the result, when and by whom, and the limits used. */
 export interface StoredProofDto extends ProofResultDto {
@@ -182,11 +170,8 @@ export interface StoredProofDto extends ProofResultDto {
   limits: { maxStates: number; maxMs: number };
 }
 
-export interface ProofProgressDto {
-  states: number;
-  frontier: number;
-  depth: number;
-}
+/** A running search's size, as the prover reports it to `onProgress`. */
+export type ProofProgressDto = Parameters<NonNullable<ProveOptions["onProgress"]>>[0];
 
 export type ProofJobState = "queued" | "running" | "done" | "cancelled" | "failed";
 

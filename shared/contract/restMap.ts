@@ -60,6 +60,7 @@ import type {
   ProofResultDto,
   PublishResponse,
   RulebookVersionResponse,
+  SaveDraftBody,
   SaveDraftResponse,
   StartProofResponse,
 } from "./rest";
@@ -70,10 +71,6 @@ import type { SessionEventFilter, SessionEventPage, SessionImportResponse, Sessi
 /** `{ok:true}`: logout, setup, password reset. */
 export interface OkResponse {
   ok: true;
-}
-export interface SaveDraftBody {
-  rulebook: unknown;
-  note?: string;
 }
 export interface SessionControlBody {
   action: "open" | "close";

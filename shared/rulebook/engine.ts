@@ -16,7 +16,7 @@
  * - **Alarm action**: `{ alarm: TEXT }` changes no state; it adds a change
  *   `{ kind: "alarm", name: <rule id>, to: "rule-alarm", detail: TEXT }`. It never faults.
  * - **Alarm changes** in general: `kind: "alarm"`, `name` = what it is about (rule id, counter,
- *   or `"rulebook"`), `to` = the alarm code (`rule-alarm`, `count-underflow`, `rule-loop`),
+ *   or `"rulebook"`), `to` = the alarm code (`ENGINE_ALARM` in engineAlarms.ts: `rule-alarm`, `count-underflow`, `rule-loop`),
  *   `detail` = readable text.
  * - **Unknown detectors**: a pulse at a detector no rule mentions still advances the clock,
  *   fires due quiet triggers and settles; it is otherwise ignored (no error, no change).
@@ -48,6 +48,8 @@
  *   by a show action, an aspect condition or a proving route, in order of first mention. A
  *   signal not in `initial` starts with wanted aspect danger.
  */
+import type { Change, ChangeKind, ChangeOf, EngineFault } from "./changes";
+import { ENGINE_ALARM } from "./engineAlarms";
 import { matchAction, matchCondition, matchTrigger, unreachable } from "./kinds";
 import { signalsMentioned } from "./mentions";
 import type { Action, Aspect, Condition, PointsLie, PointsPosition, Rule, Rulebook } from "./schema";
@@ -74,32 +76,14 @@ export interface EngineState {
   held: string[];
   /** Armed quiet triggers: rule id → deadline (ms). */
   quiet: Record<string, number>;
-  faulted: null | { reason: string; at: number };
+  faulted: null | EngineFault;
   /** Where each points lie as last reported (absent: `unknown`, no report yet). */
   points: Record<string, PointsLie>;
   /** Where the rules last threw each power-worked points (absent: never thrown). */
   thrown: Record<string, PointsPosition>;
 }
 
-/**
- * `points`: a report recorded where points lie (from → to). `throw`: the rules threw power-worked
- * points (from = where last thrown or null, to = the new position): the effect a live runner
- * publishes on `…/points/{id}/set`.
- */
-export type ChangeKind = "latch" | "counter" | "selector" | "wanted" | "held" | "quiet" | "fault" | "alarm" | "shown" | "points" | "throw";
-
-export type Change = {
-  kind: ChangeKind;
-  name: string;
-  from: unknown;
-  to: unknown;
-  /** The rule that made the change. */
-  rule?: string;
-  /** The signaller command that made the change. */
-  command?: string;
-  /** Alarm text, a command's reason, etc. */
-  detail?: string;
-};
+export type { Change, ChangeKind, ChangeOf, EngineFault } from "./changes";
 
 export interface StepResult {
   state: EngineState;
@@ -179,13 +163,15 @@ function finishWork(work: Work): EngineState {
 const NO_POINTS: Record<string, PointsLie> = Object.freeze({}) as Record<string, PointsLie>;
 const NO_THROWS: Record<string, PointsPosition> = Object.freeze({}) as Record<string, PointsPosition>;
 
-function emit(work: Work, kind: ChangeKind, name: string, from: unknown, to: unknown, detail?: string): void {
-  const change: Change =
+function emit<K extends ChangeKind>(work: Work, kind: K, name: string, from: ChangeOf<K>["from"], to: ChangeOf<K>["to"], detail?: string): void {
+  // Built the same way for every kind; the parameters tie `from` and `to` to the kind.
+  const change = (
     work.rule !== undefined
       ? { kind, name, from, to, rule: work.rule }
       : work.command !== undefined
         ? { kind, name, from, to, command: work.command }
-        : { kind, name, from, to };
+        : { kind, name, from, to }
+  ) as Change;
   const text = detail ?? (work.rule === undefined ? work.commandDetail : undefined);
   if (text !== undefined) change.detail = text;
   work.changes.push(change);
@@ -210,7 +196,7 @@ function writeCounter(work: Work, counter: string, value: number): void {
   const from = work.counters[counter] ?? 0;
   let to = value;
   if (to < 0) {
-    emit(work, "alarm", counter, null, "count-underflow", `counter ${counter} would go below 0 (${to}); held at 0`);
+    emit(work, "alarm", counter, null, ENGINE_ALARM.countUnderflow, `counter ${counter} would go below 0 (${to}); held at 0`);
     to = 0;
   }
   if (to === from) return;
@@ -368,7 +354,7 @@ function compileAction(action: Action, ruleId: string): Effect {
     select: ({ select: selector, value }) => (work) => writeSelector(work, selector, value),
     show: ({ show: signal, aspect }) => (work) => writeWanted(work, signal, aspect),
     throw: ({ throw: points, to }) => (work) => writeThrown(work, points, to),
-    alarm: ({ alarm: text }) => (work) => emit(work, "alarm", ruleId, null, "rule-alarm", text),
+    alarm: ({ alarm: text }) => (work) => emit(work, "alarm", ruleId, null, ENGINE_ALARM.ruleAlarm, text),
   });
 }
 
@@ -501,7 +487,7 @@ function fault(compiled: CompiledRulebook, work: Work, rule: CompiledRule): void
   }
   work.faulted = { reason, at: work.clock };
   emit(work, "fault", "rulebook", null, work.faulted, reason);
-  emit(work, "alarm", "rulebook", null, "rule-loop", `${reason}; every signal shows danger until restart`);
+  emit(work, "alarm", "rulebook", null, ENGINE_ALARM.ruleLoop, `${reason}; every signal shows danger until restart`);
 }
 
 function settle(compiled: CompiledRulebook, work: Work): void {

@@ -8,13 +8,6 @@ import type { LiveState } from "../../shared/contract/live";
 import type { NodeDto } from "../../shared/contract/rest";
 import type { ShownAspect } from "../../shared/rulebook/schema";
 
-/**
- * What each board last reported it shows (lamp proving), per signal. The live pipeline's
- * rework (branch zero-loss) adds this as `LiveState.lamps`; until then it is absent and the
- * page says "no lamp report yet".
- */
-export type LampReports = Record<string, { aspect: string; rev: number; at: string }>;
-export const lampsOf = (state: LiveState): LampReports | undefined => (state as LiveState & { lamps?: LampReports }).lamps;
 
 export type LayoutStatusLevel = "live" | "boards-offline" | "fail-safe" | "no-boards";
 

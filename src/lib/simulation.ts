@@ -7,6 +7,7 @@ import { initialStep, step, type Change, type EngineInput, type EngineState } fr
 import { replayCounterexample, type Move, type TrainView } from "../../shared/rulebook/prove";
 import { POINTS_LIES, type PointsLie, type ProvingRoute } from "../../shared/rulebook/schema";
 import type { Rulebook } from "../../shared/rulebook/schema";
+import { unreachable } from "../../shared/rulebook/kinds";
 import { formatClock } from "./format";
 
 /** One point in the simulation: the input that led here and what it changed. */
@@ -212,6 +213,8 @@ export function describeChange(change: Change): string {
       return `points ${change.name} lie ${show(change.to)} (were ${show(change.from)})`;
     case "throw":
       return `points ${change.name} thrown ${show(change.to)}`;
+    default:
+      return unreachable(change);
   }
 }
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import type { LiveState, LiveUpdate } from "../../shared/contract/live";
+import type { ChangeDto, LiveState, LiveUpdate } from "../../shared/contract/live";
 import { redactStateForDisplay, redactUpdateForDisplay } from "../../server/features/display/redact";
 
 const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: "t", acknowledgedBy: "Fernmoor Signaller", comment: "checked", clearedAt: null, occurrences: 1, lastSeenAt: "t" };
@@ -10,7 +10,7 @@ describe("what a visitor display receives", () => {
     expect(redactStateForDisplay(state)).toMatchObject({ version: 3, alarms: [], shown: { M1: "clear" } });
   });
 
-  it.each([
+  it.each<[string, ChangeDto, ChangeDto]>([
     ["a command's reason is dropped", { kind: "held", name: "M1", from: false, to: true, command: "hold", detail: "Shunt for Fernmoor Signaller" }, { kind: "held", name: "M1", from: false, to: true, command: "hold" }],
     ["a rule's change is kept whole", { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }, { kind: "shown", name: "M1", from: "danger", to: "clear", rule: "give-main" }],
   ])("%s", (_name, change, expected) => {

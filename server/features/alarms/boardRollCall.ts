@@ -5,6 +5,7 @@
  * are the watchers' business. Checked every `everyMs`; the decision is {@link missingBoards}.
  */
 import { QueryTypes } from "sequelize";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import type { AppDeps } from "../../deps";
 import { raiseAlarm } from "./service";
 import { alarmSettingsOf } from "./settings";
@@ -60,7 +61,7 @@ export async function rollCall(deps: AppDeps, now = Date.now()): Promise<number>
       const { created } = await raiseAlarm(deps, {
         layoutId: session.layoutId,
         sessionId: session.sessionId,
-        kind: "node-offline",
+        kind: ALARM_KIND.nodeOffline,
         subject: board.id,
         message: `Board ${board.name} (${board.id}) has not connected within ${minutes(boardConnectWithinMs)} of the session's start at ${clock(session.openedAt)} UTC`,
       });

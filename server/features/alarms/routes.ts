@@ -3,7 +3,7 @@ import { z } from "zod";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
-import { findLayout, refuseIfArchived } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../../data/layouts";
 import { alarmSettingsPatchSchema } from "../../../shared/contract/alarmSettings";
 import { acknowledgeAlarm, listAlarms } from "./service";
 import { describeAlarmSettings, updateAlarmSettings } from "./settings";

@@ -7,17 +7,14 @@
 import { QueryTypes } from "sequelize";
 import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
-import type { AlarmPort } from "../../runtime/ports";
+import type { AlarmPort, RaiseAlarm } from "../../runtime/ports";
 import { notFound } from "../../http/errors";
 
-export interface RaiseAlarmInput {
-  layoutId: number;
-  kind: AlarmKind;
-  subject: string | null;
-  message: string;
+/** The port's alarm, where features may leave the event and session out (or give the event id as a number). */
+export type RaiseAlarmInput = Omit<RaiseAlarm, "eventId" | "sessionId"> & {
   eventId?: string | number | null;
   sessionId?: number | null;
-}
+};
 
 interface AlarmRow {
   id: number;

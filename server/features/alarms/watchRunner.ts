@@ -9,7 +9,7 @@ import { QueryTypes } from "sequelize";
 import type { LivePatch, LiveStep, LiveUpdate } from "../../../shared/contract/live";
 import { systemClock, type Cancel, type Clock } from "../../clock";
 import type { AppDeps } from "../../deps";
-import { findLayout, liveRulebookVersion } from "../layouts/service";
+import { findLayout, liveRulebookVersion } from "../../data/layouts";
 import { AlarmWriter } from "./alarmWriter";
 import { AlarmWatcher, type WatchInput, type WatchRoute } from "./watchers";
 import { DEFAULT_WATCHER_SETTINGS, withDefaults, type WatcherSettings } from "./watcherSettings";

@@ -37,7 +37,7 @@
  * `repeat` (the writer adds it to the alarm's count and "last seen"): every chattering pulse
  * and every mismatched train; a silent detector when the count of trains it missed grows.
  */
-import type { AlarmKind } from "../../../shared/contract/live";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import { DEFAULT_WATCHER_SETTINGS, type WatcherSettings } from "./watcherSettings";
 
 export interface WatchRoute {
@@ -61,7 +61,7 @@ export type WatchInput =
   | { type: "node"; at: number; node: string; online: boolean }
   | { type: "tick"; at: number };
 
-export type WatchedKind = Extract<AlarmKind, "stuck" | "detector-silent" | "chatter" | "axle-mismatch" | "node-offline">;
+export type WatchedKind = (typeof ALARM_KIND)["stuck" | "detectorSilent" | "chatter" | "axleMismatch" | "nodeOffline"];
 
 export interface AlarmAction {
   /** `raise`: newly open; `repeat`: happened again while open (count + 1); `clear`: gone. */
@@ -76,11 +76,11 @@ export interface AlarmAction {
 /** When an open alarm happens again: on every occurrence, only when its figures change, or never. */
 export type RepeatRule = "always" | "changed" | "never";
 export const REPEAT_RULES: Record<WatchedKind, RepeatRule> = {
-  chatter: "always",
-  "axle-mismatch": "always",
-  "detector-silent": "changed",
-  stuck: "never",
-  "node-offline": "never",
+  [ALARM_KIND.chatter]: "always",
+  [ALARM_KIND.axleMismatch]: "always",
+  [ALARM_KIND.detectorSilent]: "changed",
+  [ALARM_KIND.stuck]: "never",
+  [ALARM_KIND.nodeOffline]: "never",
 };
 
 /** Trains counted at a detector and not yet matched downstream, at most this many. */
@@ -288,7 +288,7 @@ export class AlarmWatcher {
     const chatter = gap !== null && gap < s.chatterMinGapMs;
     if (chatter) {
       touch(this.chatterSeen, d, now);
-      this.raise("chatter", d, alarmText.chatter(d, gap, s.chatterMinGapMs));
+      this.raise(ALARM_KIND.chatter, d, alarmText.chatter(d, gap, s.chatterMinGapMs));
     }
     if (mine && gap !== null && gap > s.trainGapMs) {
       this.finishTrain(d, mine);
@@ -311,7 +311,7 @@ export class AlarmWatcher {
     if (!marks) this.marks.set(d, (marks = new Map()));
     for (const n of before) marks.set(n, this.trains.get(n) ?? 0);
     for (const n of after) marks.set(n, this.trains.get(n) ?? 0);
-    this.clear("detector-silent", d);
+    this.clear(ALARM_KIND.detectorSilent, d);
     // Did the trains at d pass a silent detector on the way?
     for (const other of before) this.checkSilent(other);
     for (const next of after) this.checkSilent(next);
@@ -322,8 +322,8 @@ export class AlarmWatcher {
   private onNode(node: string, online: boolean): void {
     if (online) {
       this.offlineDue.delete(node);
-      this.clear("node-offline", node);
-    } else if (!this.offlineDue.has(node) && !this.raised.has(keyOf("node-offline", node))) {
+      this.clear(ALARM_KIND.nodeOffline, node);
+    } else if (!this.offlineDue.has(node) && !this.raised.has(keyOf(ALARM_KIND.nodeOffline, node))) {
       this.offlineDue.set(node, this.clock);
     }
   }
@@ -352,9 +352,9 @@ export class AlarmWatcher {
       const earlier = this.counted.get(from)!.shift()!;
       const subject = `${from}→${detector}`;
       if (Math.abs(earlier.axles - train.axles) > this.settings.axleMismatchTolerance) {
-        this.raise("axle-mismatch", subject, alarmText.axleMismatch(from, earlier.axles, detector, train.axles));
+        this.raise(ALARM_KIND.axleMismatch, subject, alarmText.axleMismatch(from, earlier.axles, detector, train.axles));
       } else {
-        this.clear("axle-mismatch", subject);
+        this.clear(ALARM_KIND.axleMismatch, subject);
       }
     }
     if ((this.graph.after[detector] ?? []).length > 0) {
@@ -388,7 +388,7 @@ export class AlarmWatcher {
         }
       }
     }
-    if (witness !== undefined) this.raise("detector-silent", d, alarmText.silent(d, witness, seen(witness)));
+    if (witness !== undefined) this.raise(ALARM_KIND.detectorSilent, d, alarmText.silent(d, witness, seen(witness)));
   }
 
   private detectorsOf(name: string): string[] {
@@ -411,7 +411,7 @@ export class AlarmWatcher {
       this.setSince.delete(key);
       this.stuckDue.delete(key);
       for (const d of this.detectorsOf(nameOfKey(key))) this.keysOfDetector.get(d)?.delete(key);
-      this.clear("stuck", nameOfKey(key));
+      this.clear(ALARM_KIND.stuck, nameOfKey(key));
     }
   }
 
@@ -422,7 +422,7 @@ export class AlarmWatcher {
       const [key] = next;
       this.stuckDue.delete(key);
       const name = nameOfKey(key);
-      this.raise("stuck", name, alarmText.stuck(name, isLatchKey(key), this.settings.stuckAfterMs, this.detectorsOf(name)));
+      this.raise(ALARM_KIND.stuck, name, alarmText.stuck(name, isLatchKey(key), this.settings.stuckAfterMs, this.detectorsOf(name)));
     }
   }
 
@@ -431,7 +431,7 @@ export class AlarmWatcher {
       const next = front(this.chatterSeen);
       if (!next || this.clock - next[1] < this.settings.chatterQuietMs) return;
       this.chatterSeen.delete(next[0]);
-      this.clear("chatter", next[0]);
+      this.clear(ALARM_KIND.chatter, next[0]);
     }
   }
 
@@ -440,7 +440,7 @@ export class AlarmWatcher {
       const next = front(this.offlineDue);
       if (!next || this.clock - next[1] < this.settings.nodeOfflineAfterMs) return;
       this.offlineDue.delete(next[0]);
-      this.raise("node-offline", next[0], alarmText.nodeOffline(next[0], this.settings.nodeOfflineAfterMs));
+      this.raise(ALARM_KIND.nodeOffline, next[0], alarmText.nodeOffline(next[0], this.settings.nodeOfflineAfterMs));
     }
   }
 }

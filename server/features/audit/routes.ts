@@ -4,7 +4,7 @@ import type { AuditResponse } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { listAccountAudit } from "./accounts";
-import { findLayout } from "../layouts/service";
+import { findLayout } from "../../data/layouts";
 
 const AUDIT_LIMIT = 500;
 

@@ -3,7 +3,7 @@ import type { DisplayResponse } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { allowAnyone } from "../auth/middleware";
 import { HttpError } from "../../http/errors";
-import { layoutDetail, findLayout, liveRulebookVersion } from "../layouts/service";
+import { layoutDetail, findLayout, liveRulebookVersion } from "../../data/layouts";
 import { layoutOfDisplayToken } from "../live/displayLinks";
 
 /**

@@ -14,8 +14,8 @@ import { validateLayoutRecords, type ValidationError } from "../../../shared/rul
 import type { Layout } from "../../db/models";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict } from "../../http/errors";
-import { detailOf, findLayout, refuseIfArchived } from "./service";
-import { writeRecords } from "./records";
+import { detailOf, findLayout, refuseIfArchived } from "../../data/layouts";
+import { writeRecords } from "../../data/layoutRecords";
 
 export async function createLayout(deps: AppDeps, body: CreateLayoutBody, userId: number): Promise<LayoutDetail> {
   const { Layout, AuditEntry } = deps.db.models;

@@ -4,7 +4,8 @@ import { createNodeBodySchema, type LayoutResponse, type LayoutsResponse } from 
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
-import { exportLayout, importLayout, layoutDetail, listLayouts, registerNode } from "./service";
+import { layoutDetail } from "../../data/layouts";
+import { exportLayout, importLayout, listLayouts, registerNode } from "./service";
 import { createLayout, saveLayout, setArchived } from "./edit";
 
 export function layoutRoutes(deps: AppDeps): Router {

@@ -1,30 +1,25 @@
 /**
- * Layouts: import and export of layout files (CONTRACT.md §3), reading, and nodes. Creating
- * and editing the records is in `edit.ts`.
+ * Layouts: import and export of layout files (CONTRACT.md §3), the layout list, and nodes.
+ * Creating and editing the records is in `edit.ts`; looking a layout up (by slug, its detail,
+ * its live version) is server/data/layouts.ts, shared by every feature.
  */
 import { randomBytes } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import type { z } from "zod";
-import type { createNodeBodySchema, LayoutDetail, LayoutSummary, RulebookVersionSummary } from "../../../shared/contract/rest";
+import type { createNodeBodySchema, LayoutSummary } from "../../../shared/contract/rest";
 import { canonicalLayout } from "../../../shared/layout/canonical";
-import { LAYOUT_FORMAT, type LayoutFile, type LayoutRecords } from "../../../shared/layout/schema";
+import type { LayoutFile } from "../../../shared/layout/schema";
 import { canonicalRulebook } from "../../../shared/rulebook/canonical";
 import { validateLayoutFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
-import { HttpError, conflict, notFound } from "../../http/errors";
+import { HttpError, conflict } from "../../http/errors";
 import { hashNodeSecret } from "../../nodeSecret";
-import type { Layout } from "../../db/models";
-import { readRecords, writeRecords, type RecordLists } from "./records";
+import { findLayout, layoutRecords, liveRulebookVersion, refuseIfArchived } from "../../data/layouts";
+import { readRecords, writeRecords } from "../../data/layoutRecords";
 
 /** The parsed body of `POST …/nodes`; callers inside the server may leave `points` out. */
 type CreateNodeBodyParsed = Omit<z.output<typeof createNodeBodySchema>, "points"> & { points?: string[] };
 type Row = Record<string, unknown>;
-
-export async function findLayout(deps: AppDeps, slug: string): Promise<Layout> {
-  const layout = await deps.db.models.Layout.findOne({ where: { slug } });
-  if (!layout) throw notFound(`layout "${slug}"`);
-  return layout;
-}
 
 /** Validates and stores a layout file; its rulebook becomes version 1, published and live. */
 export async function importLayout(deps: AppDeps, input: unknown, authorId: number | null): Promise<{ slug: string; layoutId: number }> {
@@ -47,24 +42,6 @@ export async function importLayout(deps: AppDeps, input: unknown, authorId: numb
   });
   deps.bus.emit("rulebook.published", { layoutId, slug: file.slug, version: 1 });
   return { slug: file.slug, layoutId };
-}
-
-export async function liveRulebookVersion(deps: AppDeps, layout: Layout) {
-  if (layout.liveVersion === null) return null;
-  return deps.db.models.RulebookVersion.findOne({ where: { layoutId: layout.id, version: layout.liveVersion } });
-}
-
-/** The records as a layout file without rulebook, in canonical key order. */
-export async function layoutRecords(deps: AppDeps, layout: Layout): Promise<LayoutRecords & RecordLists> {
-  const parts = await readRecords(deps, layout.id);
-  return canonicalLayout({
-    format: LAYOUT_FORMAT,
-    slug: layout.slug,
-    name: layout.name,
-    scale: { name: layout.scaleName, ratio: layout.scaleRatio },
-    ...parts,
-    ...(layout.schematic ? { schematic: layout.schematic } : {}),
-  });
 }
 
 /**
@@ -97,46 +74,6 @@ export async function listLayouts(deps: AppDeps): Promise<LayoutSummary[]> {
     signalCount: r.signal_count as number,
     nodeCount: r.node_count as number,
   }));
-}
-
-export async function listVersions(deps: AppDeps, layout: Layout): Promise<RulebookVersionSummary[]> {
-  const rows = await deps.db.sequelize.query<Row>(
-    `SELECT v.version, v.status, v.note, v.created_at, u.name AS author,
-            v.proof->>'verdict' AS verdict, v.proof->>'provedAt' AS proved_at
-       FROM rulebook_versions v LEFT JOIN users u ON u.id = v.author_id
-      WHERE v.layout_id = :layoutId ORDER BY v.version DESC`,
-    { replacements: { layoutId: layout.id }, type: QueryTypes.SELECT },
-  );
-  return rows.map((r) => ({
-    version: r.version as number,
-    status: r.status as RulebookVersionSummary["status"],
-    live: r.version === layout.liveVersion,
-    author: (r.author as string | null) ?? null,
-    note: (r.note as string | null) ?? null,
-    createdAt: new Date(r.created_at as string).toISOString(),
-    verdict: (r.verdict as RulebookVersionSummary["verdict"] | null) ?? null,
-    provedAt: r.proved_at ? new Date(r.proved_at as string).toISOString() : null,
-  }));
-}
-
-export async function layoutDetail(deps: AppDeps, slug: string): Promise<LayoutDetail> {
-  const layout = await findLayout(deps, slug);
-  return detailOf(deps, layout);
-}
-
-export async function detailOf(deps: AppDeps, layout: Layout): Promise<LayoutDetail> {
-  const [parts, versions] = await Promise.all([readRecords(deps, layout.id), listVersions(deps, layout)]);
-  return {
-    slug: layout.slug,
-    name: layout.name,
-    scale: { name: layout.scaleName, ratio: layout.scaleRatio },
-    ...parts,
-    schematic: layout.schematic,
-    versions,
-    revision: layout.revision,
-    liveVersion: layout.liveVersion,
-    archivedAt: layout.archivedAt ? layout.archivedAt.toISOString() : null,
-  };
 }
 
 const SECRET_BYTES = 24;
@@ -184,7 +121,3 @@ export async function registerNode(deps: AppDeps, slug: string, body: CreateNode
   return { id: body.id, secret };
 }
 
-/** An archived layout is read-only: every change is refused with 409. */
-export function refuseIfArchived(layout: Layout): void {
-  if (layout.archivedAt) throw new HttpError(409, "archived", `layout "${layout.slug}" is archived and read-only; an admin can restore it`);
-}

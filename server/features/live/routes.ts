@@ -10,7 +10,7 @@ import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { LiveError } from "../../runtime/ports";
 import { allowAnyone, requirePermission } from "../auth/middleware";
-import { findLayout, refuseIfArchived } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../../data/layouts";
 import { redactStateForDisplay } from "../display/redact";
 import { createDisplayLink, layoutOfDisplayToken, listDisplayLinks, revokeDisplayLink } from "./displayLinks";
 

@@ -86,7 +86,7 @@ export function attachLiveSocket(server: http.Server, deps: AppDeps): { io: Live
           }
           socket.data.displayHashes.set(slug, link.tokenHash);
         }
-        if (!deps.live?.runner(slug)) {
+        if (!deps.live?.runs(slug)) {
           reply({ ok: false, error: { code: "not_found", message: `no live layout "${slug}"` } });
           return;
         }

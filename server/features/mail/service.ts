@@ -8,25 +8,14 @@ import type { AddressInfo } from "node:net";
 import nodemailer, { type Transporter } from "nodemailer";
 import { QueryTypes } from "sequelize";
 import { SMTPServer } from "smtp-server";
-import type { AppDeps } from "../../deps";
+import type { AppDeps, MailMessage, Mailer } from "../../deps";
 import { parseMessage } from "./parse";
 
 export const MAIL_FROM = "Blocklight <blocklight@localhost>";
 /** Largest message the fake server accepts. */
 const FAKE_SMTP_MAX_BYTES = 1024 * 1024;
 
-export interface MailMessage {
-  to: string;
-  subject: string;
-  text: string;
-}
-
-export interface Mailer {
-  send(message: MailMessage): Promise<void>;
-  close(): Promise<void>;
-  /** Where mail goes: the SMTP URL (password hidden) or the fake server's address. */
-  describe(): string;
-}
+export type { MailMessage, Mailer };
 
 async function insertOutbox(deps: AppDeps, row: { to: string; subject: string; text: string; sent: boolean; error?: string | null }): Promise<number> {
   const rows = await deps.db.sequelize.query<{ id: number }>(

@@ -18,13 +18,14 @@ import type {
   UserDto,
 } from "../../../shared/contract/rest";
 import { PROPERTY_IDS, type ProofResult } from "../../../shared/rulebook/prove";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { PointsWorking } from "../../../shared/layout/schema";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
 import { raiseAlarm } from "../alarms/service";
-import { findLayout } from "../layouts/service";
+import { findLayout } from "../../data/layouts";
 import { PROOF_MAX_MS, PROOF_MAX_STATES, PoolFull, ProofCancelled, ProofPool, type ProofRun } from "./pool";
 
 /** Progress reaches sockets at most this often per job. */
@@ -301,7 +302,7 @@ async function announceRefutedPublished(deps: AppDeps, layoutId: number, version
   if (live) {
     await raiseAlarm(deps, {
       layoutId,
-      kind: "rulebook",
+      kind: ALARM_KIND.rulebook,
       subject: `version ${version}`,
       message: `The live rulebook (version ${version}) was refuted: ${failed.join(", ")} can fail. Publish a proved version, or run only under the society's own rules until then.`,
     });

@@ -8,6 +8,7 @@ import { parentPort, workerData } from "node:worker_threads";
 import { performance } from "node:perf_hooks";
 import { prove, type ProofResult } from "../../../shared/rulebook/prove";
 import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { ProofProgressDto } from "../../../shared/contract/rest";
 
 export interface ProofWorkerInput {
   rulebook: Rulebook;
@@ -17,11 +18,7 @@ export interface ProofWorkerInput {
   points?: Record<string, "power" | "hand">;
 }
 
-export interface ProofProgress {
-  states: number;
-  frontier: number;
-  depth: number;
-}
+export type ProofProgress = ProofProgressDto;
 
 export type ProofWorkerMessage = ({ type: "progress" } & ProofProgress) | { type: "done"; result: ProofResult };
 

@@ -13,7 +13,7 @@ import { canonicalRulebook } from "../../../shared/rulebook/canonical";
 import { rulebookContextOf, validateRulebookFile } from "../../../shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
-import { findLayout, layoutRecords, listVersions, refuseIfArchived } from "../layouts/service";
+import { findLayout, layoutRecords, listVersions, refuseIfArchived } from "../../data/layouts";
 
 export async function readVersion(deps: AppDeps, slug: string, version: number): Promise<RulebookVersionDetail> {
   const layout = await findLayout(deps, slug);

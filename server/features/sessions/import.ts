@@ -9,6 +9,7 @@
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
 import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
+import type { EngineInput } from "../../../shared/rulebook/engine";
 import type { AppDeps } from "../../deps";
 import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";
@@ -41,6 +42,9 @@ const engineInputSchema = z.union([
   z.object({ type: z.literal("command"), at, command: z.literal("zero"), counter: name, ...by }),
   z.object({ type: z.literal("command"), at, command: z.literal("restart"), ...by }),
 ]);
+// Written out for its bounds; fails to compile if the schema lets through what `EngineInput` does not allow.
+type _EngineInputFits = Assignable<z.infer<typeof engineInputSchema>, EngineInput>;
+type Assignable<T extends U, U> = [T, U];
 
 /** One exported event (`SessionEventDto`); `id`, `user` and `changes` are read but not kept. */
 const importedEventSchema = z

@@ -10,7 +10,7 @@ import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { EVENT_CSV_HEADER, eventCsvRow } from "./eventCsv";
 import { ensureImportReplayed } from "./importReplay";
 import { importFormat, importSession, invalidLog, MAX_IMPORT_BYTES, parseEventLog } from "./import";
-import { findLayout, refuseIfArchived } from "../layouts/service";
+import { findLayout, refuseIfArchived } from "../../data/layouts";
 import { REPORT_TABLES, reportCsv } from "./reportCsv";
 import { sessionReport } from "./reportService";
 import { findSession, listSessions, MAX_EVENT_PAGE, sessionEventPage, sessionEvents, sessionInputs } from "./service";

@@ -83,14 +83,16 @@ const EVENT_COLUMNS = `e.id::text, e.kind, e.status, e.reason, e.node_id, e.boot
 /** Rows of `events` (with the user's name) as the log shows them, each with its changes. */
 async function withChanges(deps: AppDeps, rows: EventRow[]): Promise<ExportedEvent[]> {
   if (rows.length === 0) return [];
-  const changes = await deps.db.sequelize.query<{ event_id: string; kind: string; name: string; from_value: unknown; to_value: unknown; rule: string | null; command: string | null; detail: string | null }>(
+  const changes = await deps.db.sequelize.query<{ event_id: string; kind: ChangeDto["kind"]; name: string; from_value: unknown; to_value: unknown; rule: string | null; command: string | null; detail: string | null }>(
     `SELECT event_id::text, kind, name, from_value, to_value, rule, command, detail FROM changes
       WHERE event_id = ANY(:ids::bigint[]) ORDER BY event_id, id`,
     { replacements: { ids: `{${rows.map((r) => r.id).join(",")}}` }, type: QueryTypes.SELECT },
   );
   const byEvent = new Map<string, ChangeDto[]>();
   for (const c of changes) {
-    const dto: ChangeDto = { kind: c.kind, name: c.name, from: c.from_value, to: c.to_value };
+    // The runner and the import store the engine's changes as they came out of `step`, so a
+    // row's kind and values agree as `Change` says; the database does not check that.
+    const dto = { kind: c.kind, name: c.name, from: c.from_value, to: c.to_value } as ChangeDto;
     if (c.rule) dto.rule = c.rule;
     if (c.command) dto.command = c.command;
     if (c.detail) dto.detail = c.detail;

@@ -4,6 +4,7 @@
  * handed over and handed back: the caller uses the returned one and drops the old.
  */
 import type { CommandBody } from "../../../shared/contract/live";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import { initialState, signalIds, type EngineInput } from "../../../shared/rulebook/engine";
 import type { Rulebook } from "../../../shared/rulebook/schema";
 import type { Batch } from "../eventLog";
@@ -81,7 +82,7 @@ function applyCommand(core: Core, item: Extract<CoreInput, { type: "command" }>,
   const before = summary(core);
   if (body.type === "restart" && core.pipelineFault) {
     core.pipelineFault = null;
-    out.effects.push({ type: "clear", kind: "rulebook", subject: "pipeline" });
+    out.effects.push({ type: "clear", kind: ALARM_KIND.rulebook, subject: "pipeline" });
   }
   const event = newEvent(core, { kind: "command", status: "accepted", receivedAt: at, userId: item.user.id, input });
   const index = runEngine(core, input, event, out);

@@ -4,6 +4,7 @@
  * applied, duplicate, late or rejected — strictly in seq order (CONTRACT.md §2).
  */
 import { MAX_SEQ_AHEAD, type NodeLiveDto } from "../../../shared/contract/live";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import type { EngineInput } from "../../../shared/rulebook/engine";
 import type { PendingEvent } from "../eventLog";
 import { covered, offer, tooFarAhead, type SeqDecision } from "./sequencer";
@@ -96,10 +97,10 @@ export function applyMessage(core: Core, m: HeldMessage, retain: boolean, at: nu
         event.reason = `lamp proving: shows ${p.aspect}, commanded ${commanded.aspect} (rev ${commanded.rev})`;
         const index = record(out, event, patch);
         const message = `signal ${p.signal} shows ${p.aspect} but was commanded ${commanded.aspect}`;
-        out.effects.push({ type: "alarm", kind: "lamp-proving", subject: p.signal, message, event: index });
+        out.effects.push({ type: "alarm", kind: ALARM_KIND.lampProving, subject: p.signal, message, event: index });
         return;
       }
-      out.effects.push({ type: "clear", kind: "lamp-proving", subject: p.signal });
+      out.effects.push({ type: "clear", kind: ALARM_KIND.lampProving, subject: p.signal });
     } else if (commanded) {
       event.reason = `report for rev ${p.rev}, older than the latest command (rev ${commanded.rev}): not compared`;
     }
@@ -134,14 +135,14 @@ export function applyDecisions(core: Core, decisions: SeqDecision<HeldMessage>[]
         break;
       case "release": {
         const index = applyReleased(core, d.message, out);
-        for (const missed of pendingMissed) out.effects.push({ type: "alarm", kind: "missed-pulses", subject: missed.node, message: missed.message, event: index });
+        for (const missed of pendingMissed) out.effects.push({ type: "alarm", kind: ALARM_KIND.missedPulses, subject: missed.node, message: missed.message, event: index });
         pendingMissed = [];
         out.effects.push({ type: "settle", ref: d.message.ref, error: null });
         break;
       }
     }
   }
-  for (const missed of pendingMissed) out.effects.push({ type: "alarm", kind: "missed-pulses", subject: missed.node, message: missed.message, event: null });
+  for (const missed of pendingMissed) out.effects.push({ type: "alarm", kind: ALARM_KIND.missedPulses, subject: missed.node, message: missed.message, event: null });
   for (const { node, boot } of touched.values()) out.effects.push({ type: "covered", node, boot, seq: covered(core.seqs, node, boot) });
 }
 

@@ -7,6 +7,7 @@
  * old position, so a sound rulebook keeps the route's signal at danger).
  */
 import type { Change } from "../../../shared/rulebook/engine";
+import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
 import type { PointsPosition } from "../../../shared/rulebook/schema";
 import { iso, type Core, type Step } from "./state";
 
@@ -47,7 +48,7 @@ export function pointsCommands(core: Core, all = false): { points: string; to: P
 export function notePointsChanges(core: Core, changes: Change[], at: number, out: Step): void {
   for (const change of changes) {
     if (change.kind === "throw") {
-      const to = change.to as PointsPosition;
+      const to = change.to;
       if ((core.state.points?.[change.name] ?? "unknown") === to) finishCheck(core, change.name, out);
       else core.pointsChecks.set(change.name, { to, since: at, alarmed: core.pointsChecks.get(change.name)?.alarmed ?? false });
     } else if (change.kind === "points") {
@@ -60,7 +61,7 @@ export function notePointsChanges(core: Core, changes: Change[], at: number, out
 function finishCheck(core: Core, points: string, out: Step): void {
   const check = core.pointsChecks.get(points);
   core.pointsChecks.delete(points);
-  if (check?.alarmed) out.effects.push({ type: "clear", kind: "points-detection", subject: points });
+  if (check?.alarmed) out.effects.push({ type: "clear", kind: ALARM_KIND.pointsDetection, subject: points });
 }
 
 /** The clock: checks past their time raise their alarm (once per throw). */
@@ -71,7 +72,7 @@ export function expirePointsChecks(core: Core, at: number, out: Step): void {
     check.alarmed = true;
     const lies = core.state.points?.[points];
     const message = `points ${points} were thrown ${check.to} at ${iso(check.since)} but are reported ${lies ?? "nowhere yet"} after ${Math.round(limit / 1000)} s: check the points and their detection before using the route`;
-    out.effects.push({ type: "alarm", kind: "points-detection", subject: points, message, event: null });
+    out.effects.push({ type: "alarm", kind: ALARM_KIND.pointsDetection, subject: points, message, event: null });
   }
 }
 

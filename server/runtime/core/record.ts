@@ -2,7 +2,9 @@
  * Building blocks of the core's steps: new event rows, the session clock, and one engine
  * input run with its changes, alarms and fail-safe (pure; see state.ts).
  */
-import type { AlarmKind, LiveUpdate } from "../../../shared/contract/live";
+import { ALARM_KIND, type AlarmKind } from "../../../shared/contract/alarmKinds";
+import type { LiveUpdate } from "../../../shared/contract/live";
+import { ENGINE_ALARM, type EngineAlarmCode } from "../../../shared/rulebook/engineAlarms";
 import { step as engineStep, type Change, type EngineInput } from "../../../shared/rulebook/engine";
 import type { PendingEvent } from "../eventLog";
 import { notePointsChanges } from "./points";
@@ -54,17 +56,17 @@ export function ensureSession(core: Core, at: number, openedBy: number | null, o
   out.effects.push({ type: "update", event: null, patch: { session: sessionDto(core) } });
 }
 
+/** The alarm each engine alarm code is listed as: a rule's own alarm action is a rulebook alarm. */
+const ALARM_OF_ENGINE_CODE: Record<EngineAlarmCode, AlarmKind> = {
+  [ENGINE_ALARM.countUnderflow]: ALARM_KIND.countUnderflow,
+  [ENGINE_ALARM.ruleLoop]: ALARM_KIND.ruleLoop,
+  [ENGINE_ALARM.ruleAlarm]: ALARM_KIND.rulebook,
+};
+
 function alarmOfChange(change: Change): { kind: AlarmKind; subject: string; message: string } | null {
   if (change.kind !== "alarm") return null;
   const message = change.detail ?? String(change.to);
-  switch (change.to) {
-    case "count-underflow":
-      return { kind: "count-underflow", subject: change.name, message };
-    case "rule-loop":
-      return { kind: "rule-loop", subject: change.name, message };
-    default:
-      return { kind: "rulebook", subject: change.name, message };
-  }
+  return { kind: ALARM_OF_ENGINE_CODE[change.to], subject: change.name, message };
 }
 
 /**
@@ -84,7 +86,7 @@ export function runEngine(core: Core, input: EngineInput, event: PendingEvent, o
     const index = record(out, event);
     core.pipelineFault ??= { reason, at: input.at };
     out.effects.push({ type: "fail-safe" });
-    out.effects.push({ type: "alarm", kind: "rulebook", subject: "pipeline", message: `${reason}; every signal at danger until a restart`, event: index });
+    out.effects.push({ type: "alarm", kind: ALARM_KIND.rulebook, subject: "pipeline", message: `${reason}; every signal at danger until a restart`, event: index });
     return -1;
   }
   event.changes = changes;

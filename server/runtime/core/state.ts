@@ -3,8 +3,9 @@
  * board, session clock, what each board was last told, faults) and the views of it that the
  * shell pushes and serves. No I/O and no clock here: time comes in as `at`.
  */
-import type { AlarmKind, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "../../../shared/contract/live";
-import { shownAspects, type Change, type EngineState } from "../../../shared/rulebook/engine";
+import type { AlarmKind, LampReportDto, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "../../../shared/contract/live";
+import { shownAspects, type Change, type EngineFault, type EngineState } from "../../../shared/rulebook/engine";
+import { unreachable } from "../../../shared/rulebook/kinds";
 import type { Aspect, PointsPosition, Rulebook } from "../../../shared/rulebook/schema";
 import type { PendingAudit, PendingEvent, PendingSnapshot, SessionRef } from "../eventLog";
 import type { IngestResult, NodeEntry } from "../ingest";
@@ -28,10 +29,8 @@ export interface OpenSession {
   lastActivity: number;
 }
 
-export interface Fault {
-  reason: string;
-  at: number;
-}
+/** The pipeline's own fault (the engine threw): the engine's fault shape. */
+export type Fault = EngineFault;
 
 /** A board message waiting in the sequencer: everything needed to store it when released. */
 export interface HeldMessage {
@@ -44,11 +43,7 @@ export interface HeldMessage {
 }
 
 /** What a board reported it shows (lamp proving), for the mimic. */
-export interface LampDto {
-  aspect: string;
-  rev: number;
-  at: string;
-}
+export type LampDto = LampReportDto;
 
 export interface Core {
   readonly layoutId: number;
@@ -253,8 +248,11 @@ export function patchFor(core: Core, changes: Change[], at: string): LiveUpdate[
         patch.held = core.state.held;
         patch.faulted = faultedDto(core);
         break;
-      default:
+      case "alarm":
+        // Alarms reach the state through the alarm port, not the patch.
         break;
+      default:
+        unreachable(change);
     }
   }
   if (changes.length > 0) patch.since = core.since;

@@ -3,6 +3,7 @@
  * state. The prover does not trust timing (§5): it keeps *which* quiet triggers are armed and
  * forgets *when* (docs/prover.md, "The abstraction of time").
  */
+import { ENGINE_ALARM } from "../engineAlarms";
 import { shownAspects, step, type Change, type EngineState } from "../engine";
 import type { Aspect } from "../schema";
 import { LIE_CODE, REPORTED_LIES, type AbstractInput, type Model } from "./model";
@@ -36,7 +37,7 @@ export function runInput(model: Model, s: EngineState, input: AbstractInput): { 
 
 /** Is this change the engine's count-underflow alarm (not a rule's own `alarm` action)? See engine.ts. */
 export function isUnderflowChange(c: Change): boolean {
-  return c.kind === "alarm" && c.to === "count-underflow";
+  return c.kind === "alarm" && c.to === ENGINE_ALARM.countUnderflow;
 }
 
 /** A canonical text for an engine state: equal text ⇔ equal state (keys sorted at every level). */

@@ -1,22 +1,23 @@
 import { Link } from "react-router-dom";
-import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
+import { ALARM_KIND, type AlarmKind } from "../../../shared/contract/alarmKinds";
+import type { AlarmDto } from "../../../shared/contract/live";
 import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { Panel } from "../ui/Panel";
 import { AcknowledgeForm } from "./AcknowledgeForm";
 import { paths } from "../../lib/paths";
 
 export const ALARM_KIND_WORDS: Record<AlarmKind, string> = {
-  stuck: "Stuck latch or counter",
-  "node-offline": "Node offline",
-  "detector-silent": "Detector silent",
-  chatter: "Detector chatter",
-  "axle-mismatch": "Axle-count mismatch",
-  "missed-pulses": "Missed pulses",
-  "lamp-proving": "Lamp proving",
-  "points-detection": "Points not detected where thrown",
-  "rule-loop": "Rule loop",
-  "count-underflow": "Count underflow",
-  rulebook: "Rulebook alarm",
+  [ALARM_KIND.stuck]: "Stuck latch or counter",
+  [ALARM_KIND.nodeOffline]: "Node offline",
+  [ALARM_KIND.detectorSilent]: "Detector silent",
+  [ALARM_KIND.chatter]: "Detector chatter",
+  [ALARM_KIND.axleMismatch]: "Axle-count mismatch",
+  [ALARM_KIND.missedPulses]: "Missed pulses",
+  [ALARM_KIND.lampProving]: "Lamp proving",
+  [ALARM_KIND.pointsDetection]: "Points not detected where thrown",
+  [ALARM_KIND.ruleLoop]: "Rule loop",
+  [ALARM_KIND.countUnderflow]: "Count underflow",
+  [ALARM_KIND.rulebook]: "Rulebook alarm",
 };
 
 const Time = ({ iso }: { iso: string }) => <time dateTime={iso}>{formatDateTime(iso)}</time>;

@@ -2,8 +2,8 @@ import { useId, useState } from "react";
 import type { CommandBody } from "../../../shared/contract/live";
 import { ConfirmDialog } from "../ui/ConfirmDialog";
 
-/** A command before its reason is given. */
-export type CommandDraft = { type: "hold" | "release"; signal: string } | { type: "set" | "clear"; latch: string } | { type: "zero"; counter: string } | { type: "restart" };
+/** A command before its reason is given: the body without `reason`, one variant per command. */
+export type CommandDraft = CommandBody extends infer Body ? (Body extends CommandBody ? Omit<Body, "reason"> : never) : never;
 
 export const MIN_REASON_LENGTH = 3;
 

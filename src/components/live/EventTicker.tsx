@@ -4,7 +4,7 @@ import type { TickerEntry } from "../../api/live";
 import { formatTime } from "../../lib/duration";
 
 /** A value as the state table words it: latches "set"/"clear", aspects in capitals. */
-function word(kind: string, value: unknown): string {
+function word(kind: ChangeDto["kind"], value: unknown): string {
   if (kind === "latch" || kind === "held") return value === true ? "set" : value === false ? "clear" : String(value);
   if (value === null || value === undefined) return "—";
   if (typeof value === "object") return JSON.stringify(value);

@@ -2,7 +2,7 @@ import { memo, type ReactNode } from "react";
 import type { LiveState } from "../../../shared/contract/live";
 import type { NodeDto } from "../../../shared/contract/rest";
 import type { LayoutSignal } from "../../../shared/layout/schema";
-import { lampsOf, signalBoards } from "../../lib/liveStatus";
+import { signalBoards } from "../../lib/liveStatus";
 import { formatDuration } from "../../lib/duration";
 import { Button } from "../ui/Button";
 import type { CommandDraft } from "./CommandDialog";
@@ -27,7 +27,8 @@ const ASPECT_TEXT: Record<string, string> = {
   dark: "text-ink-faint",
 };
 
-type Act = "hold" | "release" | "set" | "clear" | "zero";
+/** The commands a row of the state table offers (restart is the page's own button). */
+type Act = Exclude<CommandDraft["type"], "restart">;
 
 function draftFor(act: Act, target: string): CommandDraft {
   if (act === "hold" || act === "release") return { type: act, signal: target };
@@ -99,7 +100,7 @@ function Group({ title, children, empty }: { title: string; children: ReactNode[
 function boardSays(state: LiveState, board: NodeDto | undefined, signal: string, asked: string): { text: string; warn: boolean } | undefined {
   if (!board) return undefined;
   if (!state.nodes[board.id]?.online) return { text: `${board.name} offline: lamp unknown`, warn: true };
-  const lamp = lampsOf(state)?.[signal];
+  const lamp = state.lamps?.[signal];
   if (!lamp) return { text: `${board.name}: no lamp report yet`, warn: false };
   return { text: `board shows ${lamp.aspect.toUpperCase()}`, warn: lamp.aspect !== asked };
 }

@@ -1,6 +1,5 @@
 import type { SessionEventDto } from "../../../shared/contract/sessions";
 import { changeCause, describeChange } from "../../lib/simulation";
-import type { Change } from "../../../shared/rulebook/engine";
 import { columnsFor, DataTable } from "../ui/DataTable";
 
 const col = columnsFor<SessionEventDto>();
@@ -44,7 +43,7 @@ const columns = [
   col.accessor("changes", {
     header: "Changes",
     cell: (info) => {
-      const changes = info.getValue() as Change[];
+      const changes = info.getValue();
       if (changes.length === 0) return <span className="text-ink-faint">none</span>;
       return (
         <ul className="space-y-0.5 text-xs">
