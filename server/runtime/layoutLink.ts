@@ -38,6 +38,8 @@ export interface LayoutLink {
   downSince(): number | null;
   pendingAcks(): number;
   publishAspect(signal: string, aspect: Aspect, rev: number, at: number): void;
+  /** Removes a signal's retained aspect from the broker (an empty retained message): the signal left the layout. */
+  clearAspect(signal: string): void;
   publishApplied(node: string, payload: AppliedPayload): void;
   /** The rulebook's command to power-worked points (retained: a board that restarts moves them again). */
   publishPointsSet(points: string, to: PointsSetPayload["to"], rev: number, at: number): void;
@@ -104,6 +106,9 @@ export function connectLayoutLink(options: LayoutLinkOptions): LayoutLink {
     publishAspect(signal, aspect, rev, at) {
       const payload: AspectPayload = { aspect, rev, at: new Date(at).toISOString() };
       client.publish(topics.aspect(slug, signal), JSON.stringify(payload), { qos: 1, retain: true }, warn("aspect publish failed"));
+    },
+    clearAspect(signal) {
+      client.publish(topics.aspect(slug, signal), "", { qos: 1, retain: true }, warn("aspect clear failed"));
     },
     publishPointsSet(points, to, rev, at) {
       const payload: PointsSetPayload = { to, rev, at: new Date(at).toISOString() };

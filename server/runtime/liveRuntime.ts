@@ -11,6 +11,7 @@ import type { Database } from "../db/database";
 import { ingestMessage } from "./ingest";
 import { connectLayoutLink } from "./layoutLink";
 import { LiveError, type RuntimeDeps } from "./ports";
+import { followRecords, syncRecords } from "./recordsFollower";
 import { DEFAULT_RUNNER_OPTIONS, LayoutRunner, type CommandUser, type LayoutHealth, type RunnerOptions } from "./runner";
 
 /** A statement the database has not finished in this long is cancelled by the server. */
@@ -103,6 +104,8 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     for (const deliver of early.splice(0)) deliver();
     runners.set(layout.slug, runner);
     byId.set(layout.id, runner);
+    // Signals the rulebook does not mention still get their danger (recordsFollower.ts).
+    await syncRecords(pool, runner, runnerOptions.now).catch((err) => deps.logger.error({ err, slug: layout.slug }, "could not read the records of a starting layout"));
     return runner;
   };
 
@@ -147,6 +150,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
   deps.bus.on("layout.nodes-changed", onNodes);
   deps.bus.on("layout.archived", onArchived);
   deps.bus.on("layout.restored", onRestored);
+  const unfollowRecords = followRecords({ bus: deps.bus, logger: deps.logger, pool, now: runnerOptions.now, runnerOf: (id) => byId.get(id) });
 
   const need = (slug: string) => {
     const runner = runners.get(slug);
@@ -158,6 +162,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     deps.bus.off("layout.nodes-changed", onNodes);
     deps.bus.off("layout.archived", onArchived);
     deps.bus.off("layout.restored", onRestored);
+    unfollowRecords();
   };
   const links = () => [...runners.values()];
 

@@ -87,6 +87,8 @@ export class LayoutRunner {
   private pushTimer: NodeJS.Immediate | null = null;
   private committed: Omit<LiveState, "alarms"> | null = null;
   private alarmsSeen: AlarmDto[] = [];
+  /** Changes waiting for the batch in hand to finish (`betweenBatches`). */
+  private between: (() => void)[] = [];
 
   constructor(
     private readonly deps: RuntimeDeps,
@@ -136,6 +138,25 @@ export class LayoutRunner {
 
   async reloadNodes(): Promise<void> {
     this.core.nodes = await loadNodes(poolQuery(this.pool), this.layoutId);
+  }
+
+  /**
+   * Runs `change` on the core between two batches: at once when none is in hand, else right
+   * after the current one's effects (recordsFollower.ts: records saved while running).
+   */
+  betweenBatches(change: (core: Core, link: LayoutLink | null) => void): Promise<void> {
+    return new Promise((resolve, reject) => {
+      const run = () => {
+        try {
+          change(this.core, this.link);
+          resolve();
+        } catch (err) {
+          reject(err as Error);
+        }
+      };
+      if (this.busy) this.between.push(run);
+      else run();
+    });
   }
 
   /** The boards of this layout, for ingest. */
@@ -239,6 +260,7 @@ export class LayoutRunner {
         this.lastOkAt = this.options.now();
         if (endOutage(this.core)) this.deps.logger.warn({ layout: this.slug }, "database back: committing again");
         this.afterCommit(batch, result, effects);
+        for (const run of this.between.splice(0)) run();
       }
     } catch (err) {
       if (!this.stopped) {
@@ -248,6 +270,7 @@ export class LayoutRunner {
       }
     } finally {
       this.busy = false;
+      for (const run of this.between.splice(0)) run();
       if (this.mailbox.size === 0 || this.stopped) this.wakeIdle();
       else void this.drain();
     }

@@ -9,6 +9,7 @@ import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
 import type { AppDeps } from "../../deps";
 import type { AlarmPort, RaiseAlarm } from "../../runtime/ports";
 import { notFound } from "../../http/errors";
+import { refuseIfArchived } from "../../data/layouts";
 
 /** The port's alarm, where features may leave the event and session out (or give the event id as a number). */
 export type RaiseAlarmInput = Omit<RaiseAlarm, "eventId" | "sessionId"> & {
@@ -165,6 +166,8 @@ export async function writeAlarms(deps: AppDeps, writes: AlarmWrite[]): Promise<
 export async function acknowledgeAlarm(deps: AppDeps, id: number, userId: number, comment: string | null): Promise<AlarmDto> {
   const existing = await readAlarm(deps, id);
   if (!existing) throw notFound(`alarm ${id}`);
+  const layout = await deps.db.models.Layout.findByPk(existing.layout_id);
+  if (layout) refuseIfArchived(layout);
   // Two people acknowledging at once both succeed; the first one is recorded.
   if (existing.acknowledged_at) return toAlarmDto(existing);
   await deps.db.sequelize.query(

@@ -1,8 +1,8 @@
 import { Router, type Request } from "express";
-import { rateLimit } from "express-rate-limit";
 import { preferencesBodySchema, resetPasswordBodySchema, resetRequestBodySchema, updateMeBodySchema } from "../../../shared/contract/accounts";
 import { loginBodySchema, type MeResponse } from "../../../shared/contract/rest";
 import type { AppDeps } from "../../deps";
+import { attemptLimiter } from "../../http/attemptLimiter";
 import { HttpError, parseWith } from "../../http/errors";
 import { updateOwnAccount, updateOwnPreferences } from "./account";
 import { allowAnyone, requireSignedIn } from "./middleware";
@@ -11,17 +11,7 @@ import { SESSION_COOKIE, TIMING_DUMMY_HASH, endSession, setSessionCookie, startS
 
 export function authRoutes(deps: AppDeps): Router {
   const router = Router();
-  const limiter = (what: string, key?: (req: Request) => string) =>
-    rateLimit({
-      windowMs: deps.config.loginWindowMs,
-      limit: deps.config.loginLimitPerWindow,
-      standardHeaders: "draft-8",
-      legacyHeaders: false,
-      // Without TRUST_PROXY a client's own X-Forwarded-For is ignored on purpose (server/config.ts).
-      validate: { xForwardedForHeader: false },
-      ...(key ? { keyGenerator: key } : {}),
-      handler: (_req, _res, next) => next(new HttpError(429, "too_many_attempts", `too many ${what}: wait a minute and try again`)),
-    });
+  const limiter = (what: string, key?: (req: Request) => string) => attemptLimiter(deps, what, key);
   const loginLimiter = limiter("sign-in attempts");
   const resetLimiter = limiter("password reset requests");
   // Per account, not per address: a stolen cookie must not be a way to guess the password.

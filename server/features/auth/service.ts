@@ -1,25 +1,23 @@
 /**
- * Passwords (bcrypt) and sign-in sessions. The cookie carries a signed JWT that names a row
+ * Passwords (bcrypt, passwordHash.ts) and sign-in sessions. The cookie carries a signed JWT that names a row
  * of `auth_sessions`; a request is signed in only while that row exists, so signing out,
  * changing a password or being removed ends the cookie at once rather than when the JWT
  * expires (issue 10 item 8). The signature lets garbage cookies fail without a query.
  */
 import { createHash, randomBytes } from "node:crypto";
-import bcrypt from "bcryptjs";
 import type { Response } from "express";
 import jwt from "jsonwebtoken";
 import { Op, type Transaction } from "sequelize";
 import type { UserDto } from "../../../shared/contract/rest";
 import type { User } from "../../db/models";
 import { nowMs, type AppDeps } from "../../deps";
+import { hashSecretSync } from "./passwordHash";
 
 export const SESSION_COOKIE = "blocklight_session";
 export const SESSION_TTL_S = 12 * 60 * 60; // one long running day
-const BCRYPT_ROUNDS = 10;
 const SESSION_ID_BYTES = 18;
 
-export const hashSecret = (secret: string) => bcrypt.hash(secret, BCRYPT_ROUNDS);
-export const verifySecret = (secret: string, hash: string) => bcrypt.compare(secret, hash);
+export { hashSecret, verifySecret } from "./passwordHash";
 /** For single-use tokens that are long and random: a fast hash is enough to keep them out of the database. */
 export const hashToken = (token: string) => createHash("sha256").update(token, "utf8").digest("hex");
 
@@ -107,4 +105,4 @@ export function toUserDto(user: User): UserDto {
 }
 
 /** A bcrypt hash of nothing in particular, so an unknown e-mail costs as much as a wrong password. */
-export const TIMING_DUMMY_HASH = bcrypt.hashSync("blocklight-timing-dummy", BCRYPT_ROUNDS);
+export const TIMING_DUMMY_HASH = hashSecretSync("blocklight-timing-dummy");

@@ -3,6 +3,7 @@ import { z } from "zod";
 import { updateMemberBodySchema } from "../../../shared/contract/accounts";
 import { acceptInvitationBodySchema, invitationBodySchema } from "../../../shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
+import { attemptLimiter } from "../../http/attemptLimiter";
 import { parseWith } from "../../http/errors";
 import { allowAnyone, requirePermission } from "../auth/middleware";
 import { acceptInvitation, inviteMember, listMembers, previewInvitation, removeMember, resendInvitation, revokeInvitation, updateMember } from "./service";
@@ -11,6 +12,9 @@ const idParamsSchema = z.object({ id: z.coerce.number().int().min(1).max(2_147_4
 
 export function memberRoutes(deps: AppDeps): Router {
   const router = Router();
+  // Invitation tokens are guessable only by trying: previews and accepts are limited per address.
+  const previewLimiter = attemptLimiter(deps, "invitation look-ups");
+  const invitationLimiter = attemptLimiter(deps, "invitation attempts");
   const actorOf = (req: { user?: { id: number; name: string } }) => ({ id: req.user!.id, name: req.user!.name });
   const idOf = (params: unknown) => parseWith(idParamsSchema, params, "path").id;
 
@@ -44,11 +48,11 @@ export function memberRoutes(deps: AppDeps): Router {
   });
 
   // The invitee has no account yet: the token is the authority.
-  router.get("/invitations/:token", allowAnyone("the invitation token"), async (req, res) => {
+  router.get("/invitations/:token", allowAnyone("the invitation token"), previewLimiter, async (req, res) => {
     res.json(await previewInvitation(deps, String(req.params.token)));
   });
 
-  router.post("/invitations/:token/accept", allowAnyone("the invitation token"), async (req, res) => {
+  router.post("/invitations/:token/accept", allowAnyone("the invitation token"), invitationLimiter, async (req, res) => {
     const body = parseWith(acceptInvitationBodySchema, req.body);
     res.status(201).json(await acceptInvitation(deps, String(req.params.token), body));
   });

@@ -25,7 +25,7 @@ import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
 import { raiseAlarm } from "../alarms/service";
-import { findLayout } from "../../data/layouts";
+import { findLayout, refuseIfArchived } from "../../data/layouts";
 import { PROOF_MAX_MS, PROOF_MAX_STATES, PoolFull, ProofCancelled, ProofPool, type ProofRun } from "./pool";
 
 /** Progress reaches sockets at most this often per job. */
@@ -97,6 +97,7 @@ export class ProofJobs extends EventEmitter<ProofJobEvents> {
   /** Starts proving a stored version, or returns the job already proving it. */
   async start(slug: string, version: number, user: UserDto): Promise<string> {
     const layout = await findLayout(this.deps, slug);
+    refuseIfArchived(layout);
     const row = await this.deps.db.models.RulebookVersion.findOne({ where: { layoutId: layout.id, version } });
     if (!row) throw notFound(`rulebook version ${version} of "${slug}"`);
     const already = [...this.jobs.values()].find((j) => j.dto.slug === slug && j.dto.version === version && !ended(j.dto));
@@ -198,7 +199,7 @@ export class ProofJobs extends EventEmitter<ProofJobEvents> {
       this.deps.logger.error({ err, jobId: job.dto.jobId }, "could not store a proof");
       job.dto.result = result;
       job.dto.state = "failed";
-      job.dto.error = "the proof ended but could not be stored";
+      job.dto.error = err instanceof HttpError && err.code === "archived" ? `the proof ended but was not stored: ${err.message}` : "the proof ended but could not be stored";
     }
     this.end(job);
   }
@@ -254,6 +255,9 @@ function ended(job: ProofJobDto): boolean {
 export async function storeProof(deps: AppDeps, layoutId: number, version: number, user: UserDto, result: ProofResultDto): Promise<RulebookStatus> {
   const { RulebookVersion, AuditEntry } = deps.db.models;
   const status = await deps.db.sequelize.transaction(async (transaction) => {
+    // A layout archived while its proof ran stays as it was archived (read-only).
+    const layout = await deps.db.models.Layout.findByPk(layoutId, { transaction, lock: transaction.LOCK.SHARE });
+    if (layout) refuseIfArchived(layout);
     const row = await RulebookVersion.findOne({ where: { layoutId, version }, transaction, lock: transaction.LOCK.UPDATE });
     if (!row) throw notFound(`rulebook version ${version}`);
     const before = row.status;

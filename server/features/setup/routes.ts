@@ -1,6 +1,7 @@
 import { Router } from "express";
 import { setupBodySchema, societyBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
 import type { AppDeps } from "../../deps";
+import { attemptLimiter } from "../../http/attemptLimiter";
 import { parseWith } from "../../http/errors";
 import { auditAccount } from "../audit/accounts";
 import { allowAnyone, requirePermission } from "../auth/middleware";
@@ -9,6 +10,7 @@ import { setSocietyName, societyName } from "./society";
 
 export function setupRoutes(deps: AppDeps): Router {
   const router = Router();
+  const setupLimiter = attemptLimiter(deps, "setup attempts");
 
   router.get("/setup", allowAnyone("nothing secret: whether setup is needed"), async (_req, res) => {
     const body: SetupStatus = { needed: await setupNeeded(deps) };
@@ -16,7 +18,7 @@ export function setupRoutes(deps: AppDeps): Router {
   });
 
   // Anyone may try; only the token holder gets past the check, and only once.
-  router.post("/setup", allowAnyone("the setup token"), async (req, res) => {
+  router.post("/setup", allowAnyone("the setup token"), setupLimiter, async (req, res) => {
     if (!(await setupNeeded(deps))) throw setupDone();
     checkSetupToken(deps, (req.body as { token?: unknown } | undefined)?.token);
     const body = parseWith(setupBodySchema, req.body);
