@@ -32,11 +32,28 @@ export const createLayoutBodySchema = z.strictObject({
 export type CreateLayoutBody = z.infer<typeof createLayoutBodySchema>;
 
 /**
+ * Fields of `GET /api/layouts/:slug` that a save cannot change (publishing, archive and
+ * restore do): `PUT` accepts them back, so a script can GET, change and PUT, and ignores
+ * them. `versions` is not looked into; the JSON body limit bounds it.
+ */
+export const layoutReadOnlyEchoSchema = z.object({
+  versions: z.array(z.unknown()).optional(),
+  liveVersion: z.number().int().positive().nullable().optional(),
+  archivedAt: z.string().max(40).nullable().optional(),
+});
+export const LAYOUT_READ_ONLY_FIELDS = Object.keys(layoutReadOnlyEchoSchema.shape) as (keyof typeof layoutReadOnlyEchoSchema.shape)[];
+
+/**
  * `PUT /api/layouts/:slug`: a layout file without `rulebook`, plus the `revision` the editor
- * started from. The slug cannot change (it names the MQTT topics of the boards).
+ * started from. The slug cannot change (it names the MQTT topics of the boards). What `GET`
+ * returns is accepted as it is: `format` may be left out (it is the current one),
+ * `schematic: null` means no drawing, and the read-only fields above are ignored.
  */
 export const saveLayoutBodySchema = layoutRecordsSchema.extend({
+  format: layoutRecordsSchema.shape.format.optional(),
+  schematic: layoutRecordsSchema.shape.schematic.unwrap().nullable().optional(),
   revision: z.number().int().positive(),
+  ...layoutReadOnlyEchoSchema.shape,
 });
 export type SaveLayoutBody = z.infer<typeof saveLayoutBodySchema>;
 export type SaveLayoutBodyInput = z.input<typeof saveLayoutBodySchema>;

@@ -15,6 +15,9 @@ export const slugSchema = z
   .string()
   .regex(/^[a-z0-9][a-z0-9-]{0,62}$/, "must be lower-case letters, digits and '-', starting with a letter or digit");
 
+/** Every record list is bounded so one upload cannot ask for unbounded work. */
+export const MAX_RECORDS_PER_KIND = 500;
+
 /** Metres of model track from the start of the line. */
 const metres = z.number().finite().min(0, "must not be negative");
 
@@ -38,13 +41,15 @@ export const pointsSchema = z.strictObject({
   /** Absent in older `/1` files: such points are hand-worked (CONTRACT.md §3); see {@link pointsWorking}. */
   worked: pointsWorkingSchema.optional(),
 });
+/** A node cannot serve more of a kind than a layout may have (bounded like the lists themselves). */
+const servedIds = () => z.array(idSchema).max(MAX_RECORDS_PER_KIND);
 export const nodeSchema = z.strictObject({
   id: idSchema,
   name: nameText,
-  detectors: z.array(idSchema).default([]),
-  signals: z.array(idSchema).default([]),
+  detectors: servedIds().default([]),
+  signals: servedIds().default([]),
   /** Points whose position this board reports or which it drives (absent in older `/1` files = none). */
-  points: z.array(idSchema).optional(),
+  points: servedIds().optional(),
 });
 
 /** How a points is worked, `hand` when the file does not say (CONTRACT.md §3). */
@@ -59,8 +64,6 @@ export const scaleSchema = z.strictObject({
   ratio: z.number().positive().max(1000),
 });
 
-/** Every record list is bounded so one upload cannot ask for unbounded work. */
-export const MAX_RECORDS_PER_KIND = 500;
 
 /** The layout's records and schematic: everything of a layout file except its rulebook. */
 export const layoutRecordsSchema = z.strictObject({

@@ -153,22 +153,33 @@ const LAYOUT_PLACEHOLDERS: Record<string, Placeholder> = {
   ...Object.fromEntries(Object.entries(RULEBOOK_PLACEHOLDERS).map(([key, value]) => [`rulebook.${key}`, value])),
 };
 
+/** A salvaged copy and the table keys of the parts replaced in it. */
+interface Salvaged<T> {
+  value: T;
+  /** E.g. `detectors` when the whole list was replaced (too long, not a list): what refers into it cannot be checked. */
+  replaced: ReadonlySet<string>;
+}
+
 /**
  * Replaces every malformed part named by the zod issues with a placeholder, choosing the
  * deepest part the table knows how to stand in for, and parses again. Returns null when
  * some issue sits where no placeholder fits (then only the shape errors are reported).
  */
-function salvage<T>(input: unknown, error: z.ZodError, table: Record<string, Placeholder>, schema: z.ZodType<T>): T | null {
+function salvage<T>(input: unknown, error: z.ZodError, table: Record<string, Placeholder>, schema: z.ZodType<T>): Salvaged<T> | null {
   if (typeof input !== "object" || input === null || Array.isArray(input)) return null;
   const copy = structuredClone(input) as Record<string, unknown>;
+  const replaced = new Set<string>();
   for (const issue of error.issues) {
-    if (!replaceDeepestKnownPart(copy, issue.path, table)) return null;
+    const key = replaceDeepestKnownPart(copy, issue.path, table);
+    if (key === null) return null;
+    replaced.add(key);
   }
   const again = schema.safeParse(copy);
-  return again.success ? again.data : null;
+  return again.success ? { value: again.data, replaced } : null;
 }
 
-function replaceDeepestKnownPart(root: Record<string, unknown>, path: readonly PropertyKey[], table: Record<string, Placeholder>): boolean {
+/** Returns the table key of the part replaced, or null when no placeholder fits. */
+function replaceDeepestKnownPart(root: Record<string, unknown>, path: readonly PropertyKey[], table: Record<string, Placeholder>): string | null {
   for (let length = path.length; length >= 1; length--) {
     const prefix = path.slice(0, length);
     const key = prefix.map((segment) => (typeof segment === "number" ? "*" : String(segment))).join(".");
@@ -176,23 +187,27 @@ function replaceDeepestKnownPart(root: Record<string, unknown>, path: readonly P
     if (!placeholder) continue;
     let parent: unknown = root;
     for (const segment of prefix.slice(0, -1)) {
-      if (typeof parent !== "object" || parent === null) return false;
+      if (typeof parent !== "object" || parent === null) return null;
       parent = (parent as Record<PropertyKey, unknown>)[segment as string];
     }
-    if (typeof parent !== "object" || parent === null) return false;
+    if (typeof parent !== "object" || parent === null) return null;
     const last = prefix[prefix.length - 1];
     const value = placeholder(typeof last === "number" ? last : 0, (parent as Record<PropertyKey, unknown>)[last as string]);
     if (value === undefined) delete (parent as Record<PropertyKey, unknown>)[last as string];
     else (parent as Record<PropertyKey, unknown>)[last as string] = value;
-    return true;
+    return key;
   }
-  return false;
+  return null;
 }
 
 /** Cross-reference errors of a salvaged file, minus anything about the placeholders or already reported. */
-function crossReferenceErrorsOf<T>(salvaged: T, check: (value: T, out: ValidationError[]) => void, shape: readonly ValidationError[]): ValidationError[] {
+function crossReferenceErrorsOf<T>(
+  salvaged: Salvaged<T>,
+  check: (value: T, out: ValidationError[], replaced: ReadonlySet<string>) => void,
+  shape: readonly ValidationError[],
+): ValidationError[] {
   const found: ValidationError[] = [];
-  check(salvaged, found);
+  check(salvaged.value, found, salvaged.replaced);
   const shapePaths = shape.map((e) => e.path);
   return found.filter(
     (e) =>
@@ -221,14 +236,20 @@ function duplicates<T extends { id: string }>(
   return seen;
 }
 
-function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContext | undefined, errors: ValidationError[]): void {
+/**
+ * A context part left out is not checked against: detectors unchecked, signals those the
+ * rulebook mentions (as without a context). checkLayout leaves out lists malformed as a whole.
+ */
+type CheckContext = Partial<RulebookContext>;
+
+function checkRulebook(rulebook: Rulebook, base: string, context: CheckContext | undefined, errors: ValidationError[]): void {
   const latches = new Set(Object.keys(rulebook.latches));
   const counters = new Set(Object.keys(rulebook.counters));
   const selectors = rulebook.selectors;
-  const detectors = context ? new Set(context.detectors) : undefined;
+  const detectors = context?.detectors ? new Set(context.detectors) : undefined;
   const aspectsOf = new Map<string, Set<Aspect>>();
-  if (context) for (const signal of context.signals) aspectsOf.set(signal.id, new Set(signal.aspects));
-  const signals = context ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook, { includeProving: false });
+  for (const signal of context?.signals ?? []) aspectsOf.set(signal.id, new Set(signal.aspects));
+  const signals = context?.signals ? new Set(aspectsOf.keys()) : signalsMentioned(rulebook, { includeProving: false });
   const pointsOf = context?.points ? new Map(context.points.map((p) => [p.id, p.worked])) : undefined;
 
   const checkSignal = (signal: string, path: string): boolean => {
@@ -392,8 +413,15 @@ function checkRulebook(rulebook: Rulebook, base: string, context: RulebookContex
   }
 }
 
-/** The records' own cross-references: ids unique, lines known, nodes serving what exists. */
-function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
+/** No list was replaced: every reference can be checked. */
+const NOTHING_REPLACED: ReadonlySet<string> = new Set();
+
+/**
+ * The records' own cross-references: ids unique, lines known, nodes serving what exists.
+ * References into a list in `replaced` (one too long or malformed as a whole, reported as
+ * such) are not checked: each would be "unknown" and bury the one error that matters.
+ */
+function checkRecords(layout: LayoutRecords, errors: ValidationError[], replaced = NOTHING_REPLACED): void {
   const lines = duplicates(layout.lines, "$.lines", "line", errors);
   const detectors = duplicates(layout.detectors, "$.detectors", "detector", errors);
   const signals = duplicates(layout.signals, "$.signals", "signal", errors);
@@ -401,6 +429,7 @@ function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
   duplicates(layout.nodes, "$.nodes", "node", errors);
 
   const onLine = (items: readonly { line: string }[], base: string): void => {
+    if (replaced.has("lines")) return;
     items.forEach((item, index) => {
       if (!lines.has(item.line)) errors.push({ path: `${base}[${index}].line`, message: `unknown line "${item.line}"` });
     });
@@ -419,7 +448,7 @@ function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
   layout.nodes.forEach((node, nodeIndex) => {
     node.detectors.forEach((detector, index) => {
       const path = `$.nodes[${nodeIndex}].detectors[${index}]`;
-      if (!detectors.has(detector)) errors.push({ path, message: `unknown detector "${detector}"` });
+      if (!replaced.has("detectors") && !detectors.has(detector)) errors.push({ path, message: `unknown detector "${detector}"` });
       const other = servedBy.get(detector);
       if (other !== undefined && other !== node.id) {
         errors.push({ path, message: `detector "${detector}" is already served by node "${other}"` });
@@ -429,10 +458,10 @@ function checkRecords(layout: LayoutRecords, errors: ValidationError[]): void {
       servedBy.set(detector, node.id);
     });
     node.signals.forEach((signal, index) => {
-      if (!signals.has(signal)) errors.push({ path: `$.nodes[${nodeIndex}].signals[${index}]`, message: `unknown signal "${signal}"` });
+      if (!replaced.has("signals") && !signals.has(signal)) errors.push({ path: `$.nodes[${nodeIndex}].signals[${index}]`, message: `unknown signal "${signal}"` });
     });
     (node.points ?? []).forEach((id, index) => {
-      if (!pointsIds.has(id)) errors.push({ path: `$.nodes[${nodeIndex}].points[${index}]`, message: `unknown points "${id}"` });
+      if (!replaced.has("points") && !pointsIds.has(id)) errors.push({ path: `$.nodes[${nodeIndex}].points[${index}]`, message: `unknown points "${id}"` });
     });
   });
 }
@@ -447,14 +476,15 @@ export function rulebookContextOf(records: Pick<LayoutRecords, "detectors" | "si
   };
 }
 
-function checkLayout(layout: LayoutFile, errors: ValidationError[]): void {
-  checkRecords(layout, errors);
-  checkRulebook(
-    layout.rulebook,
-    "$.rulebook",
-    rulebookContextOf(layout),
-    errors,
-  );
+function checkLayout(layout: LayoutFile, errors: ValidationError[], replaced = NOTHING_REPLACED): void {
+  checkRecords(layout, errors, replaced);
+  // As in checkRecords: what refers into a list replaced as a whole is not checked.
+  const context: CheckContext = rulebookContextOf(layout);
+  if (replaced.has("detectors")) delete context.detectors;
+  if (replaced.has("signals")) delete context.signals;
+  if (replaced.has("points")) delete context.points;
+  if (replaced.has("nodes")) delete context.reportedPoints;
+  checkRulebook(layout.rulebook, "$.rulebook", context, errors);
 }
 
 /**
@@ -468,7 +498,7 @@ export function validateLayoutFile(input: unknown): LayoutValidation {
   if (!parsed.success) {
     const errors = shapeErrors(parsed.error);
     const salvaged = salvage(input, parsed.error, LAYOUT_PLACEHOLDERS, layoutFileSchema);
-    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (file, out) => checkLayout(file, out), errors));
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, checkLayout, errors));
     return { ok: false, errors };
   }
   const errors: ValidationError[] = [];
@@ -486,7 +516,7 @@ export function validateLayoutRecords(input: unknown): LayoutRecordsValidation {
     const errors = shapeErrors(parsed.error);
     const table = Object.fromEntries(Object.entries(LAYOUT_PLACEHOLDERS).filter(([key]) => !key.startsWith("rulebook")));
     const salvaged = salvage(input, parsed.error, table, layoutRecordsSchema);
-    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, (records, out) => checkRecords(records, out), errors));
+    if (salvaged) errors.push(...crossReferenceErrorsOf(salvaged, checkRecords, errors));
     return { ok: false, errors };
   }
   const errors: ValidationError[] = [];

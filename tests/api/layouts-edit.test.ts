@@ -162,6 +162,76 @@ describe("creating and editing layouts", () => {
     expect(text).toContain("Bank foot board (renamed)");
   });
 
+  it("takes back exactly what GET returned, changed: GET → rename → PUT → GET, with and without a schematic", async () => {
+    // Without a schematic: GET gives `schematic: null`, no `format`, and the read-only fields.
+    const created = await engineer.post("/api/layouts").send({ slug: "goods-yard", name: "Fernmoor goods yard", scale: G_SCALE });
+    expect(created.status).toBe(201);
+    const bare = (await engineer.get("/api/layouts/goods-yard")).body.layout as LayoutDetail;
+    expect(bare).toMatchObject({ schematic: null, versions: [], liveVersion: null, archivedAt: null });
+    const bareSaved = await engineer.put("/api/layouts/goods-yard").send({ ...bare, name: "Fernmoor goods yard (east)" });
+    expect(bareSaved.status, JSON.stringify(bareSaved.body)).toBe(200);
+    const bareAfter = (await engineer.get("/api/layouts/goods-yard")).body.layout as LayoutDetail;
+    expect(bareAfter).toEqual({ ...bare, name: "Fernmoor goods yard (east)", revision: bare.revision + 1 });
+    expect(bareSaved.body.layout).toEqual(bareAfter);
+
+    // With a schematic, records, published versions and a live rulebook.
+    const before = (await engineer.get("/api/layouts/kestrel-bank")).body.layout as LayoutDetail;
+    expect(before.schematic).not.toBeNull();
+    expect(before.liveVersion).toBe(1);
+    const lines = before.lines.map((l) => (l.id === "branch" ? { ...l, name: "Quarry branch (renamed)" } : l));
+    expect(lines).not.toEqual(before.lines);
+    const saved = await engineer.put("/api/layouts/kestrel-bank").send({ ...before, lines });
+    expect(saved.status, JSON.stringify(saved.body)).toBe(200);
+    const after = (await engineer.get("/api/layouts/kestrel-bank")).body.layout as LayoutDetail;
+    expect(after).toEqual({ ...before, lines, revision: before.revision + 1 });
+
+    // A null schematic on a layout that had one removes the drawing.
+    const cleared = await engineer.put("/api/layouts/kestrel-bank").send({ ...after, schematic: null });
+    expect(cleared.status, JSON.stringify(cleared.body)).toBe(200);
+    expect(cleared.body.layout.schematic).toBeNull();
+    expect((await engineer.get("/api/layouts/kestrel-bank/export")).body).not.toHaveProperty("schematic");
+    // Put it back for the tests that follow, and check read-only fields of the wrong shape are still refused.
+    const restored = await engineer.put("/api/layouts/kestrel-bank").send({ ...cleared.body.layout, schematic: before.schematic });
+    expect(restored.status).toBe(200);
+    const wrong = await engineer.put("/api/layouts/kestrel-bank").send({ ...restored.body.layout, liveVersion: "one", format: "blocklight.layout/9" });
+    expect(wrong.status).toBe(400);
+    expect(wrong.body.error.details.map((d: { path: string }) => d.path)).toEqual(expect.arrayContaining(["$.liveVersion", "$.format"]));
+  });
+
+  it("reports a list over its bound once, without an error for every reference into it", async () => {
+    const before = (await engineer.get("/api/layouts/goods-yard")).body.layout as LayoutDetail;
+    const ids = Array.from({ length: 10_000 }, (_, i) => `D${i}`);
+    const body = {
+      ...before,
+      lines: [{ id: "yard", name: "Yard road" }],
+      detectors: ids.map((id, i) => ({ id, name: `Yard detector ${i}`, line: "yard", at: i / 100 })),
+      nodes: [{ id: "yard-board", name: "Yard board", detectors: ids, signals: [] }],
+    };
+    const res = await engineer.put("/api/layouts/goods-yard").send(body);
+    expect(res.status).toBe(400);
+    const details = res.body.error.details as { path: string; message: string }[];
+    expect(details[0]).toEqual({ path: "$.detectors", message: expect.stringMatching(/500/) });
+    expect(details.length).toBeLessThanOrEqual(5);
+    expect(details.map((d) => d.path)).toEqual(["$.detectors", "$.nodes[0].detectors"]);
+    expect(details.some((d) => d.message.includes("unknown detector"))).toBe(false);
+    expect((await engineer.get("/api/layouts/goods-yard")).body.layout.revision).toBe(before.revision);
+  });
+
+  it("lists at most 200 errors, the last saying how many more there are", async () => {
+    const before = (await engineer.get("/api/layouts/goods-yard")).body.layout as LayoutDetail;
+    // 500 references to detectors that do not exist: 500 errors of a sound shape.
+    const missing = Array.from({ length: 500 }, (_, i) => `X${i}`);
+    const body = { ...before, lines: [{ id: "yard", name: "Yard road" }], nodes: [{ id: "yard-board", name: "Yard board", detectors: missing, signals: [] }] };
+    const res = await engineer.put("/api/layouts/goods-yard").send(body);
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toContain("500 error(s)");
+    const details = res.body.error.details as { path: string; message: string }[];
+    expect(details).toHaveLength(200);
+    expect(details[0]).toEqual({ path: "$.nodes[0].detectors[0]", message: 'unknown detector "X0"' });
+    expect(details[199]).toEqual({ path: "$", message: expect.stringContaining("… and 301 more errors") });
+    expect(details.every((d) => d.path.startsWith("$"))).toBe(true);
+  });
+
   it("archives a layout: it stops running live and refuses every edit with 409; restore brings it back", async () => {
     expect(live.runtime.runner("wrenfold-loop")).toBeDefined();
     const archived = await admin.post("/api/layouts/wrenfold-loop/archive");

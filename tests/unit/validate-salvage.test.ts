@@ -55,4 +55,17 @@ describe("validation lists shape and cross-reference errors together", () => {
     expect(paths.some((p) => p.startsWith("$.rules[0].if"))).toBe(true);
     expect(paths.some((p) => p.startsWith("$.rules[1].do[0]"))).toBe(true);
   });
+
+  it("a list over its bound is one error: nothing referring into it is reported unknown", () => {
+    const file = structuredClone(kestrelBankLayout());
+    // 501 detectors: the list is too long, so the nodes' and the rulebook's detector names cannot be checked.
+    file.detectors = Array.from({ length: 501 }, (_, i) => ({ id: `D${i}`, name: `Detector ${i}`, line: "main", at: i / 10 }));
+    // 501 lines: every detector, signal and points would otherwise be on an "unknown line".
+    file.lines = Array.from({ length: 501 }, (_, i) => ({ id: `L${i}`, name: `Line ${i}` }));
+    file.rulebook.rules[1].do = [{ set: "ghostLatch" }];
+    const result = validateLayoutFile(file);
+    expect(result.ok).toBe(false);
+    if (result.ok) return;
+    expect(result.errors.map((e) => e.path)).toEqual(["$.lines", "$.detectors", "$.rulebook.rules[1].do[0].set"]);
+  });
 });

@@ -7,6 +7,7 @@
  * validate against them — the rulebook running on the boards must always match the records.
  */
 import type { ArchiveResponse, CreateLayoutBody } from "../../../shared/contract/layoutEdit";
+import { capErrors } from "../../../shared/contract/errorCap";
 import { LAYOUT_EDIT_ERRORS } from "../../../shared/contract/layoutEdit";
 import type { LayoutDetail } from "../../../shared/contract/rest";
 import { liveRulebookErrors } from "../../../shared/layout/liveCheck";
@@ -16,6 +17,7 @@ import type { AppDeps } from "../../deps";
 import { HttpError, conflict } from "../../http/errors";
 import { detailOf, findLayout, refuseIfArchived } from "../../data/layouts";
 import { writeRecords } from "../../data/layoutRecords";
+import { readSaveBody } from "./saveBody";
 
 export async function createLayout(deps: AppDeps, body: CreateLayoutBody, userId: number): Promise<LayoutDetail> {
   const { Layout, AuditEntry } = deps.db.models;
@@ -34,16 +36,16 @@ export async function createLayout(deps: AppDeps, body: CreateLayoutBody, userId
   return detailOf(deps, layout);
 }
 
-const invalid = (code: string, message: string, details: ValidationError[]) => new HttpError(400, code, message, details);
+const invalid = (code: string, message: string, details: ValidationError[]) => new HttpError(400, code, message, capErrors(details));
 
 /**
  * Replaces the records and schematic of a layout. `body` is the request body as sent: a
- * layout file without rulebook plus `revision`.
+ * layout file without rulebook plus `revision`, or what `GET` returned, changed (saveBody.ts).
  */
 export async function saveLayout(deps: AppDeps, slug: string, body: unknown, userId: number): Promise<LayoutDetail> {
-  const { revision, records: input } = splitRevision(body);
+  const { revision, errors: bodyErrors, records: input } = readSaveBody(body);
   const checked = validateLayoutRecords(input);
-  const errors: ValidationError[] = revision.ok ? [] : [revision.error];
+  const errors: ValidationError[] = [...(revision.ok ? [] : [revision.error]), ...bodyErrors];
   if (!checked.ok) errors.push(...checked.errors);
   else if (checked.records.slug !== slug) errors.push({ path: "$.slug", message: `the slug cannot change (it is "${slug}"; the boards' topics use it)` });
   if (errors.length > 0 || !checked.ok || !revision.ok) {
@@ -107,23 +109,6 @@ export async function saveLayout(deps: AppDeps, slug: string, body: unknown, use
 
 function countsOf(records: { lines: unknown[]; detectors: unknown[]; signals: unknown[]; points: unknown[]; nodes: unknown[] }) {
   return { lines: records.lines.length, detectors: records.detectors.length, signals: records.signals.length, points: records.points.length, nodes: records.nodes.length };
-}
-
-type RevisionCheck = { ok: true; value: number } | { ok: false; error: ValidationError };
-
-function splitRevision(body: unknown): { revision: RevisionCheck; records: unknown } {
-  if (typeof body !== "object" || body === null || Array.isArray(body)) {
-    return { revision: { ok: false, error: { path: "$", message: "must be a layout file without rulebook, plus revision" } }, records: body };
-  }
-  const { revision, rulebook, ...records } = body as Record<string, unknown>;
-  const value = typeof revision === "number" && Number.isInteger(revision) && revision > 0 ? revision : null;
-  const check: RevisionCheck =
-    value !== null ? { ok: true, value } : { ok: false, error: { path: "$.revision", message: "must be the revision number the layout was read at" } };
-  if (rulebook !== undefined) {
-    // The rulebook is versioned on its own (drafts, proofs, publishing): never saved with the records.
-    return { revision: check.ok ? { ok: false, error: { path: "$.rulebook", message: "is saved as a rulebook version, not with the records" } } : check, records };
-  }
-  return { revision: check, records };
 }
 
 /** Archives (stops running live, read-only) or restores a layout; repeating either changes nothing. */

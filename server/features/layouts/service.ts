@@ -7,6 +7,7 @@ import { randomBytes } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import type { z } from "zod";
 import type { createNodeBodySchema, LayoutSummary } from "../../../shared/contract/rest";
+import { capErrors } from "../../../shared/contract/errorCap";
 import { canonicalLayout } from "../../../shared/layout/canonical";
 import type { LayoutFile } from "../../../shared/layout/schema";
 import { canonicalRulebook } from "../../../shared/rulebook/canonical";
@@ -24,7 +25,7 @@ type Row = Record<string, unknown>;
 /** Validates and stores a layout file; its rulebook becomes version 1, published and live. */
 export async function importLayout(deps: AppDeps, input: unknown, authorId: number | null): Promise<{ slug: string; layoutId: number }> {
   const result = validateLayoutFile(input);
-  if (!result.ok) throw new HttpError(400, "invalid_layout", `the layout file has ${result.errors.length} error(s)`, result.errors);
+  if (!result.ok) throw new HttpError(400, "invalid_layout", `the layout file has ${result.errors.length} error(s)`, capErrors(result.errors));
   const file = result.layout;
   const { Layout, RulebookVersion } = deps.db.models;
   const layoutId = await deps.db.sequelize.transaction(async (transaction) => {
