@@ -9,8 +9,8 @@
  *   `blocklight-server.{layout}` (one per running layout; the bare `blocklight-server` of
  *   revision 1 is still accepted for the server's credentials).
  */
-import { TOPIC_ROOT, topics } from "../shared/contract/live";
-import { filterWithin } from "../shared/contract/topicMatch";
+import { TOPIC_ROOT, topics } from "@shared/contract/live";
+import { filterWithin } from "@shared/contract/topicMatch";
 
 export type BrokerIdentity = { kind: "server" } | { kind: "node"; layout: string; node: string; credential?: NodeCredential };
 

@@ -19,8 +19,8 @@
  */
 import { randomBytes } from "node:crypto";
 import mqtt, { type MqttClient } from "mqtt";
-import { aspectPayloadSchema, appliedPayloadSchema, pointsSetPayloadSchema, serverStatusPayloadSchema, topics, type AspectPayload, type PointsSetPayload } from "../shared/contract/live";
-import type { Aspect } from "../shared/rulebook/schema";
+import { aspectPayloadSchema, appliedPayloadSchema, pointsSetPayloadSchema, serverStatusPayloadSchema, topics, type AspectPayload, type PointsSetPayload } from "@shared/contract/live";
+import type { Aspect } from "@shared/rulebook/schema";
 
 export const LINK_DOWN_DANGER_MS = 2_000;
 export const HEARTBEAT_LOST_MS = 3_000;

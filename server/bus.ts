@@ -8,8 +8,8 @@
  * unhandled rejection. Listeners are registered per owner, and `removeOwner(owner)` removes
  * all of one owner's listeners together, so anything that subscribes can be stopped.
  */
-import type { AlarmSettings } from "../shared/contract/alarmSettings";
-import type { AlarmDto, LivePatch, LiveUpdate } from "../shared/contract/live";
+import type { AlarmSettings } from "@shared/contract/alarmSettings";
+import type { AlarmDto, LivePatch, LiveUpdate } from "@shared/contract/live";
 
 export interface BusEvents {
   "rulebook.published": [{ layoutId: number; slug: string; version: number }];

@@ -4,8 +4,8 @@
  * mailer do for features, implemented elsewhere (runtime/liveRuntime.ts, features/mail/service.ts)
  * and plugged in by server/index.ts or a test. Nothing here imports a feature or the runtime.
  */
-import type { CommandBody, LiveState } from "../shared/contract/live";
-import type { LayoutHealth } from "../shared/contract/rest";
+import type { CommandBody, LiveState } from "@shared/contract/live";
+import type { LayoutHealth } from "@shared/contract/rest";
 import type { AppConfig } from "./config";
 import type { Database } from "./db/database";
 import type { Logger } from "./logger";

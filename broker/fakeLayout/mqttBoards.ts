@@ -5,7 +5,7 @@
  * Last Will, every pulse kept until an `applied` covers it and resent after a reconnect, and
  * the fail-safe. Trains obey what the boards SHOW (danger while a board is in fail-safe).
  */
-import { topics, type AspectPayload, type PointsSetPayload } from "../../shared/contract/live";
+import { topics, type AspectPayload, type PointsSetPayload } from "@shared/contract/live";
 import { ReferenceBoard } from "../referenceBoard";
 import type { BoardState, OutMessage } from "./player";
 

@@ -25,8 +25,8 @@
  *   trains never run together at a detector (the server's alarm watchers group pulses into trains
  *   by the gaps between them).
  */
-import type { AspectPayload, PointsPayload, PointsSetPayload, PulsePayload, ShownPayload } from "../../shared/contract/live";
-import type { LayoutFile } from "../../shared/layout/schema";
+import type { AspectPayload, PointsPayload, PointsSetPayload, PulsePayload, ShownPayload } from "@shared/contract/live";
+import type { LayoutFile } from "@shared/layout/schema";
 import type { Cancel, Scheduler } from "./clock";
 import type { Scenario, ScenarioTrain } from "./scenario";
 

@@ -13,7 +13,7 @@
  */
 import fs from "node:fs";
 import { z } from "zod";
-import type { LayoutFile } from "../../shared/layout/schema";
+import type { LayoutFile } from "@shared/layout/schema";
 
 export const SCENARIO_FORMAT = "blocklight.scenario/1";
 

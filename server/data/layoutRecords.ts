@@ -4,8 +4,8 @@
  * saving the records updates a board's name and wiring but never its secret hash.
  */
 import type { Transaction } from "sequelize";
-import type { NodeDto } from "../../shared/contract/rest";
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutRecords, LayoutSignal } from "../../shared/layout/schema";
+import type { NodeDto } from "@shared/contract/rest";
+import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutRecords, LayoutSignal } from "@shared/layout/schema";
 import type { AppDeps } from "../deps";
 
 export interface RecordLists {

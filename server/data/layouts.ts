@@ -5,9 +5,9 @@
  * feature's service (the lint enforces it); importing, exporting and editing stay in the feature.
  */
 import { QueryTypes } from "sequelize";
-import type { LayoutDetail, RulebookVersionSummary } from "../../shared/contract/rest";
-import { canonicalLayout } from "../../shared/layout/canonical";
-import { LAYOUT_FORMAT, type LayoutRecords } from "../../shared/layout/schema";
+import type { LayoutDetail, RulebookVersionSummary } from "@shared/contract/rest";
+import { canonicalLayout } from "@shared/layout/canonical";
+import { LAYOUT_FORMAT, type LayoutRecords } from "@shared/layout/schema";
 import type { Layout } from "../db/models";
 import type { AppDeps } from "../deps";
 import { HttpError, notFound } from "../http/errors";

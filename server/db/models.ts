@@ -4,8 +4,8 @@
  * server/runtime, because group commits need multi-row inserts.
  */
 import { DataTypes, Model, type InferAttributes, type InferCreationAttributes, type CreationOptional, type NonAttribute, type Sequelize } from "sequelize";
-import type { Role, RulebookStatus } from "../../shared/contract/rest";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { Role, RulebookStatus } from "@shared/contract/rest";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { defineRecordModels, type RecordModels } from "./recordModels";
 
 export class User extends Model<InferAttributes<User>, InferCreationAttributes<User>> {

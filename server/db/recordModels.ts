@@ -7,8 +7,8 @@
  * those reads happen on every board connection and runner start, outside the ORM's pool.
  */
 import { DataTypes, Model, type ModelStatic, type CreationOptional, type InferAttributes, type InferCreationAttributes, type Sequelize } from "sequelize";
-import type { Aspect } from "../../shared/rulebook/schema";
-import type { PointsWorking } from "../../shared/layout/schema";
+import type { Aspect } from "@shared/rulebook/schema";
+import type { PointsWorking } from "@shared/layout/schema";
 import type { Layout } from "./models";
 
 export class LineRecord extends Model<InferAttributes<LineRecord>, InferCreationAttributes<LineRecord>> {

@@ -3,7 +3,7 @@
  * up and every layout is live, so a supervisor or a probe sees a layout in fail-safe.
  */
 import { Router } from "express";
-import type { HealthResponse } from "../../shared/contract/rest";
+import type { HealthResponse } from "@shared/contract/rest";
 import type { AppDeps } from "../deps";
 import { allowAnyone } from "./auth/middleware";
 

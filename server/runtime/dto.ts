@@ -1,8 +1,8 @@
 /**
  * Pending rows as the client sees them (shared/contract/live.ts): the pushed event and its changes.
  */
-import type { ChangeDto, LiveEventDto } from "../../shared/contract/live";
-import type { Change } from "../../shared/rulebook/engine";
+import type { ChangeDto, LiveEventDto } from "@shared/contract/live";
+import type { Change } from "@shared/rulebook/engine";
 import type { PendingEvent } from "./eventLog";
 
 export function toEventDto(event: PendingEvent, id: string): LiveEventDto {

@@ -17,8 +17,8 @@ import {
   type PulsePayload,
   type ShownPayload,
   type StatusPayload,
-} from "../../shared/contract/live";
-import { ID_PATTERN } from "../../shared/rulebook/schema";
+} from "@shared/contract/live";
+import { ID_PATTERN } from "@shared/rulebook/schema";
 
 /** What the pipeline knows about one board of a layout. */
 export interface NodeEntry {

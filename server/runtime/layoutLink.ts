@@ -10,8 +10,8 @@
  * same subscription and are dropped here.
  */
 import mqtt, { type IPublishPacket, type MqttClient } from "mqtt";
-import { topics, type AppliedPayload, type AspectPayload, type PointsSetPayload, type ServerStatusPayload } from "../../shared/contract/live";
-import type { Aspect } from "../../shared/rulebook/schema";
+import { topics, type AppliedPayload, type AspectPayload, type PointsSetPayload, type ServerStatusPayload } from "@shared/contract/live";
+import type { Aspect } from "@shared/rulebook/schema";
 import type { Logger } from "../logger";
 import { deferAcks } from "./mqttAck";
 

@@ -4,9 +4,9 @@
  * listeners that switch rulebooks and reload nodes.
  */
 import pg from "pg";
-import type { CommandBody, LiveState } from "../../shared/contract/live";
-import { signalIds } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { CommandBody, LiveState } from "@shared/contract/live";
+import { signalIds } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import type { Database } from "../db/database";
 import { ingestMessage } from "./ingest";
 import { connectLayoutLink } from "./layoutLink";

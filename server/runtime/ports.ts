@@ -3,7 +3,7 @@
  * from features/ or http/): alarms go out through `AlarmPort`, committed steps through the
  * bus, and input errors come back as `LiveError`, which the REST layer turns into its reply.
  */
-import type { AlarmDto, AlarmKind } from "../../shared/contract/live";
+import type { AlarmDto, AlarmKind } from "@shared/contract/live";
 import type { Bus } from "../bus";
 import type { Logger } from "../logger";
 

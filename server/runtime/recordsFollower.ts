@@ -12,7 +12,7 @@
  * about a signal that no longer exists. The same reconciliation runs when a runner starts.
  */
 import type pg from "pg";
-import { signalIds } from "../../shared/rulebook/engine";
+import { signalIds } from "@shared/rulebook/engine";
 import type { Bus } from "../bus";
 import type { Logger } from "../logger";
 import { poolQuery, type Query } from "./eventLog";

@@ -4,8 +4,8 @@
  * replayed through `step`; the open session; each node's status and each boot's position
  * (so a resent message is told apart as duplicate or late, and `applied` can be confirmed).
  */
-import { initialState, step } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { initialState, step } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { acceptedInputs, bootPositions, emptyBatch, lastNodeStatus, latestSnapshot, openSession, type Batch, type Query } from "./eventLog";
 import type { NodeEntry } from "./ingest";
 import { snapshotState } from "./core/apply";

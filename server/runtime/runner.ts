@@ -14,10 +14,10 @@
  * once. The watchdog that decides the latter is a timer that never waits on a query.
  */
 import type pg from "pg";
-import type { AlarmDto, CommandBody, LivePatch, LiveState, LiveStep, LiveUpdate } from "../../shared/contract/live";
-import type { LayoutHealth } from "../../shared/contract/rest";
-import type { EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { AlarmDto, CommandBody, LivePatch, LiveState, LiveStep, LiveUpdate } from "@shared/contract/live";
+import type { LayoutHealth } from "@shared/contract/rest";
+import type { EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { commitBatch, emptyBatch, poolQuery, type Batch, type CommitResult, type PendingEvent } from "./eventLog";
 import { AlarmOutbox, type AlarmEffect } from "./alarmOutbox";
 import { Committer } from "./committer";

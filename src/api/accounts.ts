@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { PreferencesBody, ResetPasswordBody, ResetRequestBody, SetupBody, SocietyBody, UpdateMeBody, UpdateMemberBody } from "../../shared/contract/accounts";
+import type { PreferencesBody, ResetPasswordBody, ResetRequestBody, SetupBody, SocietyBody, UpdateMeBody, UpdateMemberBody } from "@shared/contract/accounts";
 import { adminKeys } from "./admin";
 import { authKeys } from "./auth";
 import { api } from "./client";

@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { AcceptInvitationBody, InvitationBody } from "../../shared/contract/controlRoom";
+import type { AcceptInvitationBody, InvitationBody } from "@shared/contract/controlRoom";
 import { api } from "./client";
 
 export const adminKeys = {

@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { AlarmStateFilter } from "../../shared/contract/controlRoom";
-import type { AlarmSettingsPatch } from "../../shared/contract/alarmSettings";
+import type { AlarmStateFilter } from "@shared/contract/controlRoom";
+import type { AlarmSettingsPatch } from "@shared/contract/alarmSettings";
 import { api } from "./client";
 
 export const alarmKeys = {

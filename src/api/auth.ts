@@ -1,5 +1,5 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { LoginBody, UserDto } from "../../shared/contract/rest";
+import type { LoginBody, UserDto } from "@shared/contract/rest";
 import { api } from "./client";
 import { ApiError } from "./http";
 

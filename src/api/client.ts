@@ -7,8 +7,8 @@
  * api("POST /api/alarms/:id/acknowledge", { id, body: { comment } })  // Promise<AcknowledgeResponse>
  * apiUrl("GET /api/sessions/:id/events", { id, query: { format: "csv" } }) // a download link
  */
-import { fillPattern, queryString, type PathParams, type QueryValues } from "../../shared/contract/pathPattern";
-import { splitRoute, type BodyOf, type DownloadOf, type PatternOf, type QueryOf, type QueryOptional, type ReplyOf, type RestRoute } from "../../shared/contract/restMap";
+import { fillPattern, queryString, type PathParams, type QueryValues } from "@shared/contract/pathPattern";
+import { splitRoute, type BodyOf, type DownloadOf, type PatternOf, type QueryOf, type QueryOptional, type ReplyOf, type RestRoute } from "@shared/contract/restMap";
 import { request } from "./http";
 
 type Nothing = Record<never, never>;

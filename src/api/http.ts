@@ -1,4 +1,4 @@
-import type { ApiErrorBody } from "../../shared/contract/rest";
+import type { ApiErrorBody } from "@shared/contract/rest";
 
 /** One path/message pair, as the server lists validation failures in `details`. */
 export interface FieldError {

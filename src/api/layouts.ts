@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CreateNodeBody } from "../../shared/contract/rest";
-import type { CreateLayoutBody } from "../../shared/contract/layoutEdit";
+import type { CreateNodeBody } from "@shared/contract/rest";
+import type { CreateLayoutBody } from "@shared/contract/layoutEdit";
 import type { EditableLayout } from "../lib/layoutDraft";
 import { api, apiUrl } from "./client";
 

@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { CommandBody, LiveState, LiveStep } from "../../shared/contract/live";
-import type { SessionControlBody } from "../../shared/contract/restMap";
+import type { CommandBody, LiveState, LiveStep } from "@shared/contract/live";
+import type { SessionControlBody } from "@shared/contract/restMap";
 import { api } from "./client";
 
 /** What the socket is doing for one layout, as shown by the connection indicator. */

@@ -5,8 +5,8 @@
  */
 import { useEffect } from "react";
 import { useMutation, useQuery, useQueryClient, type QueryClient } from "@tanstack/react-query";
-import type { Ack } from "../../shared/contract/live";
-import type { ProofJobDto } from "../../shared/contract/rest";
+import type { Ack } from "@shared/contract/live";
+import type { ProofJobDto } from "@shared/contract/rest";
 import { api } from "./client";
 import { layoutKeys } from "./layouts";
 import { rulebookKeys } from "./rulebooks";

@@ -1,5 +1,5 @@
 import { useQuery } from "@tanstack/react-query";
-import type { ReportCsvTable } from "../../shared/contract/restMap";
+import type { ReportCsvTable } from "@shared/contract/restMap";
 import { api, apiUrl } from "./client";
 import { sessionKeys } from "./sessions";
 

@@ -1,6 +1,6 @@
 import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { PublishBody } from "../../shared/contract/layoutEdit";
-import type { SaveDraftBody } from "../../shared/contract/rest";
+import type { PublishBody } from "@shared/contract/layoutEdit";
+import type { SaveDraftBody } from "@shared/contract/rest";
 import { api } from "./client";
 import { layoutKeys } from "./layouts";
 

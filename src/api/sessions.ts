@@ -1,5 +1,5 @@
 import { keepPreviousData, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
-import type { SessionEventFilter } from "../../shared/contract/sessions";
+import type { SessionEventFilter } from "@shared/contract/sessions";
 import { api, apiUrl } from "./client";
 
 export const sessionKeys = {

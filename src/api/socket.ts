@@ -4,7 +4,7 @@
  * opens a socket.
  */
 import { io, type Socket } from "socket.io-client";
-import type { Ack, ClientToServerEvents, LiveState, ServerToClientEvents } from "../../shared/contract/live";
+import type { Ack, ClientToServerEvents, LiveState, ServerToClientEvents } from "@shared/contract/live";
 
 export type LiveSocket = Socket<ServerToClientEvents, ClientToServerEvents>;
 

@@ -1,4 +1,4 @@
-import type { UserDto } from "../../shared/contract/rest";
+import type { UserDto } from "@shared/contract/rest";
 import { useMe } from "../api/auth";
 
 /**

@@ -1,7 +1,7 @@
 import { useMemo } from "react";
-import type { LayoutDetail } from "../../shared/contract/rest";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { validateRulebookFile } from "../../shared/rulebook/validate";
+import type { LayoutDetail } from "@shared/contract/rest";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { validateRulebookFile } from "@shared/rulebook/validate";
 import type { FieldError } from "../api/http";
 import { readDraft, type StoredDraft } from "../lib/draftStore";
 

@@ -1,6 +1,6 @@
 import { useQueryClient, type QueryClient } from "@tanstack/react-query";
 import { useEffect } from "react";
-import type { AlarmDto, LiveState, LiveUpdate } from "../../shared/contract/live";
+import type { AlarmDto, LiveState, LiveUpdate } from "@shared/contract/live";
 import { alarmKeys } from "../api/alarms";
 import { liveKeys, TICKER_LENGTH, type ConnectionInfo, type ConnectionStatus, type TickerEntry } from "../api/live";
 import { acquireLiveSocket, JoinError, joinLive, leaveLive, releaseLiveSocket } from "../api/socket";

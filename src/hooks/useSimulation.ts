@@ -1,6 +1,6 @@
 import { useCallback, useMemo, useReducer } from "react";
-import type { EngineInput } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { EngineInput } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { applyInput, startEntry, type SimEntry } from "../lib/simulation";
 
 interface SimState {

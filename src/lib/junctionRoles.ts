@@ -6,7 +6,7 @@
  * (approach before the signal, entry level with it); exits are on the line the junction's
  * section continues along. Only those of the right line are offered.
  */
-import type { LayoutDetector, LayoutPoints, LayoutSignal } from "../../shared/layout/schema";
+import type { LayoutDetector, LayoutPoints, LayoutSignal } from "@shared/layout/schema";
 
 export interface RoleRecords {
   detectors: LayoutDetector[];

@@ -3,11 +3,11 @@
  * document (so one undo history covers tables and schematic), and the file sent to
  * `PUT /api/layouts/:slug` (CONTRACT.md §6: a layout file without `rulebook`, plus `revision`).
  */
-import type { LayoutDetail } from "../../shared/contract/rest";
-import { canonicalLayout } from "../../shared/layout/canonical";
-import { LAYOUT_FORMAT, type LayoutNode } from "../../shared/layout/schema";
-import { RULEBOOK_FORMAT } from "../../shared/rulebook/schema";
-import { validateLayoutFile, type ValidationError } from "../../shared/rulebook/validate";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { canonicalLayout } from "@shared/layout/canonical";
+import { LAYOUT_FORMAT, type LayoutNode } from "@shared/layout/schema";
+import { RULEBOOK_FORMAT } from "@shared/rulebook/schema";
+import { validateLayoutFile, type ValidationError } from "@shared/rulebook/validate";
 import { migrateForEditing, type DrawingDoc } from "../components/schematic/edits";
 import { parseSchematic, serializeSchematic } from "../components/schematic/format";
 

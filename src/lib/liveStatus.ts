@@ -4,9 +4,9 @@
  * own (its fail-safe danger, or nothing if it has no power), so it is drawn unknown (dark),
  * and the layout is only "live" while every board that drives or reports something is online.
  */
-import type { LiveState } from "../../shared/contract/live";
-import type { NodeDto } from "../../shared/contract/rest";
-import type { ShownAspect } from "../../shared/rulebook/schema";
+import type { LiveState } from "@shared/contract/live";
+import type { NodeDto } from "@shared/contract/rest";
+import type { ShownAspect } from "@shared/rulebook/schema";
 
 
 export type LayoutStatusLevel = "live" | "boards-offline" | "fail-safe" | "no-boards";

@@ -7,7 +7,7 @@
  * paths.replay({ slug: "kestrel-bank", id: 3 }, { query: { step: 12 } }) // "/layouts/kestrel-bank/sessions/3/replay?step=12"
  * <Route path={PAGES.replay} element={<ReplayPage />} />
  */
-import { fillPattern, queryString, type PathParams, type QueryValues } from "../../shared/contract/pathPattern";
+import { fillPattern, queryString, type PathParams, type QueryValues } from "@shared/contract/pathPattern";
 
 export const PAGES = {
   login: "/login",

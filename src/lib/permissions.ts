@@ -1,5 +1,5 @@
-import { allows } from "../../shared/contract/permissions";
-import type { Role } from "../../shared/contract/rest";
+import { allows } from "@shared/contract/permissions";
+import type { Role } from "@shared/contract/rest";
 
 /**
  * What each role may do in the client, read from the one permissions table the server's route

@@ -3,8 +3,8 @@
  * engine, starting a what-if run of another rulebook from the same moment, comparing the
  * two runs step by step, and pacing playback by the recorded times.
  */
-import { initialState, shownAspects, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { initialState, shownAspects, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { formatTime } from "./duration";
 import { applyInput, describeInput, type SimEntry } from "./simulation";
 

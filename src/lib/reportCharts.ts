@@ -4,8 +4,8 @@
  * pulses each train gave at each detector with mismatches in their own colour.
  */
 import type uPlot from "uplot";
-import type { SessionReportDto, SignalTimelineDto } from "../../shared/contract/report";
-import type { ShownAspect } from "../../shared/rulebook/schema";
+import type { SessionReportDto, SignalTimelineDto } from "@shared/contract/report";
+import type { ShownAspect } from "@shared/rulebook/schema";
 
 /** Colours of the control-room theme (tailwind.config.ts). */
 export const CHART_COLOURS = {

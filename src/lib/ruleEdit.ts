@@ -7,8 +7,8 @@
  * rule's `if`, e.g. `["all", 1, "not"]` for `$.rules[3].if.all[1].not`, so an error's path
  * and a form control meet without translation.
  */
-import { ACTION_KINDS, type ActionKind, type ConditionKind } from "../../shared/rulebook/kinds";
-import type { Action, Aspect, Condition, Rule, Rulebook } from "../../shared/rulebook/schema";
+import { ACTION_KINDS, type ActionKind, type ConditionKind } from "@shared/rulebook/kinds";
+import type { Action, Aspect, Condition, Rule, Rulebook } from "@shared/rulebook/schema";
 
 export { ACTION_KINDS, type ActionKind };
 

@@ -3,11 +3,11 @@
  * lists (typed, uploaded or carried in a `?trace=` link) and plain-words explanations.
  * The engine itself is `shared/rulebook/engine.ts`, the same one the live runtime runs.
  */
-import { initialStep, step, type Change, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
-import { replayCounterexample, type Move, type TrainView } from "../../shared/rulebook/prove";
-import { POINTS_LIES, type PointsLie, type ProvingRoute } from "../../shared/rulebook/schema";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { unreachable } from "../../shared/rulebook/kinds";
+import { initialStep, step, type Change, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import { replayCounterexample, type Move, type TrainView } from "@shared/rulebook/prove";
+import { POINTS_LIES, type PointsLie, type ProvingRoute } from "@shared/rulebook/schema";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { unreachable } from "@shared/rulebook/kinds";
 import { formatClock } from "./format";
 
 /** One point in the simulation: the input that led here and what it changed. */

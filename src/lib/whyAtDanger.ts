@@ -5,7 +5,7 @@
  * signaller command that would change the failing part, where one exists. A stray pulse that
  * leaves `junction = 1` reads: "give-main needs junction == 0, but junction is 1 → zero junction".
  */
-import type { Condition, Rule, Rulebook } from "../../shared/rulebook/schema";
+import type { Condition, Rule, Rulebook } from "@shared/rulebook/schema";
 
 export interface LiveFacts {
   latches: Record<string, boolean>;

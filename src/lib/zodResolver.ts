@@ -1,6 +1,6 @@
 import type { FieldErrors, FieldValues, Resolver } from "react-hook-form";
 import type { z } from "zod";
-import { toJsonPath } from "../../shared/rulebook/validate";
+import { toJsonPath } from "@shared/rulebook/validate";
 
 /**
  * react-hook-form validation with one of the zod schemas the server also uses (shared/), so a

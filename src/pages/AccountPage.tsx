@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { z } from "zod";
-import { PASSWORD_RULE, passwordSchema } from "../../shared/contract/accounts";
+import { PASSWORD_RULE, passwordSchema } from "@shared/contract/accounts";
 import { usePreferences, useUpdateMe } from "../api/accounts";
 import { TextField } from "../components/auth/TextField";
 import { FormAlert } from "../components/auth/AuthCard";

@@ -1,5 +1,5 @@
 import { Link, useParams } from "react-router-dom";
-import type { AuditEntryDto } from "../../shared/contract/controlRoom";
+import type { AuditEntryDto } from "@shared/contract/controlRoom";
 import { useAudit } from "../api/audit";
 import { columnsFor, DataTable } from "../components/ui/DataTable";
 import { LoadError, Loading } from "../components/ui/Status";

@@ -1,6 +1,6 @@
 import { useForm } from "react-hook-form";
 import { Link } from "react-router-dom";
-import { resetRequestBodySchema, type ResetRequestBody } from "../../shared/contract/accounts";
+import { resetRequestBodySchema, type ResetRequestBody } from "@shared/contract/accounts";
 import { useRequestReset } from "../api/accounts";
 import { ApiError } from "../api/http";
 import { AuthCard, FormAlert, submitClass } from "../components/auth/AuthCard";

@@ -1,7 +1,7 @@
 import { useForm } from "react-hook-form";
 import { Link, useParams } from "react-router-dom";
-import { PASSWORD_RULE } from "../../shared/contract/accounts";
-import { acceptInvitationBodySchema, type AcceptInvitationBody } from "../../shared/contract/controlRoom";
+import { PASSWORD_RULE } from "@shared/contract/accounts";
+import { acceptInvitationBodySchema, type AcceptInvitationBody } from "@shared/contract/controlRoom";
 import { useAcceptInvitation, useInvitation } from "../api/admin";
 import { Button } from "../components/ui/Button";
 import { ROLE_LABELS } from "../lib/permissions";

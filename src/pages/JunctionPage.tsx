@@ -1,8 +1,8 @@
 import { useMemo, useState } from "react";
 import { useForm } from "react-hook-form";
 import { Link, useParams } from "react-router-dom";
-import { convergingOptionsSchema, facingOptionsSchema } from "../../shared/rulebook/templateCatalog";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { convergingOptionsSchema, facingOptionsSchema } from "@shared/rulebook/templateCatalog";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { ApiError } from "../api/http";
 import { useLayout } from "../api/layouts";
 import { useSaveDraftMutation } from "../api/rulebooks";

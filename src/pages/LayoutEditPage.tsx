@@ -1,7 +1,7 @@
 import { useCallback, useEffect, useMemo, useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { ValidationError } from "../../shared/rulebook/validate";
-import { LAYOUT_EDIT_ERRORS } from "../../shared/contract/layoutEdit";
+import type { ValidationError } from "@shared/rulebook/validate";
+import { LAYOUT_EDIT_ERRORS } from "@shared/contract/layoutEdit";
 import { ApiError } from "../api/http";
 import { useArchiveMutation, useEditableLayout, useSaveLayoutMutation } from "../api/layouts";
 import { RecordsEditor } from "../components/records/RecordsEditor";

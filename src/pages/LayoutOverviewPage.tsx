@@ -1,6 +1,6 @@
 import { Link, useParams } from "react-router-dom";
-import type { NodeDto } from "../../shared/contract/rest";
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../../shared/layout/schema";
+import type { NodeDto } from "@shared/contract/rest";
+import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "@shared/layout/schema";
 import { layoutExportUrl, useLayout } from "../api/layouts";
 import { useMe } from "../api/auth";
 import { NodeCredentials } from "../components/layouts/NodeCredentials";

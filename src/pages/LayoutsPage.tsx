@@ -1,5 +1,5 @@
 import { Link } from "react-router-dom";
-import type { LayoutSummary } from "../../shared/contract/rest";
+import type { LayoutSummary } from "@shared/contract/rest";
 import { useLayouts } from "../api/layouts";
 import { ImportLayoutForm } from "../components/layouts/ImportLayoutForm";
 import { NewLayoutForm } from "../components/layouts/NewLayoutForm";

@@ -1,6 +1,6 @@
 import { useCallback, useMemo, useState } from "react";
 import { Link, useParams } from "react-router-dom";
-import type { CommandBody } from "../../shared/contract/live";
+import type { CommandBody } from "@shared/contract/live";
 import { ApiError } from "../api/http";
 import { useLayout } from "../api/layouts";
 import { useCommandMutation, useConnection, useLiveState, usePulses, useTicker } from "../api/live";

@@ -1,6 +1,6 @@
 import { Link, Navigate, useLocation, useNavigate } from "react-router-dom";
 import { useSetupStatus, useSociety } from "../api/accounts";
-import type { LoginBody } from "../../shared/contract/rest";
+import type { LoginBody } from "@shared/contract/rest";
 import { useLogin, useMe } from "../api/auth";
 import { ApiError } from "../api/http";
 import { LoginForm } from "../components/auth/LoginForm";

@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import { ROLES } from "../../shared/contract/rest";
-import { invitationBodySchema, type InvitationBody } from "../../shared/contract/controlRoom";
+import { ROLES } from "@shared/contract/rest";
+import { invitationBodySchema, type InvitationBody } from "@shared/contract/controlRoom";
 import { useSociety } from "../api/accounts";
 import { useInviteMutation, useMembers } from "../api/admin";
 import { AccountAudit } from "../components/members/AccountAudit";

@@ -1,8 +1,8 @@
 import { useEffect, useMemo } from "react";
 import { useForm } from "react-hook-form";
 import { useParams } from "react-router-dom";
-import { METRES_PER_MILE, type SpeedInput } from "../../shared/layout/placement";
-import { checkRoutePlacement, type RoutePlacementResult } from "../../shared/layout/routePlacement";
+import { METRES_PER_MILE, type SpeedInput } from "@shared/layout/placement";
+import { checkRoutePlacement, type RoutePlacementResult } from "@shared/layout/routePlacement";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { AssumptionsForm } from "../components/placement/AssumptionsForm";

@@ -1,7 +1,7 @@
 import { useEffect, useMemo, useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import { shownAspects } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { shownAspects } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { useSessionInputs, useSessions } from "../api/sessions";

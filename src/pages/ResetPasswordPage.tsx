@@ -2,7 +2,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { Link, useParams } from "react-router-dom";
 import { z } from "zod";
-import { PASSWORD_RULE, passwordSchema } from "../../shared/contract/accounts";
+import { PASSWORD_RULE, passwordSchema } from "@shared/contract/accounts";
 import { useResetPassword } from "../api/accounts";
 import { ApiError } from "../api/http";
 import { AuthCard, FormAlert, submitClass } from "../components/auth/AuthCard";

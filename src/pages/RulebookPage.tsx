@@ -1,6 +1,6 @@
 import { useCallback, useMemo } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { RulebookContext } from "../../shared/rulebook/validate";
+import type { RulebookContext } from "@shared/rulebook/validate";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { ProofPanel } from "../components/rulebook/ProofPanel";

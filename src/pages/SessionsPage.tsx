@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { Link, useParams, useSearchParams } from "react-router-dom";
-import type { SessionEventFilter, SessionSummaryDto } from "../../shared/contract/sessions";
+import type { SessionEventFilter, SessionSummaryDto } from "@shared/contract/sessions";
 import { useLayout } from "../api/layouts";
 import { sessionExportUrl, useSessionEvents, useSessions } from "../api/sessions";
 import { EventLogFilters } from "../components/sessions/EventLogFilters";

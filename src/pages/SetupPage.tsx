@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { Link, useSearchParams } from "react-router-dom";
-import { PASSWORD_RULE, setupBodySchema, type SetupBody } from "../../shared/contract/accounts";
+import { PASSWORD_RULE, setupBodySchema, type SetupBody } from "@shared/contract/accounts";
 import { useSetup, useSetupStatus } from "../api/accounts";
 import { ApiError } from "../api/http";
 import { AuthCard, FormAlert, submitClass } from "../components/auth/AuthCard";

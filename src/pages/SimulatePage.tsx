@@ -1,6 +1,6 @@
 import { useEffect, useMemo, useState } from "react";
 import { useParams, useSearchParams } from "react-router-dom";
-import { shownAspects } from "../../shared/rulebook/engine";
+import { shownAspects } from "@shared/rulebook/engine";
 import { useLayout } from "../api/layouts";
 import { useRulebookVersion } from "../api/rulebooks";
 import { Mimic } from "../components/mimic/Mimic";

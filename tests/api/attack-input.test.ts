@@ -5,7 +5,7 @@
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { DEMO_PASSWORD } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
 

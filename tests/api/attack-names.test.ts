@@ -7,7 +7,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_PASSWORD } from "../../server/db/seed/demo";
-import type { LayoutDetail } from "../../shared/contract/rest";
+import type { LayoutDetail } from "@shared/contract/rest";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;

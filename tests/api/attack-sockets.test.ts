@@ -8,7 +8,7 @@ import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { hashSecret } from "../../server/features/auth/service";
-import type { Role } from "../../shared/contract/rest";
+import type { Role } from "@shared/contract/rest";
 import { connectBrowser, join, startLiveHarness, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 

@@ -6,7 +6,7 @@ import http from "node:http";
 import type { AddressInfo } from "node:net";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { MAX_EVENTS, MAX_OUTPUT_CELLS } from "../../server/features/simulate/simulation";
 import { SimulationRunner } from "../../server/features/simulate/runner";

@@ -5,8 +5,8 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { LayoutDetail } from "../../shared/contract/rest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 

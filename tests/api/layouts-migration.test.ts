@@ -6,7 +6,7 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import * as workbench from "../../server/db/migrations/007-workbench";
-import { RULEBOOK_KEY_ORDER } from "../../shared/rulebook/canonical";
+import { RULEBOOK_KEY_ORDER } from "@shared/rulebook/canonical";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 describe("migration 007 (workbench) on existing data", () => {

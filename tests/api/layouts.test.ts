@@ -1,6 +1,6 @@
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;

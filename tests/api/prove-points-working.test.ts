@@ -4,8 +4,8 @@
  * rulebook never throws P2, so only the layout can say whether a person may move it.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { ProofJobDto, ProofResultDto } from "../../shared/contract/rest";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import type { ProofJobDto, ProofResultDto } from "@shared/contract/rest";
+import { wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { closeProofJobs } from "../../server/features/prove/service";
 import { unthrownPointsRulebook } from "../fixtures/unthrownPoints";
 import { startTestApp, type TestApp } from "../support/testApp";

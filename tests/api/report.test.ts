@@ -4,7 +4,7 @@
  * (the real import route, stored in the real database), so every time in it is exact.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { SessionReportDto } from "../../shared/contract/report";
+import type { SessionReportDto } from "@shared/contract/report";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 const SLUG = "kestrel-bank";

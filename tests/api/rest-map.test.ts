@@ -6,7 +6,7 @@
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { REST_ROUTES, splitRoute, type RestRoute } from "../../shared/contract/restMap";
+import { REST_ROUTES, splitRoute, type RestRoute } from "@shared/contract/restMap";
 import { apiRoutes } from "../support/apiRoutes";
 import { startTestApp, type TestApp } from "../support/testApp";
 

@@ -4,10 +4,10 @@
  */
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { allows, type Action } from "../../shared/contract/permissions";
-import { ROLES, type Role } from "../../shared/contract/rest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { findTemplate } from "../../shared/rulebook/templateCatalog";
+import { allows, type Action } from "@shared/contract/permissions";
+import { ROLES, type Role } from "@shared/contract/rest";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { findTemplate } from "@shared/rulebook/templateCatalog";
 import { DEMO_PASSWORD } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { startLiveHarness, type LiveHarness } from "../support/live";

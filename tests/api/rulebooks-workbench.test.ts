@@ -4,12 +4,12 @@
  * (audited), an alarm when the live version is later refuted, and canonical key order.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { AlarmDto } from "../../shared/contract/live";
-import type { TemplateDto } from "../../shared/contract/layoutEdit";
-import type { ProofJobDto, RulebookVersionSummary } from "../../shared/contract/rest";
-import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { RULEBOOK_KEY_ORDER } from "../../shared/rulebook/canonical";
-import { rulebookContextOf, validateRulebookFile } from "../../shared/rulebook/validate";
+import type { AlarmDto } from "@shared/contract/live";
+import type { TemplateDto } from "@shared/contract/layoutEdit";
+import type { ProofJobDto, RulebookVersionSummary } from "@shared/contract/rest";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout } from "@shared/demo/fernmoor";
+import { RULEBOOK_KEY_ORDER } from "@shared/rulebook/canonical";
+import { rulebookContextOf, validateRulebookFile } from "@shared/rulebook/validate";
 import { closeProofJobs } from "../../server/features/prove/service";
 import { startTestApp, type TestApp } from "../support/testApp";
 

@@ -5,8 +5,8 @@
  * starting and ending a session from the live page with a note.
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { AlarmSettingsResponse } from "../../shared/contract/alarmSettings";
-import type { SessionListResponse } from "../../shared/contract/sessions";
+import type { AlarmSettingsResponse } from "@shared/contract/alarmSettings";
+import type { SessionListResponse } from "@shared/contract/sessions";
 import { rollCall } from "../../server/features/alarms/boardRollCall";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";

@@ -6,7 +6,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import type { SessionImportResponse, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
+import type { SessionImportResponse, SessionInputsResponse, SessionListResponse } from "@shared/contract/sessions";
 import { csvRecords } from "../../server/features/sessions/eventCsv";
 import { SIDING_BOARD, SIDING_QUIET_MS, SIDING_SLUG as SLUG, wrenfoldSidingLayout as sidingLayout } from "../fixtures/wrenfoldSiding";
 import { connectBoard, onManualClock, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";

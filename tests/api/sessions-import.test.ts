@@ -6,7 +6,7 @@
 import request from "supertest";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { SessionImportResponse, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
+import type { SessionImportResponse, SessionInputsResponse, SessionListResponse } from "@shared/contract/sessions";
 import { MAX_IMPORT_BYTES } from "../../server/features/sessions/import";
 import { connectBoard, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";

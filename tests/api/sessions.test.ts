@@ -6,9 +6,9 @@
 import request from "supertest";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { SessionEventPage, SessionInputsResponse, SessionListResponse } from "../../shared/contract/sessions";
-import { shownAspects, step, type EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { SessionEventPage, SessionInputsResponse, SessionListResponse } from "@shared/contract/sessions";
+import { shownAspects, step, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 

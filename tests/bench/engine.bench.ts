@@ -5,9 +5,9 @@
  * and the time to replay the whole session through `step`.
  */
 import { performance } from "node:perf_hooks";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { compileRulebook, initialState, shownAspects, step, type EngineInput } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { compileRulebook, initialState, shownAspects, step, type EngineInput } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 
 const SESSION_PULSES = 1_000_000;
 

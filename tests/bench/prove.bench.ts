@@ -21,12 +21,12 @@
  *   over SPIN's (goal ≤ 1). SPIN explores the plain §5 environment: no lazy arrival or length.
  */
 import os from "node:os";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import { toPromela } from "../../shared/rulebook/promela";
-import { prove } from "../../shared/rulebook/prove";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction } from "../../shared/rulebook/templates";
+import { toPromela } from "@shared/rulebook/promela";
+import { prove } from "@shared/rulebook/prove";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction } from "@shared/rulebook/templates";
 import { wrenfoldFacing } from "../fixtures/junctions";
 import { runSpin, spinAvailable, type SpinRun } from "../support/spin";
 import type { Report } from "./run";

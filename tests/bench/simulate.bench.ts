@@ -25,7 +25,7 @@ import { importLayout, registerNode } from "../../server/features/layouts/servic
 import { MAX_EVENTS, MAX_OUTPUT_CELLS } from "../../server/features/simulate/simulation";
 import { createLogger } from "../../server/logger";
 import { startLiveRuntime } from "../../server/runtime/liveRuntime";
-import type { LayoutFile } from "../../shared/layout/schema";
+import type { LayoutFile } from "@shared/layout/schema";
 import type { Report } from "./run";
 import { runtimeDeps } from "../../server/runtimeDeps";
 

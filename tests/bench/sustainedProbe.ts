@@ -9,7 +9,7 @@
  * the event log (board → server, including the server's event-loop lag), the command's `at`
  * (receipt → commit → publish) and the board's receipt (the broker hop out).
  */
-import type { AspectPayload } from "../../shared/contract/live";
+import type { AspectPayload } from "@shared/contract/live";
 
 export const PROBE_DETECTOR = "PR";
 export const PROBE_SIGNAL = "PS";

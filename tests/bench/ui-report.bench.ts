@@ -13,7 +13,7 @@ import fs from "node:fs";
 import os from "node:os";
 import path from "node:path";
 import zlib from "node:zlib";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { Bus } from "../../server/bus";
 import { configFromEnv } from "../../server/config";
 import { openDatabase } from "../../server/db/database";

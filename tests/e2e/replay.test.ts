@@ -9,7 +9,7 @@ import type { Page } from "playwright-core";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { connectBoard, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { ARTIFACTS, chromiumAvailable, openBrowser } from "./pages/browser";

@@ -8,7 +8,7 @@ import bcrypt from "bcryptjs";
 import mqtt, { type MqttClient } from "mqtt";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { LayoutDetail } from "../../shared/contract/rest";
+import type { LayoutDetail } from "@shared/contract/rest";
 import { issueBoardSecrets, KESTREL_BOARDS, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 

@@ -10,7 +10,7 @@ import pg from "pg";
 import request from "supertest";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { QueryTypes } from "sequelize";
-import { topics } from "../../shared/contract/live";
+import { topics } from "@shared/contract/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, onManualClock, startLiveHarness, waitFor, type LiveHarness } from "../support/live";
 import { ManualClock } from "../support/manualClock";

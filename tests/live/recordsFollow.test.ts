@@ -8,8 +8,8 @@
 import mqtt, { type MqttClient } from "mqtt";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { LayoutDetail } from "../../shared/contract/rest";
-import { topics } from "../../shared/contract/live";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { topics } from "@shared/contract/live";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, SERVER_MQTT_USERNAME, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { startTestApp, type TestApp } from "../support/testApp";
 

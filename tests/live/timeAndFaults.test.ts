@@ -12,8 +12,8 @@ import { ManualClock } from "../support/manualClock";
 
 /** Set by the fail-safe test: the engine's step throws while this is true. */
 const engineBroken = vi.hoisted(() => ({ now: false }));
-vi.mock("../../shared/rulebook/engine", async (importOriginal) => {
-  const engine = await importOriginal<typeof import("../../shared/rulebook/engine")>();
+vi.mock("@shared/rulebook/engine", async (importOriginal) => {
+  const engine = await importOriginal<typeof import("@shared/rulebook/engine")>();
   return {
     ...engine,
     step: (...args: Parameters<typeof engine.step>) => {

@@ -10,7 +10,7 @@ import {
   prototypeKmh,
   prototypeMph,
   scaleSpeedFromTiming,
-} from "../../shared/layout/placement";
+} from "@shared/layout/placement";
 
 const INCH_M = 0.0254;
 

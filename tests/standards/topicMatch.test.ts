@@ -4,7 +4,7 @@
  * beginning with "$"), as listed in docs REFERENCES.md.
  */
 import { describe, expect, it } from "vitest";
-import { filterWithin, isValidFilter, topicMatches } from "../../shared/contract/topicMatch";
+import { filterWithin, isValidFilter, topicMatches } from "@shared/contract/topicMatch";
 
 describe("topic filters — OASIS MQTT 3.1.1 §4.7", () => {
   it.each([

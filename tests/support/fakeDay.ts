@@ -8,9 +8,9 @@ import { ManualScheduler } from "../../broker/fakeLayout/clock";
 import { FakeLayoutPlayer, type OutMessage, type TrainEvent } from "../../broker/fakeLayout/player";
 import { checkScenarioAgainstLayout, type Scenario } from "../../broker/fakeLayout/scenario";
 import { AlarmWatcher, type AlarmAction, type WatchRoute } from "../../server/features/alarms/watchers";
-import type { AspectPayload } from "../../shared/contract/live";
-import type { LayoutFile } from "../../shared/layout/schema";
-import { initialState, shownAspects, step, type Change } from "../../shared/rulebook/engine";
+import type { AspectPayload } from "@shared/contract/live";
+import type { LayoutFile } from "@shared/layout/schema";
+import { initialState, shownAspects, step, type Change } from "@shared/rulebook/engine";
 
 const AT = "2026-05-02T10:00:00.000Z";
 const DELIVERY_MS = 5;

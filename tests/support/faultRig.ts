@@ -17,7 +17,7 @@ import path from "node:path";
 import { fileURLToPath } from "node:url";
 import { ReferenceBoard, type ReferenceBoardOptions } from "../../broker/referenceBoard";
 import { freePort } from "../../server/db/embeddedPostgres";
-import { LAYOUT_FORMAT, type LayoutFile } from "../../shared/layout/schema";
+import { LAYOUT_FORMAT, type LayoutFile } from "@shared/layout/schema";
 
 const ROOT = fileURLToPath(new URL("../..", import.meta.url));
 export const RIG_SLUG = "fernmoor-counting-bench";

@@ -13,7 +13,7 @@ import { databaseAuthenticator } from "../../broker/auth";
 import { watchNodeCredentials, type CredentialWatch } from "../../broker/credentialWatch";
 import { ReferenceBoard, type ReferenceBoardOptions } from "../../broker/referenceBoard";
 import { startBroker, type BrokerRefusal, type RunningBroker } from "../../broker/server";
-import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "../../shared/contract/live";
+import type { ClientToServerEvents, LiveState, LiveUpdate, ServerToClientEvents, AspectPayload } from "@shared/contract/live";
 import { attachLiveSocket } from "../../server/features/live/socket";
 import { poolFromDeps, startLiveRuntime, type LiveRuntime } from "../../server/runtime/liveRuntime";
 import type { RunnerOptions } from "../../server/runtime/runner";

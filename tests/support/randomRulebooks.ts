@@ -5,7 +5,7 @@
  * increment with `counter < COUNT_CAP`, so every state space is finite.
  */
 import fc from "fast-check";
-import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
+import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "@shared/rulebook/schema";
 import { kestrelRoutes } from "../fixtures/junctions";
 
 export const COUNTERS = ["a", "b"] as const;

@@ -22,7 +22,7 @@ import { mkdtemp, rm, writeFile } from "node:fs/promises";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { promisify } from "node:util";
-import { parsePanOutput, type PanReport } from "../../shared/rulebook/promela";
+import { parsePanOutput, type PanReport } from "@shared/rulebook/promela";
 
 const run = promisify(execFile);
 

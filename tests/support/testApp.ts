@@ -12,7 +12,7 @@ import { openDatabase } from "../../server/db/database";
 import { DEMO_PASSWORD, demoEmail, seedDemo } from "../../server/db/seed/demo";
 import type { AppDeps } from "../../server/deps";
 import { createLogger } from "../../server/logger";
-import type { Role } from "../../shared/contract/rest";
+import type { Role } from "@shared/contract/rest";
 
 /** Creates an empty database and returns its URL. */
 export async function createTestDatabase(): Promise<string> {

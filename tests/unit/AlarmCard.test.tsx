@@ -3,7 +3,7 @@ import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, render, screen } from "@testing-library/react";
 import { MemoryRouter } from "react-router-dom";
 import { afterEach, describe, expect, it } from "vitest";
-import type { AlarmDto } from "../../shared/contract/live";
+import type { AlarmDto } from "@shared/contract/live";
 import { AlarmCard } from "../../src/components/alarms/AlarmCard";
 import { formatDateTimeSeconds } from "../../src/lib/format";
 

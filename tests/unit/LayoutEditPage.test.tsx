@@ -3,8 +3,8 @@ import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, fireEvent, render, screen, waitFor } from "@testing-library/react";
 import { MemoryRouter, Route, Routes } from "react-router-dom";
 import { afterEach, describe, expect, it, vi } from "vitest";
-import type { LayoutDetail } from "../../shared/contract/rest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { authKeys } from "../../src/api/auth";
 import LayoutEditPage from "../../src/pages/LayoutEditPage";
 

@@ -1,7 +1,7 @@
 // @vitest-environment happy-dom
 import { cleanup, render, screen } from "@testing-library/react";
 import { afterEach, describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { Mimic } from "../../src/components/mimic/Mimic";
 import { layoutGeometry, pathBetween, pointAlong, project, slice } from "../../src/components/mimic/geometry";
 import { deriveOccupancy } from "../../src/components/mimic/occupancy";

@@ -2,8 +2,8 @@
 import { QueryClient, QueryClientProvider } from "@tanstack/react-query";
 import { cleanup, fireEvent, render, screen, waitFor } from "@testing-library/react";
 import { afterEach, describe, expect, it, vi } from "vitest";
-import type { LayoutDetail } from "../../shared/contract/rest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
 import { NodeCredentials } from "../../src/components/layouts/NodeCredentials";
 
 afterEach(() => {

@@ -3,8 +3,8 @@ import { cleanup, fireEvent, render, screen, within } from "@testing-library/rea
 import { useState } from "react";
 import { afterEach, describe, expect, it, vi } from "vitest";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import type { Condition, Rulebook } from "../../shared/rulebook/schema";
-import type { RulebookContext } from "../../shared/rulebook/validate";
+import type { Condition, Rulebook } from "@shared/rulebook/schema";
+import type { RulebookContext } from "@shared/rulebook/validate";
 import { RuleFormEditor } from "../../src/components/rulebook/form/RuleFormEditor";
 import {
   addCondition,

@@ -5,9 +5,9 @@
  */
 import { describe, expect, expectTypeOf, it } from "vitest";
 import { api, apiUrl } from "../../src/api/client";
-import { fillPattern, queryString } from "../../shared/contract/pathPattern";
-import type { LayoutResponse, MeResponse } from "../../shared/contract/rest";
-import type { SessionEventPage } from "../../shared/contract/sessions";
+import { fillPattern, queryString } from "@shared/contract/pathPattern";
+import type { LayoutResponse, MeResponse } from "@shared/contract/rest";
+import type { SessionEventPage } from "@shared/contract/sessions";
 
 describe("api() types", () => {
   it("names the reply by the route", () => {

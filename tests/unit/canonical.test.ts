@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { canonicalLayout } from "../../shared/layout/canonical";
-import { canonicalRulebook } from "../../shared/rulebook/canonical";
-import { unfinishedAdvice, unfinishedReason } from "../../shared/rulebook/proofAdvice";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { canonicalLayout } from "@shared/layout/canonical";
+import { canonicalRulebook } from "@shared/rulebook/canonical";
+import { unfinishedAdvice, unfinishedReason } from "@shared/rulebook/proofAdvice";
 
 const reversed = <T extends object>(value: T): T => Object.fromEntries(Object.entries(value).reverse()) as T;
 

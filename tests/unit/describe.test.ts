@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { describeAction, describeCondition, describeRule, describeTriggerAlone } from "../../shared/rulebook/describe";
-import type { Action, Condition, Rule } from "../../shared/rulebook/schema";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { describeAction, describeCondition, describeRule, describeTriggerAlone } from "@shared/rulebook/describe";
+import type { Action, Condition, Rule } from "@shared/rulebook/schema";
 
 describe("describeCondition", () => {
   it.each([

@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import type { ChangeDto, LiveState, LiveUpdate } from "../../shared/contract/live";
+import type { ChangeDto, LiveState, LiveUpdate } from "@shared/contract/live";
 import { redactStateForDisplay, redactUpdateForDisplay } from "../../server/features/display/redact";
 
 const alarm = { id: 1, kind: "stuck" as const, subject: "junction", message: "m", raisedAt: "t", acknowledgedAt: "t", acknowledgedBy: "Fernmoor Signaller", comment: "checked", clearedAt: null, occurrences: 1, lastSeenAt: "t" };

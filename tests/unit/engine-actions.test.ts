@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { initialState, step, type Change, type EngineState } from "../../shared/rulebook/engine";
-import type { Action, Rulebook } from "../../shared/rulebook/schema";
+import { initialState, step, type Change, type EngineState } from "@shared/rulebook/engine";
+import type { Action, Rulebook } from "@shared/rulebook/schema";
 
 /** Runs one action as the only action of a pass rule at T, from a known state. */
 function run(action: Action): { state: EngineState; changes: Change[] } {

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { initialState, step } from "../../shared/rulebook/engine";
-import type { Condition, Rulebook } from "../../shared/rulebook/schema";
+import { initialState, step } from "@shared/rulebook/engine";
+import type { Condition, Rulebook } from "@shared/rulebook/schema";
 
 /**
  * A rulebook whose only event rule sets the latch `hit` when a wheelset passes T and the

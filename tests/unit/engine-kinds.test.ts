@@ -8,8 +8,8 @@ import {
   matchAction,
   triggerKind,
   type ActionCases,
-} from "../../shared/rulebook/kinds";
-import type { Action, Condition, Trigger } from "../../shared/rulebook/schema";
+} from "@shared/rulebook/kinds";
+import type { Action, Condition, Trigger } from "@shared/rulebook/schema";
 
 const CONDITIONS: Condition[] = [
   { latch: "a" },

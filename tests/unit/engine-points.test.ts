@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
-import { initialState, step } from "../../shared/rulebook/engine";
-import { rulebookSchema, type Rulebook } from "../../shared/rulebook/schema";
-import { validateRulebookFile } from "../../shared/rulebook/validate";
-import { lowestFormat } from "../../shared/rulebook/mentions";
+import { initialState, step } from "@shared/rulebook/engine";
+import { rulebookSchema, type Rulebook } from "@shared/rulebook/schema";
+import { validateRulebookFile } from "@shared/rulebook/validate";
+import { lowestFormat } from "@shared/rulebook/mentions";
 
 const book = (rules: unknown[], extra: Record<string, unknown> = {}): Rulebook =>
   rulebookSchema.parse({ format: "blocklight.rulebook/2", counters: { moves: 0 }, latches: { seen: false }, initial: { W1: "danger" }, rules, ...extra });

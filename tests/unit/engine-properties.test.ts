@@ -1,8 +1,8 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { initialState, replay, shownAspects, step, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { initialState, replay, shownAspects, step, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 
 const base = kestrelBankLayout().rulebook;
 /** Kestrel Bank plus a quiet trigger and a latch, so every kind of input does something. */

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import { initialState, shownAspects, step, type Change, type EngineInput, type EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { initialState, shownAspects, step, type Change, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 
 const kestrel = kestrelTwoRoutesLayout().rulebook;
 

@@ -8,8 +8,8 @@ import { describe, expect, it } from "vitest";
 import { ManualScheduler } from "../../broker/fakeLayout/clock";
 import { FakeLayoutPlayer, POINTS_MOVE_MS, type OutMessage, type TrainEvent } from "../../broker/fakeLayout/player";
 import type { Scenario } from "../../broker/fakeLayout/scenario";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import type { LayoutFile } from "../../shared/layout/schema";
+import { wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import type { LayoutFile } from "@shared/layout/schema";
 
 const AT = "2026-05-02T10:00:00.000Z";
 

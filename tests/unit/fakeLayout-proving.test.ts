@@ -9,8 +9,8 @@
 import path from "node:path";
 import { describe, expect, it } from "vitest";
 import { checkScenarioAgainstLayout, loadScenarioFile, parseScenario, ScenarioInvalidError } from "../../broker/fakeLayout/scenario";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import type { LayoutFile } from "../../shared/layout/schema";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import type { LayoutFile } from "@shared/layout/schema";
 import { playFakeDay } from "../support/fakeDay";
 
 const SCENARIO_DIR = path.resolve(__dirname, "../../broker/fakeLayout/scenarios");

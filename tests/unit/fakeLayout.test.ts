@@ -11,9 +11,9 @@ import { describe, expect, it } from "vitest";
 import { ManualScheduler } from "../../broker/fakeLayout/clock";
 import { FakeLayoutPlayer, LEAD_IN_M, STOP_SHORT_M, type OutMessage, type TrainEvent } from "../../broker/fakeLayout/player";
 import { checkScenarioAgainstLayout, loadScenarioFile, parseScenario, ScenarioInvalidError, type Scenario } from "../../broker/fakeLayout/scenario";
-import type { AspectPayload } from "../../shared/contract/live";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import type { LayoutFile } from "../../shared/layout/schema";
+import type { AspectPayload } from "@shared/contract/live";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import type { LayoutFile } from "@shared/layout/schema";
 import { playFakeDay } from "../support/fakeDay";
 
 const SCENARIO_DIR = path.resolve(__dirname, "../../broker/fakeLayout/scenarios");

@@ -1,6 +1,6 @@
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import {
   SHED_ENGINE_FRONT_OVERHANG_M,
   SHED_ENGINE_STOP_M,
@@ -8,9 +8,9 @@ import {
   SHED_POINTS_MAIN_AT_M,
   SHED_ROAD_APPROACH,
   SHED_ROAD_KMH,
-} from "../../shared/demo/kestrelShedRoad";
-import { checkRoutePlacement } from "../../shared/layout/routePlacement";
-import { validateLayoutFile } from "../../shared/rulebook/validate";
+} from "@shared/demo/kestrelShedRoad";
+import { checkRoutePlacement } from "@shared/layout/routePlacement";
+import { validateLayoutFile } from "@shared/rulebook/validate";
 
 const fixture = (name: string): unknown => JSON.parse(readFileSync(new URL(`../fixtures/${name}`, import.meta.url), "utf8"));
 

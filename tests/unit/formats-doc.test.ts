@@ -4,9 +4,9 @@
  */
 import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
-import { canonicalLayout } from "../../shared/layout/canonical";
-import { prove } from "../../shared/rulebook/prove";
-import { validateLayoutFile } from "../../shared/rulebook/validate";
+import { canonicalLayout } from "@shared/layout/canonical";
+import { prove } from "@shared/rulebook/prove";
+import { validateLayoutFile } from "@shared/rulebook/validate";
 
 function docExample(): unknown {
   const text = readFileSync(new URL("../../docs/formats.md", import.meta.url), "utf8");

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import { convergingOptionsSchema, facingOptionsSchema } from "../../shared/rulebook/templateCatalog";
+import { convergingOptionsSchema, facingOptionsSchema } from "@shared/rulebook/templateCatalog";
 import { fieldOfPath, initialValues, optionsOf } from "../../src/components/junction/roleForm";
 import { detectorsOn, guessRoute } from "../../src/lib/junctionRoles";
 

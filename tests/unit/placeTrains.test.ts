@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { replayCounterexample, type Move } from "../../shared/rulebook/prove";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { replayCounterexample, type Move } from "@shared/rulebook/prove";
 import { placeTrains } from "../../src/lib/simulation";
 
 const routes = kestrelBankLayout().rulebook.proving!.routes;

@@ -5,15 +5,15 @@
  * byte for byte from its words, and the table finds each state again under its first id.
  */
 import fc from "fast-check";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { describe, expect, it } from "vitest";
-import type { EngineFacts } from "../../shared/rulebook/proving/abstraction";
-import { forEachMove, LAZY_ARRIVAL, LAZY_LENGTH, moveCodes, packing, PLAIN, type Reduction } from "../../shared/rulebook/proving/environment";
-import { compileModel } from "../../shared/rulebook/proving/model";
-import { StateTable } from "../../shared/rulebook/proving/stateTable";
-import { TrainCodec } from "../../shared/rulebook/proving/trainCodec";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction } from "../../shared/rulebook/templates";
+import type { EngineFacts } from "@shared/rulebook/proving/abstraction";
+import { forEachMove, LAZY_ARRIVAL, LAZY_LENGTH, moveCodes, packing, PLAIN, type Reduction } from "@shared/rulebook/proving/environment";
+import { compileModel } from "@shared/rulebook/proving/model";
+import { StateTable } from "@shared/rulebook/proving/stateTable";
+import { TrainCodec } from "@shared/rulebook/proving/trainCodec";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction } from "@shared/rulebook/templates";
 
 const converging = convergingJunction({
   routes: [

@@ -5,10 +5,10 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import type { EngineFacts } from "../../shared/rulebook/proving/abstraction";
-import { forEachMove, moveCodes, MOVE_ARRIVAL, packing, SLOT_AXLES, SLOT_POS } from "../../shared/rulebook/proving/environment";
-import { compileModel } from "../../shared/rulebook/proving/model";
-import { rulebookSchema } from "../../shared/rulebook/schema";
+import type { EngineFacts } from "@shared/rulebook/proving/abstraction";
+import { forEachMove, moveCodes, MOVE_ARRIVAL, packing, SLOT_AXLES, SLOT_POS } from "@shared/rulebook/proving/environment";
+import { compileModel } from "@shared/rulebook/proving/model";
+import { rulebookSchema } from "@shared/rulebook/schema";
 
 const rulebook = rulebookSchema.parse({
   format: "blocklight.rulebook/1",

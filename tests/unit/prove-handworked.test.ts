@@ -35,8 +35,8 @@
  * S0 → S2, S2 → S3, S3 → S4, S4 → S6 and S4 → S0, S6 → S7 and S6 → S2, S7 → S4 and S7 → S3.
  */
 import { describe, expect, it } from "vitest";
-import { prove, replayCounterexample } from "../../shared/rulebook/prove";
-import { rulebookSchema } from "../../shared/rulebook/schema";
+import { prove, replayCounterexample } from "@shared/rulebook/prove";
+import { rulebookSchema } from "@shared/rulebook/schema";
 
 const rulebook = rulebookSchema.parse({
   format: "blocklight.rulebook/1",

@@ -5,11 +5,11 @@
  * Sound rulebooks (the templates) must be proved.
  */
 import { describe, expect, it } from "vitest";
-import { shownAspects } from "../../shared/rulebook/engine";
-import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "../../shared/rulebook/prove";
-import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "../../shared/rulebook/schema";
-import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
+import { shownAspects } from "@shared/rulebook/engine";
+import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId } from "@shared/rulebook/prove";
+import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "@shared/rulebook/schema";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
 const TWO_ROUTES = [

@@ -7,9 +7,9 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { prove, replayCounterexample, type ProofResult, type PropertyId } from "../../shared/rulebook/prove";
-import { rulebookSchema, type Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
+import { prove, replayCounterexample, type ProofResult, type PropertyId } from "@shared/rulebook/prove";
+import { rulebookSchema, type Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
 import { convergingRulebookArb, facingRulebookArb } from "../support/randomRulebooks";
 
 /** Rulebooks whose plain state space is bigger than this are left out (the plain search is slow). */

@@ -13,10 +13,10 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { toPromela, toPromelaBatch, SPIN_PROPERTIES, type PromelaOptions, type SpinProperty } from "../../shared/rulebook/promela";
-import { prove } from "../../shared/rulebook/prove";
-import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
+import { toPromela, toPromelaBatch, SPIN_PROPERTIES, type PromelaOptions, type SpinProperty } from "@shared/rulebook/promela";
+import { prove } from "@shared/rulebook/prove";
+import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
 import { unthrownPointsRulebook } from "../fixtures/unthrownPoints";
 import { convergingRulebookArb, COUNTERS, COUNT_CAP } from "../support/randomRulebooks";
 import { runSpin, spinAvailable, type SpinRun } from "../support/spin";

@@ -4,8 +4,8 @@
  */
 import { describe, expect, it } from "vitest";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import type { EngineInput } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import type { EngineInput } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { carryStartState, compareRuns, playbackDelayMs, runSession } from "../../src/lib/replay";
 import { startEntry } from "../../src/lib/simulation";
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { approachDistance, modelMpsFromKmh, modelMpsFromMph } from "../../shared/layout/placement";
-import { checkRoutePlacement, type RoutePlacementInput } from "../../shared/layout/routePlacement";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { approachDistance, modelMpsFromKmh, modelMpsFromMph } from "@shared/layout/placement";
+import { checkRoutePlacement, type RoutePlacementInput } from "@shared/layout/routePlacement";
 
 const layout = kestrelBankLayout();
 const routes = layout.rulebook.proving!.routes;

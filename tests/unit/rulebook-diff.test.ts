@@ -1,8 +1,8 @@
 import { describe, expect, it } from "vitest";
-import { KESTREL_MAX_AXLES } from "../../shared/demo/fernmoor";
+import { KESTREL_MAX_AXLES } from "@shared/demo/fernmoor";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "../../shared/rulebook/diff";
-import type { Rule, Rulebook } from "../../shared/rulebook/schema";
+import { countChanges, diffRulebooks, isEmptyDiff, type RulebookDiff } from "@shared/rulebook/diff";
+import type { Rule, Rulebook } from "@shared/rulebook/schema";
 
 /** A fresh two-route junction (the demo without its shed road) each time, so edits never leak between rows. */
 function kestrel(): Rulebook {

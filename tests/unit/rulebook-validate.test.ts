@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
-import { wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
+import { wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { kestrelTwoRoutesLayout } from "../fixtures/kestrelTwoRoutes";
-import { toJsonPath, validateLayoutFile, validateRulebookFile } from "../../shared/rulebook/validate";
+import { toJsonPath, validateLayoutFile, validateRulebookFile } from "@shared/rulebook/validate";
 
 /** A fresh, plain-JSON Kestrel Bank layout to break. */
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- tests poke at arbitrary JSON

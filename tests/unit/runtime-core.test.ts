@@ -8,8 +8,8 @@ import { apply, nextDue, type CoreInput } from "../../server/runtime/core/apply"
 import { covered, emptyTracker, expire, offer, type SeqDecision } from "../../server/runtime/core/sequencer";
 import { aspectCommands, createCore, type Core, type HeldMessage } from "../../server/runtime/core/state";
 import { ingestMessage } from "../../server/runtime/ingest";
-import { initialState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
+import { initialState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 
 const WAIT_MS = 10_000;
 const brief = (ds: SeqDecision<string>[]) =>

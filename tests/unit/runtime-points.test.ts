@@ -9,8 +9,8 @@ import { apply, nextDue, type CoreInput } from "../../server/runtime/core/apply"
 import { nextPointsDue, pointsCommands } from "../../server/runtime/core/points";
 import { aspectCommands, createCore, fullPatch, type Core, type Effect, type HeldMessage } from "../../server/runtime/core/state";
 import { ingestMessage, type NodeEntry } from "../../server/runtime/ingest";
-import { initialState } from "../../shared/rulebook/engine";
-import { rulebookSchema } from "../../shared/rulebook/schema";
+import { initialState } from "@shared/rulebook/engine";
+import { rulebookSchema } from "@shared/rulebook/schema";
 
 const DETECTION_MS = 3_000;
 const rulebook = rulebookSchema.parse({

@@ -3,9 +3,9 @@
  * on converging and facing routes, silent and stray detectors, and the median.
  */
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import { initialState, type EngineInput } from "../../shared/rulebook/engine";
-import { rulebookSchema, type ProvingRoute } from "../../shared/rulebook/schema";
+import { kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import { initialState, type EngineInput } from "@shared/rulebook/engine";
+import { rulebookSchema, type ProvingRoute } from "@shared/rulebook/schema";
 import { buildReport, median, type ReportInputs } from "../../server/features/sessions/report";
 import { TrainTracker } from "../../server/features/sessions/trainTracker";
 import { kestrelRoutes, wrenfoldRoutes } from "../fixtures/junctions";

@@ -1,9 +1,9 @@
 import { describe, expect, it } from "vitest";
-import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, WRENFOLD_MAX_AXLES, WRENFOLD_MAX_TRAINS, wrenfoldLoopLayout } from "../../shared/demo/fernmoor";
-import { initialState, shownAspects, step, type EngineState } from "../../shared/rulebook/engine";
-import type { Rulebook } from "../../shared/rulebook/schema";
-import { convergingJunction, facingJunction } from "../../shared/rulebook/templates";
-import { validateRulebookFile } from "../../shared/rulebook/validate";
+import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, WRENFOLD_MAX_AXLES, WRENFOLD_MAX_TRAINS, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
+import { initialState, shownAspects, step, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
+import { validateRulebookFile } from "@shared/rulebook/validate";
 import { kestrelRoutes, wrenfoldFacing } from "../fixtures/junctions";
 
 const converging = (order: "priority" | "first-come", maxAxles = 2) =>

@@ -1,6 +1,6 @@
 import { QueryClient } from "@tanstack/react-query";
 import { describe, expect, it } from "vitest";
-import type { LivePatch, LiveState, LiveStep, LiveUpdate } from "../../shared/contract/live";
+import type { LivePatch, LiveState, LiveStep, LiveUpdate } from "@shared/contract/live";
 import { liveKeys, TICKER_LENGTH, type TickerEntry } from "../../src/api/live";
 import { applyBatch, mergeAlarm } from "../../src/hooks/useLiveLayout";
 

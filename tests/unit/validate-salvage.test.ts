@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { kestrelBankLayout } from "../../shared/demo/fernmoor";
-import { validateLayoutFile, validateRulebookFile } from "../../shared/rulebook/validate";
+import { kestrelBankLayout } from "@shared/demo/fernmoor";
+import { validateLayoutFile, validateRulebookFile } from "@shared/rulebook/validate";
 
 /** A file with both shape and cross-reference mistakes lists them all in one answer. */
 describe("validation lists shape and cross-reference errors together", () => {

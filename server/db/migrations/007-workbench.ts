@@ -10,7 +10,7 @@
  */
 import type { MigrationFn } from "umzug";
 import { QueryTypes, type Sequelize } from "sequelize";
-import { canonicalRulebook } from "../../../shared/rulebook/canonical";
+import { canonicalRulebook } from "@shared/rulebook/canonical";
 
 export const up: MigrationFn<Sequelize> = async ({ context: sequelize }) => {
   await sequelize.query(`

@@ -5,7 +5,7 @@
  * are the watchers' business. Checked every `everyMs`; the decision is {@link missingBoards}.
  */
 import { QueryTypes } from "sequelize";
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
 import type { AppDeps } from "../../deps";
 import { raiseAlarm } from "./service";
 import { alarmSettingsOf } from "./settings";

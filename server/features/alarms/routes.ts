@@ -4,7 +4,7 @@ import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { findLayout, refuseIfArchived } from "../../data/layouts";
-import { alarmSettingsPatchSchema } from "../../../shared/contract/alarmSettings";
+import { alarmSettingsPatchSchema } from "@shared/contract/alarmSettings";
 import { acknowledgeAlarm, listAlarms } from "./service";
 import { describeAlarmSettings, updateAlarmSettings } from "./settings";
 

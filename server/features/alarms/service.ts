@@ -5,7 +5,7 @@
  * while it is open adds to its `occurrences`, moves `last_seen_at` and keeps the latest message.
  */
 import { QueryTypes } from "sequelize";
-import type { AlarmDto, AlarmKind } from "../../../shared/contract/live";
+import type { AlarmDto, AlarmKind } from "@shared/contract/live";
 import type { AppDeps } from "../../deps";
 import type { AlarmPort, RaiseAlarm } from "../../runtime/ports";
 import { notFound } from "../../http/errors";

@@ -4,7 +4,7 @@
  * bus (`alarm-settings.changed`), which server/index.ts forwards to the running watchers, so
  * it takes effect at once.
  */
-import { ALARM_SETTING_FIELDS, type AlarmSettingKey, type AlarmSettings, type AlarmSettingsPatch, type AlarmSettingsResponse } from "../../../shared/contract/alarmSettings";
+import { ALARM_SETTING_FIELDS, type AlarmSettingKey, type AlarmSettings, type AlarmSettingsPatch, type AlarmSettingsResponse } from "@shared/contract/alarmSettings";
 import type { AppDeps } from "../../deps";
 import { DEFAULT_WATCHER_SETTINGS, type WatcherSettings } from "./watcherSettings";
 

@@ -6,7 +6,7 @@
  * next "nothing happened for N" deadline is due. Stoppable; one per process.
  */
 import { QueryTypes } from "sequelize";
-import type { LivePatch, LiveStep, LiveUpdate } from "../../../shared/contract/live";
+import type { LivePatch, LiveStep, LiveUpdate } from "@shared/contract/live";
 import { systemClock, type Cancel, type Clock } from "../../clock";
 import type { AppDeps } from "../../deps";
 import { findLayout, liveRulebookVersion } from "../../data/layouts";

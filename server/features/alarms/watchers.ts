@@ -37,7 +37,7 @@
  * `repeat` (the writer adds it to the alarm's count and "last seen"): every chattering pulse
  * and every mismatched train; a silent detector when the count of trains it missed grows.
  */
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
 import { DEFAULT_WATCHER_SETTINGS, type WatcherSettings } from "./watcherSettings";
 
 export interface WatchRoute {

@@ -3,7 +3,7 @@
  * layout actions, with no layout: admins read them on the members page.
  */
 import { QueryTypes, type Transaction } from "sequelize";
-import type { AccountAuditResponse } from "../../../shared/contract/accounts";
+import type { AccountAuditResponse } from "@shared/contract/accounts";
 import type { AppDeps } from "../../deps";
 
 const ACCOUNT_AUDIT_LIMIT = 200;

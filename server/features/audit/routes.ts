@@ -1,6 +1,6 @@
 import { Router } from "express";
 import { QueryTypes } from "sequelize";
-import type { AuditResponse } from "../../../shared/contract/controlRoom";
+import type { AuditResponse } from "@shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { requirePermission, requireSignedIn } from "../auth/middleware";
 import { listAccountAudit } from "./accounts";

@@ -3,8 +3,8 @@
  * choices that need none. Every change made with the password ends the account's other
  * sessions (CONTRACT.md §6), so it doubles as "sign out my other browsers".
  */
-import type { PreferencesBody, UpdateMeBody } from "../../../shared/contract/accounts";
-import type { UserDto } from "../../../shared/contract/rest";
+import type { PreferencesBody, UpdateMeBody } from "@shared/contract/accounts";
+import type { UserDto } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { auditAccount } from "../audit/accounts";

@@ -5,8 +5,8 @@
  * takes effect at once.
  */
 import type { RequestHandler } from "express";
-import { allowedRoles, type Action } from "../../../shared/contract/permissions";
-import { ROLES, type Role, type UserDto } from "../../../shared/contract/rest";
+import { allowedRoles, type Action } from "@shared/contract/permissions";
+import { ROLES, type Role, type UserDto } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { HttpError } from "../../http/errors";
 import { SESSION_COOKIE, resolveSession, toUserDto } from "./service";

@@ -1,6 +1,6 @@
 import { Router, type Request } from "express";
-import { preferencesBodySchema, resetPasswordBodySchema, resetRequestBodySchema, updateMeBodySchema } from "../../../shared/contract/accounts";
-import { loginBodySchema, type MeResponse } from "../../../shared/contract/rest";
+import { preferencesBodySchema, resetPasswordBodySchema, resetRequestBodySchema, updateMeBodySchema } from "@shared/contract/accounts";
+import { loginBodySchema, type MeResponse } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { attemptLimiter } from "../../http/attemptLimiter";
 import { HttpError, parseWith } from "../../http/errors";

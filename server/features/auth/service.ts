@@ -8,7 +8,7 @@ import { createHash, randomBytes } from "node:crypto";
 import type { Response } from "express";
 import jwt from "jsonwebtoken";
 import { Op, type Transaction } from "sequelize";
-import type { UserDto } from "../../../shared/contract/rest";
+import type { UserDto } from "@shared/contract/rest";
 import type { User } from "../../db/models";
 import { nowMs, type AppDeps } from "../../deps";
 import { hashSecretSync } from "./passwordHash";

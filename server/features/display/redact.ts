@@ -3,7 +3,7 @@
  * carry who acknowledged them and their comments, and command changes carry the signaller's
  * reason (free text); a display shows neither, so neither is sent to it.
  */
-import type { ChangeDto, LiveState, LiveUpdate } from "../../../shared/contract/live";
+import type { ChangeDto, LiveState, LiveUpdate } from "@shared/contract/live";
 
 const redactChange = (change: ChangeDto): ChangeDto => {
   if (change.command === undefined && change.kind !== "alarm") return change;

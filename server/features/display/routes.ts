@@ -1,5 +1,5 @@
 import { Router } from "express";
-import type { DisplayResponse } from "../../../shared/contract/controlRoom";
+import type { DisplayResponse } from "@shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { allowAnyone } from "../auth/middleware";
 import { HttpError } from "../../http/errors";

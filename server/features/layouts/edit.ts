@@ -6,12 +6,12 @@
  * first), when the records are wrong in themselves, or when the live rulebook would no longer
  * validate against them — the rulebook running on the boards must always match the records.
  */
-import type { ArchiveResponse, CreateLayoutBody } from "../../../shared/contract/layoutEdit";
-import { capErrors } from "../../../shared/contract/errorCap";
-import { LAYOUT_EDIT_ERRORS } from "../../../shared/contract/layoutEdit";
-import type { LayoutDetail } from "../../../shared/contract/rest";
-import { liveRulebookErrors } from "../../../shared/layout/liveCheck";
-import { validateLayoutRecords, type ValidationError } from "../../../shared/rulebook/validate";
+import type { ArchiveResponse, CreateLayoutBody } from "@shared/contract/layoutEdit";
+import { capErrors } from "@shared/contract/errorCap";
+import { LAYOUT_EDIT_ERRORS } from "@shared/contract/layoutEdit";
+import type { LayoutDetail } from "@shared/contract/rest";
+import { liveRulebookErrors } from "@shared/layout/liveCheck";
+import { validateLayoutRecords, type ValidationError } from "@shared/rulebook/validate";
 import type { Layout } from "../../db/models";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict } from "../../http/errors";

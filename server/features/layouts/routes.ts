@@ -1,6 +1,6 @@
 import { Router } from "express";
-import { createLayoutBodySchema } from "../../../shared/contract/layoutEdit";
-import { createNodeBodySchema, type LayoutResponse, type LayoutsResponse } from "../../../shared/contract/rest";
+import { createLayoutBodySchema } from "@shared/contract/layoutEdit";
+import { createNodeBodySchema, type LayoutResponse, type LayoutsResponse } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";

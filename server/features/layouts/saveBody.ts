@@ -5,9 +5,9 @@
  * shape and dropped, a missing `format` is the current one and `schematic: null` is no drawing.
  * Keys stay at the root, so the validator's paths are paths into the body as sent.
  */
-import { layoutReadOnlyEchoSchema, LAYOUT_READ_ONLY_FIELDS } from "../../../shared/contract/layoutEdit";
-import { LAYOUT_FORMAT } from "../../../shared/layout/schema";
-import type { ValidationError } from "../../../shared/rulebook/validate";
+import { layoutReadOnlyEchoSchema, LAYOUT_READ_ONLY_FIELDS } from "@shared/contract/layoutEdit";
+import { LAYOUT_FORMAT } from "@shared/layout/schema";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { zodDetails } from "../../http/errors";
 
 export type RevisionCheck = { ok: true; value: number } | { ok: false; error: ValidationError };

@@ -6,12 +6,12 @@
 import { randomBytes } from "node:crypto";
 import { QueryTypes } from "sequelize";
 import type { z } from "zod";
-import type { createNodeBodySchema, LayoutSummary } from "../../../shared/contract/rest";
-import { capErrors } from "../../../shared/contract/errorCap";
-import { canonicalLayout } from "../../../shared/layout/canonical";
-import type { LayoutFile } from "../../../shared/layout/schema";
-import { canonicalRulebook } from "../../../shared/rulebook/canonical";
-import { validateLayoutFile } from "../../../shared/rulebook/validate";
+import type { createNodeBodySchema, LayoutSummary } from "@shared/contract/rest";
+import { capErrors } from "@shared/contract/errorCap";
+import { canonicalLayout } from "@shared/layout/canonical";
+import type { LayoutFile } from "@shared/layout/schema";
+import { canonicalRulebook } from "@shared/rulebook/canonical";
+import { validateLayoutFile } from "@shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, conflict } from "../../http/errors";
 import { hashNodeSecret } from "../../nodeSecret";

@@ -5,7 +5,7 @@
 import { recordSessionControl } from "../sessions/service";
 import { Router, type RequestHandler } from "express";
 import { z } from "zod";
-import { commandBodySchema } from "../../../shared/contract/live";
+import { commandBodySchema } from "@shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { LiveError } from "../../runtime/ports";

@@ -6,7 +6,7 @@
  */
 import type http from "node:http";
 import { Server, type Socket } from "socket.io";
-import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "../../../shared/contract/live";
+import type { AlarmDto, ClientToServerEvents, LiveUpdate, ServerToClientEvents } from "@shared/contract/live";
 import { Op } from "sequelize";
 import { nowMs, type AppDeps } from "../../deps";
 import type { BusEvents } from "../../bus";

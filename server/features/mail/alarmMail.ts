@@ -3,7 +3,7 @@
  * an admin) when an alarm is raised.
  */
 import { QueryTypes } from "sequelize";
-import type { AlarmDto } from "../../../shared/contract/live";
+import type { AlarmDto } from "@shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { mailSignature } from "../setup/society";
 import { appBaseUrl, mailerOf } from "./service";

@@ -1,6 +1,6 @@
 import { Router } from "express";
 import { QueryTypes } from "sequelize";
-import type { OutboxResponse } from "../../../shared/contract/controlRoom";
+import type { OutboxResponse } from "@shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { requirePermission } from "../auth/middleware";
 

@@ -1,7 +1,7 @@
 import { Router } from "express";
 import { z } from "zod";
-import { updateMemberBodySchema } from "../../../shared/contract/accounts";
-import { acceptInvitationBodySchema, invitationBodySchema } from "../../../shared/contract/controlRoom";
+import { updateMemberBodySchema } from "@shared/contract/accounts";
+import { acceptInvitationBodySchema, invitationBodySchema } from "@shared/contract/controlRoom";
 import type { AppDeps } from "../../deps";
 import { attemptLimiter } from "../../http/attemptLimiter";
 import { parseWith } from "../../http/errors";

@@ -6,8 +6,8 @@
  */
 import { randomBytes } from "node:crypto";
 import type { Transaction } from "sequelize";
-import type { UpdateMemberBody } from "../../../shared/contract/accounts";
-import type { AcceptInvitationBody, InvitationBody, InvitationPreview, MemberDto, MembersResponse } from "../../../shared/contract/controlRoom";
+import type { UpdateMemberBody } from "@shared/contract/accounts";
+import type { AcceptInvitationBody, InvitationBody, InvitationPreview, MemberDto, MembersResponse } from "@shared/contract/controlRoom";
 import type { Invitation, User } from "../../db/models";
 import { nowMs, type AppDeps } from "../../deps";
 import { conflict, HttpError, notFound } from "../../http/errors";

@@ -1,4 +1,4 @@
-import type { Role } from "../../../shared/contract/rest";
+import type { Role } from "@shared/contract/rest";
 
 /** Roles as a sentence says them ("invited as a signaller"). */
 export const ROLE_WORDS: Record<Role, string> = {

@@ -9,8 +9,8 @@ import os from "node:os";
 import path from "node:path";
 import { pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
-import { DEFAULT_MAX_STATES, type ProofResult } from "../../../shared/rulebook/prove";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import { DEFAULT_MAX_STATES, type ProofResult } from "@shared/rulebook/prove";
+import type { Rulebook } from "@shared/rulebook/schema";
 import type { ProofProgress, ProofWorkerInput, ProofWorkerMessage } from "./worker";
 
 /** Bounds of one proof: past either, the verdict is "unfinished". */

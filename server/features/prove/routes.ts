@@ -5,9 +5,9 @@
  */
 import { Router } from "express";
 import { z } from "zod";
-import type { ProofJobResponse, ProofJobsResponse, ProofResultDto, StartProofResponse } from "../../../shared/contract/rest";
-import { pointsWorking } from "../../../shared/layout/schema";
-import { validateLayoutFile } from "../../../shared/rulebook/validate";
+import type { ProofJobResponse, ProofJobsResponse, ProofResultDto, StartProofResponse } from "@shared/contract/rest";
+import { pointsWorking } from "@shared/layout/schema";
+import { validateLayoutFile } from "@shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";

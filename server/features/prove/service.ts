@@ -16,14 +16,14 @@ import type {
   RulebookStatus,
   StoredProofDto,
   UserDto,
-} from "../../../shared/contract/rest";
-import { PROPERTY_IDS, type ProofResult } from "../../../shared/rulebook/prove";
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
-import type { Rulebook } from "../../../shared/rulebook/schema";
-import type { PointsWorking } from "../../../shared/layout/schema";
+} from "@shared/contract/rest";
+import { PROPERTY_IDS, type ProofResult } from "@shared/rulebook/prove";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
+import type { Rulebook } from "@shared/rulebook/schema";
+import type { PointsWorking } from "@shared/layout/schema";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
-import { unfinishedReason } from "../../../shared/rulebook/proofAdvice";
+import { unfinishedReason } from "@shared/rulebook/proofAdvice";
 import { raiseAlarm } from "../alarms/service";
 import { findLayout, refuseIfArchived } from "../../data/layouts";
 import { PROOF_MAX_MS, PROOF_MAX_STATES, PoolFull, ProofCancelled, ProofPool, type ProofRun } from "./pool";

@@ -3,7 +3,7 @@
  * `proof:watch {jobId}`, joins the room `proof:<jobId>` and gets the job as it stands;
  * `proof:progress` and `proof:done` follow in that room.
  */
-import type { ProofJobDto, ProofProgressDto } from "../../../shared/contract/rest";
+import type { ProofJobDto, ProofProgressDto } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import type { LiveIo } from "../live/socket";
 import { proofJobs } from "./service";

@@ -6,9 +6,9 @@
  */
 import { parentPort, workerData } from "node:worker_threads";
 import { performance } from "node:perf_hooks";
-import { prove, type ProofResult } from "../../../shared/rulebook/prove";
-import type { Rulebook } from "../../../shared/rulebook/schema";
-import type { ProofProgressDto } from "../../../shared/contract/rest";
+import { prove, type ProofResult } from "@shared/rulebook/prove";
+import type { Rulebook } from "@shared/rulebook/schema";
+import type { ProofProgressDto } from "@shared/contract/rest";
 
 export interface ProofWorkerInput {
   rulebook: Rulebook;

@@ -1,7 +1,7 @@
 import { Router } from "express";
 import { z } from "zod";
-import { publishBodySchema } from "../../../shared/contract/layoutEdit";
-import { saveDraftBodySchema } from "../../../shared/contract/rest";
+import { publishBodySchema } from "@shared/contract/layoutEdit";
+import { saveDraftBodySchema } from "@shared/contract/rest";
 import type { AppDeps } from "../../deps";
 import { parseWith } from "../../http/errors";
 import { requirePermission, requireSignedIn } from "../auth/middleware";

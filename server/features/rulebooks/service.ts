@@ -7,10 +7,10 @@
  * is published only on purpose (`withoutProof` with a reason, audited): Blocklight is an
  * operating aid, not a certified interlocking, and a proof covers only its modelled trains.
  */
-import type { PublishBody } from "../../../shared/contract/layoutEdit";
-import type { RulebookVersionDetail, StoredProofDto } from "../../../shared/contract/rest";
-import { canonicalRulebook } from "../../../shared/rulebook/canonical";
-import { rulebookContextOf, validateRulebookFile } from "../../../shared/rulebook/validate";
+import type { PublishBody } from "@shared/contract/layoutEdit";
+import type { RulebookVersionDetail, StoredProofDto } from "@shared/contract/rest";
+import { canonicalRulebook } from "@shared/rulebook/canonical";
+import { rulebookContextOf, validateRulebookFile } from "@shared/rulebook/validate";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound } from "../../http/errors";
 import { findLayout, layoutRecords, listVersions, refuseIfArchived } from "../../data/layouts";

@@ -6,8 +6,8 @@
  * rebuilds the engine input from those columns, and still reads the earlier export, whose
  * `input` and `changes` cells held JSON.
  */
-import type { ChangeDto } from "../../../shared/contract/live";
-import type { SessionEventDto } from "../../../shared/contract/sessions";
+import type { ChangeDto } from "@shared/contract/live";
+import type { SessionEventDto } from "@shared/contract/sessions";
 import { guardFormula, unguardFormula } from "./csvFormula";
 
 /** The export's columns, in order. */

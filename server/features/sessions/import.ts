@@ -8,8 +8,8 @@
  */
 import { QueryTypes } from "sequelize";
 import { z } from "zod";
-import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
-import type { EngineInput } from "../../../shared/rulebook/engine";
+import { EVENT_KINDS, EVENT_STATUSES } from "@shared/contract/live";
+import type { EngineInput } from "@shared/rulebook/engine";
 import type { AppDeps } from "../../deps";
 import { jsonBodyProblems } from "../../http/bodyGuard";
 import { badRequest, HttpError } from "../../http/errors";

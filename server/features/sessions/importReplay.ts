@@ -7,8 +7,8 @@
  * before this existed is replayed once, the first time its log is read.
  */
 import { QueryTypes, type Transaction } from "sequelize";
-import { initialState, step, type Change, type EngineInput, type EngineState } from "../../../shared/rulebook/engine";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import { initialState, step, type Change, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import type { AppDeps } from "../../deps";
 
 /** Engine steps between yields: the live runner shares this process (as the import's parsing). */

@@ -15,9 +15,9 @@
  * - a board is **offline** from a status `online:false` (or the session's start, when its
  *   last status before the session was offline or it had none) until `online:true`.
  */
-import type { EngineInput, EngineState } from "../../../shared/rulebook/engine";
-import { shownAspects, step } from "../../../shared/rulebook/engine";
-import type { Rulebook, ShownAspect } from "../../../shared/rulebook/schema";
+import type { EngineInput, EngineState } from "@shared/rulebook/engine";
+import { shownAspects, step } from "@shared/rulebook/engine";
+import type { Rulebook, ShownAspect } from "@shared/rulebook/schema";
 import type {
   DetectorReportDto,
   NodeReportDto,
@@ -27,7 +27,7 @@ import type {
   SessionReportDto,
   SignalTimelineDto,
   TrainReportDto,
-} from "../../../shared/contract/report";
+} from "@shared/contract/report";
 import { AXLE_GAP_MS, TrainTracker, type TrackedTrain } from "./trainTracker";
 
 export interface ReportInputs {

@@ -2,7 +2,7 @@
  * The running-day report as CSV, one table at a time (`?format=csv&table=…`): every cell a
  * plain value, so a spreadsheet opens it as it is.
  */
-import type { SessionReportDto } from "../../../shared/contract/report";
+import type { SessionReportDto } from "@shared/contract/report";
 import { guardFormula } from "./csvFormula";
 
 export const REPORT_TABLES = ["routes", "trains", "checks", "detectors", "nodes", "alarms"] as const;

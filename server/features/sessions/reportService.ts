@@ -4,8 +4,8 @@
  * detectors, signals and boards, board status messages, pulses not applied, and alarms.
  */
 import { QueryTypes } from "sequelize";
-import type { AlarmKind } from "../../../shared/contract/live";
-import type { ReportAlarmDto, SessionReportDto } from "../../../shared/contract/report";
+import type { AlarmKind } from "@shared/contract/live";
+import type { ReportAlarmDto, SessionReportDto } from "@shared/contract/report";
 import type { AppDeps } from "../../deps";
 import { notFound } from "../../http/errors";
 import { buildReport } from "./report";

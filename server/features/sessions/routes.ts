@@ -2,7 +2,7 @@ import { once } from "node:events";
 import { Router, type RequestHandler } from "express";
 import multer from "multer";
 import { z } from "zod";
-import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
+import { EVENT_KINDS, EVENT_STATUSES } from "@shared/contract/live";
 import type { AppDeps } from "../../deps";
 import { eventIdText } from "../../http/bounds";
 import { badRequest, HttpError, parseWith } from "../../http/errors";

@@ -3,10 +3,10 @@
  * day of hundreds of thousands of pulses streams out in constant memory.
  */
 import { QueryTypes } from "sequelize";
-import type { ChangeDto, LiveEventDto } from "../../../shared/contract/live";
-import type { SessionEventDto, SessionEventFilter, SessionEventPage, SessionInputsResponse, SessionSummaryDto } from "../../../shared/contract/sessions";
-import { initialState, step, type EngineInput, type EngineState } from "../../../shared/rulebook/engine";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { ChangeDto, LiveEventDto } from "@shared/contract/live";
+import type { SessionEventDto, SessionEventFilter, SessionEventPage, SessionInputsResponse, SessionSummaryDto } from "@shared/contract/sessions";
+import { initialState, step, type EngineInput, type EngineState } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import type { AppDeps } from "../../deps";
 import { notFound } from "../../http/errors";
 import { acceptedInputRows, acceptedInputs, latestSnapshot, NO_ID_LIMIT, sequelizeQuery } from "../../runtime/eventLog";

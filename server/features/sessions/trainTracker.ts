@@ -17,7 +17,7 @@
  * have crossed the last exit detector as crossed its first approach detector — or, when some
  * are missing, until `staleMs` after its last pulse there.
  */
-import type { ProvingRoute } from "../../../shared/rulebook/schema";
+import type { ProvingRoute } from "@shared/rulebook/schema";
 
 /** Longest gap between two axles of one train at its first approach detector. */
 export const AXLE_GAP_MS = 4_000;

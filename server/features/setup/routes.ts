@@ -1,5 +1,5 @@
 import { Router } from "express";
-import { setupBodySchema, societyBodySchema, type SetupStatus, type SocietyResponse } from "../../../shared/contract/accounts";
+import { setupBodySchema, societyBodySchema, type SetupStatus, type SocietyResponse } from "@shared/contract/accounts";
 import type { AppDeps } from "../../deps";
 import { attemptLimiter } from "../../http/attemptLimiter";
 import { parseWith } from "../../http/errors";

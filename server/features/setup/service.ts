@@ -3,7 +3,7 @@
  * token names the society and becomes its first admin, once.
  */
 import { QueryTypes } from "sequelize";
-import type { SetupBody } from "../../../shared/contract/accounts";
+import type { SetupBody } from "@shared/contract/accounts";
 import type { AppConfig } from "../../config";
 import type { AppDeps } from "../../deps";
 import { conflict, HttpError } from "../../http/errors";

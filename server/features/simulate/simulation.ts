@@ -9,9 +9,9 @@
  * - output: inputs × state size at most MAX_OUTPUT_CELLS (each step carries the whole state) → 413.
  */
 import { z } from "zod";
-import { idSchema, nameSchema } from "../../../shared/rulebook/schema";
-import { validateLayoutFile } from "../../../shared/rulebook/validate";
-import { initialState, shownAspects, step, type EngineInput } from "../../../shared/rulebook/engine";
+import { idSchema, nameSchema } from "@shared/rulebook/schema";
+import { validateLayoutFile } from "@shared/rulebook/validate";
+import { initialState, shownAspects, step, type EngineInput } from "@shared/rulebook/engine";
 import { bodyRefusal, jsonBodyProblems } from "../../http/bodyGuard";
 import { zodDetails } from "../../http/errors";
 

@@ -4,8 +4,8 @@
  * saves the result as a draft through `POST /api/layouts/:slug/rulebooks`.
  */
 import { Router } from "express";
-import { generateTemplateBodySchema, type GeneratedRulebookResponse, type TemplatesResponse } from "../../../shared/contract/layoutEdit";
-import { JUNCTION_TEMPLATES, findTemplate, generateFromTemplate, templateOptionsJsonSchema } from "../../../shared/rulebook/templateCatalog";
+import { generateTemplateBodySchema, type GeneratedRulebookResponse, type TemplatesResponse } from "@shared/contract/layoutEdit";
+import { JUNCTION_TEMPLATES, findTemplate, generateFromTemplate, templateOptionsJsonSchema } from "@shared/rulebook/templateCatalog";
 import type { AppDeps } from "../../deps";
 import { HttpError, notFound, parseWith } from "../../http/errors";
 import { requirePermission } from "../auth/middleware";

@@ -3,10 +3,10 @@
  * step (STYLE.md: effects returned as data, run by the shell after the commit). The core is
  * handed over and handed back: the caller uses the returned one and drops the old.
  */
-import type { CommandBody } from "../../../shared/contract/live";
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
-import { initialState, signalIds, type EngineInput } from "../../../shared/rulebook/engine";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { CommandBody } from "@shared/contract/live";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
+import { initialState, signalIds, type EngineInput } from "@shared/rulebook/engine";
+import type { Rulebook } from "@shared/rulebook/schema";
 import type { Batch } from "../eventLog";
 import { applyDecisions, applyMessage } from "./messages";
 import { expirePointsChecks, nextPointsDue } from "./points";

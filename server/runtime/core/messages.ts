@@ -3,9 +3,9 @@
  * pulses and points reports (numbered per boot) go through the sequencer and are stored —
  * applied, duplicate, late or rejected — strictly in seq order (CONTRACT.md §2).
  */
-import { MAX_SEQ_AHEAD, type NodeLiveDto } from "../../../shared/contract/live";
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
-import type { EngineInput } from "../../../shared/rulebook/engine";
+import { MAX_SEQ_AHEAD, type NodeLiveDto } from "@shared/contract/live";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
+import type { EngineInput } from "@shared/rulebook/engine";
 import type { PendingEvent } from "../eventLog";
 import { covered, offer, tooFarAhead, type SeqDecision } from "./sequencer";
 import { ensureSession, newEvent, record, runEngine } from "./record";

@@ -6,9 +6,9 @@
  * The rulebook itself decides what to do meanwhile (its `points` conditions see `moving` or the
  * old position, so a sound rulebook keeps the route's signal at danger).
  */
-import type { Change } from "../../../shared/rulebook/engine";
-import { ALARM_KIND } from "../../../shared/contract/alarmKinds";
-import type { PointsPosition } from "../../../shared/rulebook/schema";
+import type { Change } from "@shared/rulebook/engine";
+import { ALARM_KIND } from "@shared/contract/alarmKinds";
+import type { PointsPosition } from "@shared/rulebook/schema";
 import { iso, type Core, type Step } from "./state";
 
 /** How long power points may take from the throw to being reported where thrown. */

@@ -2,10 +2,10 @@
  * Building blocks of the core's steps: new event rows, the session clock, and one engine
  * input run with its changes, alarms and fail-safe (pure; see state.ts).
  */
-import { ALARM_KIND, type AlarmKind } from "../../../shared/contract/alarmKinds";
-import type { LiveUpdate } from "../../../shared/contract/live";
-import { ENGINE_ALARM, type EngineAlarmCode } from "../../../shared/rulebook/engineAlarms";
-import { step as engineStep, type Change, type EngineInput } from "../../../shared/rulebook/engine";
+import { ALARM_KIND, type AlarmKind } from "@shared/contract/alarmKinds";
+import type { LiveUpdate } from "@shared/contract/live";
+import { ENGINE_ALARM, type EngineAlarmCode } from "@shared/rulebook/engineAlarms";
+import { step as engineStep, type Change, type EngineInput } from "@shared/rulebook/engine";
 import type { PendingEvent } from "../eventLog";
 import { notePointsChanges } from "./points";
 import { iso, patchFor, sessionDto, type Core, type Step } from "./state";

@@ -3,10 +3,10 @@
  * board, session clock, what each board was last told, faults) and the views of it that the
  * shell pushes and serves. No I/O and no clock here: time comes in as `at`.
  */
-import type { AlarmKind, LampReportDto, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "../../../shared/contract/live";
-import { shownAspects, type Change, type EngineFault, type EngineState } from "../../../shared/rulebook/engine";
-import { unreachable } from "../../../shared/rulebook/kinds";
-import type { Aspect, PointsPosition, Rulebook } from "../../../shared/rulebook/schema";
+import type { AlarmKind, LampReportDto, LiveState, LiveUpdate, NodeLiveDto, SessionDto } from "@shared/contract/live";
+import { shownAspects, type Change, type EngineFault, type EngineState } from "@shared/rulebook/engine";
+import { unreachable } from "@shared/rulebook/kinds";
+import type { Aspect, PointsPosition, Rulebook } from "@shared/rulebook/schema";
 import type { PendingAudit, PendingEvent, PendingSnapshot, SessionRef } from "../eventLog";
 import type { IngestResult, NodeEntry } from "../ingest";
 import { emptyTracker, type SeqTracker } from "./sequencer";

@@ -4,8 +4,8 @@
  * statements (STACK.md: unnest inserts ≈170k rows/s against ≈1k for one row at a time).
  */
 import type pg from "pg";
-import type { Change } from "../../../shared/rulebook/engine";
-import type { EventKind, EventStatus } from "../../../shared/contract/live";
+import type { Change } from "@shared/rulebook/engine";
+import type { EventKind, EventStatus } from "@shared/contract/live";
 
 /** A session this batch opens gets a temporary key until the commit gives it an id. */
 export type SessionRef = { id: number } | { temp: number };

@@ -6,7 +6,7 @@
  */
 import type pg from "pg";
 import { QueryTypes, type Sequelize } from "sequelize";
-import type { EngineInput, EngineState } from "../../../shared/rulebook/engine";
+import type { EngineInput, EngineState } from "@shared/rulebook/engine";
 
 /** `$1`-style parameters; rows as objects. */
 export type Query = <T extends object>(sql: string, params?: unknown[]) => Promise<T[]>;

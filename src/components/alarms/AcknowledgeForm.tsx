@@ -1,5 +1,5 @@
 import { useId, useState } from "react";
-import type { AlarmDto } from "../../../shared/contract/live";
+import type { AlarmDto } from "@shared/contract/live";
 import { useAcknowledgeAlarm } from "../../api/alarms";
 import { Button } from "../ui/Button";
 

@@ -1,6 +1,6 @@
 import { Link } from "react-router-dom";
-import { ALARM_KIND, type AlarmKind } from "../../../shared/contract/alarmKinds";
-import type { AlarmDto } from "../../../shared/contract/live";
+import { ALARM_KIND, type AlarmKind } from "@shared/contract/alarmKinds";
+import type { AlarmDto } from "@shared/contract/live";
 import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { Panel } from "../ui/Panel";
 import { AcknowledgeForm } from "./AcknowledgeForm";

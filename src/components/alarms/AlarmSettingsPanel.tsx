@@ -1,5 +1,5 @@
 import { useState } from "react";
-import { ALARM_SETTING_FIELDS, type AlarmSettingKey, type AlarmSettingsPatch } from "../../../shared/contract/alarmSettings";
+import { ALARM_SETTING_FIELDS, type AlarmSettingKey, type AlarmSettingsPatch } from "@shared/contract/alarmSettings";
 import { ApiError } from "../../api/http";
 import { useAlarmSettings, useAlarmSettingsMutation } from "../../api/alarms";
 import { useCurrentUser } from "../../hooks/useCurrentUser";

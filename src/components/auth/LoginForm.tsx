@@ -1,5 +1,5 @@
 import { useForm } from "react-hook-form";
-import type { LoginBody } from "../../../shared/contract/rest";
+import type { LoginBody } from "@shared/contract/rest";
 
 interface LoginFormProps {
   onSubmit: (values: LoginBody) => Promise<unknown> | void;

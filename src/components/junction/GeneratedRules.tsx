@@ -1,5 +1,5 @@
-import { describeRule } from "../../../shared/rulebook/describe";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import { describeRule } from "@shared/rulebook/describe";
+import type { Rulebook } from "@shared/rulebook/schema";
 
 /** The generated rulebook read out: every rule as a sentence, then what the proof will check. */
 export function GeneratedRules({ rulebook }: { rulebook: Rulebook }) {

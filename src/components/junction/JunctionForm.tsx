@@ -1,5 +1,5 @@
 import { useFieldArray, type FieldErrors, type UseFormReturn } from "react-hook-form";
-import type { LayoutLine } from "../../../shared/layout/schema";
+import type { LayoutLine } from "@shared/layout/schema";
 import { detectorsOn, signalsOn, type RoleRecords } from "../../lib/junctionRoles";
 import { FormField, INPUT } from "../records/FormField";
 import { Button } from "../ui/Button";

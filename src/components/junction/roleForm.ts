@@ -3,8 +3,8 @@
  * carry each route's line so the selects can offer only detectors and signals of that line;
  * the options are what `POST /api/templates/:id` takes (checked by the shared schemas).
  */
-import type { ValidationError } from "../../../shared/rulebook/validate";
-import { toJsonPath } from "../../../shared/rulebook/validate";
+import type { ValidationError } from "@shared/rulebook/validate";
+import { toJsonPath } from "@shared/rulebook/validate";
 import { guessExit, guessRoad, guessRoute, type RoleRecords } from "../../lib/junctionRoles";
 
 export type JunctionKind = "converging-priority" | "converging-first-come" | "facing-power" | "facing-hand";

@@ -2,7 +2,7 @@ import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { useNavigate } from "react-router-dom";
 import { z } from "zod";
-import { layoutFileSchema, slugSchema } from "../../../shared/layout/schema";
+import { layoutFileSchema, slugSchema } from "@shared/layout/schema";
 import { ApiError } from "../../api/http";
 import { useCreateLayoutMutation } from "../../api/layouts";
 import { COMMON_SCALES, CUSTOM_SCALE } from "../../lib/scales";

@@ -1,6 +1,6 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
-import type { CreateNodeBody, LayoutDetail, NodeDto } from "../../../shared/contract/rest";
+import type { CreateNodeBody, LayoutDetail, NodeDto } from "@shared/contract/rest";
 import { ApiError, toFieldErrors } from "../../api/http";
 import { useRegisterNodeMutation } from "../../api/layouts";
 import { Button } from "../ui/Button";

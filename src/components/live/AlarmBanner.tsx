@@ -1,5 +1,5 @@
 import { Link } from "react-router-dom";
-import type { AlarmDto, LiveState } from "../../../shared/contract/live";
+import type { AlarmDto, LiveState } from "@shared/contract/live";
 import { paths } from "../../lib/paths";
 
 export const isOpen = (a: AlarmDto) => a.clearedAt === null;

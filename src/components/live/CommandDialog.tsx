@@ -1,5 +1,5 @@
 import { useId, useState } from "react";
-import type { CommandBody } from "../../../shared/contract/live";
+import type { CommandBody } from "@shared/contract/live";
 import { ConfirmDialog } from "../ui/ConfirmDialog";
 
 /** A command before its reason is given: the body without `reason`, one variant per command. */

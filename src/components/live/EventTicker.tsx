@@ -1,5 +1,5 @@
 import { memo } from "react";
-import type { ChangeDto } from "../../../shared/contract/live";
+import type { ChangeDto } from "@shared/contract/live";
 import type { TickerEntry } from "../../api/live";
 import { formatTime } from "../../lib/duration";
 

@@ -1,5 +1,5 @@
-import type { NodeLiveDto } from "../../../shared/contract/live";
-import type { NodeDto } from "../../../shared/contract/rest";
+import type { NodeLiveDto } from "@shared/contract/live";
+import type { NodeDto } from "@shared/contract/rest";
 import { formatDuration } from "../../lib/duration";
 
 /** One chip per controller node: online or offline, and for how long. */

@@ -1,6 +1,6 @@
 import { useId, useState } from "react";
 import { Link } from "react-router-dom";
-import type { SessionDto } from "../../../shared/contract/live";
+import type { SessionDto } from "@shared/contract/live";
 import { ApiError } from "../../api/http";
 import { useSessionControlMutation } from "../../api/live";
 import { formatTime } from "../../lib/duration";

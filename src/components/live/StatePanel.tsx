@@ -1,7 +1,7 @@
 import { memo, type ReactNode } from "react";
-import type { LiveState } from "../../../shared/contract/live";
-import type { NodeDto } from "../../../shared/contract/rest";
-import type { LayoutSignal } from "../../../shared/layout/schema";
+import type { LiveState } from "@shared/contract/live";
+import type { NodeDto } from "@shared/contract/rest";
+import type { LayoutSignal } from "@shared/layout/schema";
 import { signalBoards } from "../../lib/liveStatus";
 import { formatDuration } from "../../lib/duration";
 import { Button } from "../ui/Button";

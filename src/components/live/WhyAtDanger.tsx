@@ -1,7 +1,7 @@
 import { memo } from "react";
-import type { LiveState } from "../../../shared/contract/live";
-import type { LayoutSignal } from "../../../shared/layout/schema";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { LiveState } from "@shared/contract/live";
+import type { LayoutSignal } from "@shared/layout/schema";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { whyAtDanger, type Blocker } from "../../lib/whyAtDanger";
 import { Button } from "../ui/Button";
 import { describeCommand, type CommandDraft } from "./CommandDialog";

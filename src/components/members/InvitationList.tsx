@@ -1,4 +1,4 @@
-import type { InvitationDto } from "../../../shared/contract/controlRoom";
+import type { InvitationDto } from "@shared/contract/controlRoom";
 import { useResendInvitation, useRevokeInvitation } from "../../api/accounts";
 import { formatDateTime } from "../../lib/format";
 import { ROLE_LABELS } from "../../lib/permissions";

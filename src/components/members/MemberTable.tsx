@@ -1,6 +1,6 @@
 import { useState } from "react";
-import { ROLES, type Role } from "../../../shared/contract/rest";
-import type { MemberDto } from "../../../shared/contract/controlRoom";
+import { ROLES, type Role } from "@shared/contract/rest";
+import type { MemberDto } from "@shared/contract/controlRoom";
 import { useRemoveMember, useUpdateMember } from "../../api/accounts";
 import { ROLE_LABELS } from "../../lib/permissions";
 import { Button } from "../ui/Button";

@@ -1,5 +1,5 @@
 import { useForm } from "react-hook-form";
-import { societyBodySchema, type SocietyBody } from "../../../shared/contract/accounts";
+import { societyBodySchema, type SocietyBody } from "@shared/contract/accounts";
 import { useRenameSociety } from "../../api/accounts";
 import { zodResolver } from "../../lib/zodResolver";
 import { Button } from "../ui/Button";

@@ -1,6 +1,6 @@
 import { memo, useEffect, useMemo, useRef, useState } from "react";
-import type { LayoutDetector, LayoutSignal } from "../../../shared/layout/schema";
-import type { ShownAspect } from "../../../shared/rulebook/schema";
+import type { LayoutDetector, LayoutSignal } from "@shared/layout/schema";
+import type { ShownAspect } from "@shared/rulebook/schema";
 import { aspectWordDy, labelKey, layoutGeometry, pathBetween, type MimicLayout, type Pt } from "./geometry";
 import { deriveOccupancy, type RouteShape } from "./occupancy";
 

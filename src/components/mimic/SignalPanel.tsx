@@ -1,5 +1,5 @@
-import type { LayoutDetector, LayoutLine, LayoutSignal } from "../../../shared/layout/schema";
-import type { ShownAspect } from "../../../shared/rulebook/schema";
+import type { LayoutDetector, LayoutLine, LayoutSignal } from "@shared/layout/schema";
+import type { ShownAspect } from "@shared/rulebook/schema";
 
 /** The parts of a layout the panel draws. `LayoutDetail` and a layout file both fit. */
 export interface SignalPanelLayout {

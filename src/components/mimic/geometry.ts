@@ -16,7 +16,7 @@
  * the points, its far end (largest `at`) at the join. A line with no points to join is drawn
  * as a separate parallel track.
  */
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../../../shared/layout/schema";
+import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "@shared/layout/schema";
 import { ITEM_KINDS, parseSchematic, type ItemKind, type Pt, type SchematicTrack } from "../schematic/format";
 import { LABEL_CANDIDATES, LABEL_CHAR_WIDTH, markBox, placeLabels, textBox, type Box, type LabelRequest } from "../schematic/labels";
 import { pointAlong, project, slice } from "../schematic/polyline";

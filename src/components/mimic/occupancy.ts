@@ -13,7 +13,7 @@
  *
  * Without proving routes nothing is shaded; signals and detectors are still drawn.
  */
-import type { ShownAspect } from "../../../shared/rulebook/schema";
+import type { ShownAspect } from "@shared/rulebook/schema";
 
 export interface RouteShape {
   id: string;

@@ -1,5 +1,5 @@
 import type { UseFormReturn } from "react-hook-form";
-import { scaleSpeedFromTiming } from "../../../shared/layout/placement";
+import { scaleSpeedFromTiming } from "@shared/layout/placement";
 import { FormField, INPUT } from "../records/FormField";
 import type { PlacementFormValues } from "./placementForm";
 

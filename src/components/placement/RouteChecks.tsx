@@ -1,6 +1,6 @@
-import type { LayoutDetail } from "../../../shared/contract/rest";
-import type { ProvingRoute } from "../../../shared/rulebook/schema";
-import type { RoutePlacementResult } from "../../../shared/layout/routePlacement";
+import type { LayoutDetail } from "@shared/contract/rest";
+import type { ProvingRoute } from "@shared/rulebook/schema";
+import type { RoutePlacementResult } from "@shared/layout/routePlacement";
 import { PlacementStrip } from "./PlacementStrip";
 import type { PlacementFormValues } from "./placementForm";
 

@@ -2,7 +2,7 @@ import { Fragment, useMemo, useState, type ReactNode } from "react";
 import { createColumnHelper, tableFeatures, useTable, type ColumnDef } from "@tanstack/react-table";
 import type { FieldValues } from "react-hook-form";
 import type { z } from "zod";
-import type { ValidationError } from "../../../shared/rulebook/validate";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { Button } from "../ui/Button";
 import { RowForm, rowErrors, type FieldSpec } from "./RowForm";
 

@@ -1,8 +1,8 @@
 import { useMemo } from "react";
 import type { FieldValues } from "react-hook-form";
 import type { z } from "zod";
-import type { ValidationError } from "../../../shared/rulebook/validate";
-import { ASPECTS } from "../../../shared/rulebook/schema";
+import type { ValidationError } from "@shared/rulebook/validate";
+import { ASPECTS } from "@shared/rulebook/schema";
 import type { LayoutDraft } from "../../lib/layoutDraft";
 import { lineInUse, removeRecord, saveRecord, type RecordKind } from "../../lib/recordEdits";
 import { Panel } from "../ui/Panel";

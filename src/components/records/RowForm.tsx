@@ -1,7 +1,7 @@
 import { useMemo } from "react";
 import { useForm, type DefaultValues, type FieldValues, type Path, type Resolver } from "react-hook-form";
 import { z } from "zod";
-import type { ValidationError } from "../../../shared/rulebook/validate";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { zodResolver } from "../../lib/zodResolver";
 import { Button } from "../ui/Button";
 import { FormField, INPUT } from "./FormField";

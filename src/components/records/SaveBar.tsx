@@ -1,4 +1,4 @@
-import type { ValidationError } from "../../../shared/rulebook/validate";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { Button } from "../ui/Button";
 import { ErrorList } from "../ui/ErrorList";
 

@@ -4,8 +4,8 @@
  * (CONTRACT.md §3), and how points are worked.
  */
 import { z } from "zod";
-import { detectorSchema, lineSchema, nodeSchema, pointsSchema, signalSchema } from "../../../shared/layout/schema";
-import { idSchema } from "../../../shared/rulebook/schema";
+import { detectorSchema, lineSchema, nodeSchema, pointsSchema, signalSchema } from "@shared/layout/schema";
+import { idSchema } from "@shared/rulebook/schema";
 
 /** A checkbox group gives a list, one string, or false (nothing ticked): always a list here. */
 const ticked = <S extends z.ZodType>(schema: S) => z.preprocess((v) => (Array.isArray(v) ? v : typeof v === "string" ? [v] : []), schema);

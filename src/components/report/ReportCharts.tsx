@@ -1,6 +1,6 @@
 import { useMemo } from "react";
 import uPlot from "uplot";
-import type { SessionReportDto, SignalTimelineDto } from "../../../shared/contract/report";
+import type { SessionReportDto, SignalTimelineDto } from "@shared/contract/report";
 import { aspectTimeline, pulsesPerTrain, waitsHistogram } from "../../lib/reportCharts";
 import { UPlotChart } from "./UPlotChart";
 

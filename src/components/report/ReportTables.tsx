@@ -1,5 +1,5 @@
 import { Link } from "react-router-dom";
-import type { SessionReportDto } from "../../../shared/contract/report";
+import type { SessionReportDto } from "@shared/contract/report";
 import { formatSeconds, formatTime } from "../../lib/duration";
 import { paths } from "../../lib/paths";
 

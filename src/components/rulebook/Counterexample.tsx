@@ -1,5 +1,5 @@
 import { Link } from "react-router-dom";
-import type { ProofMoveDto } from "../../../shared/contract/rest";
+import type { ProofMoveDto } from "@shared/contract/rest";
 import { encodeTrace } from "../../lib/simulation";
 import { paths } from "../../lib/paths";
 

@@ -5,7 +5,7 @@
  * stored proof is shown whenever it has one.
  */
 import { useMemo, useState } from "react";
-import type { ProofResultDto, StoredProofDto } from "../../../shared/contract/rest";
+import type { ProofResultDto, StoredProofDto } from "@shared/contract/rest";
 import { useLayout } from "../../api/layouts";
 import { isJobRunning, useActiveProofJobs, useCancelProofMutation, useProofJob, useStartProofMutation } from "../../api/proofs";
 import { useRulebookVersion } from "../../api/rulebooks";

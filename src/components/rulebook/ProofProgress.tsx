@@ -1,5 +1,5 @@
-import type { ProofJobDto } from "../../../shared/contract/rest";
-import { DEFAULT_MAX_STATES } from "../../../shared/rulebook/prove";
+import type { ProofJobDto } from "@shared/contract/rest";
+import { DEFAULT_MAX_STATES } from "@shared/rulebook/prove";
 import { formatDuration } from "../../lib/duration";
 import { useNow } from "../../hooks/useNow";
 import { Button } from "../ui/Button";

@@ -1,6 +1,6 @@
-import type { ProofPropertyDto, ProofResultDto } from "../../../shared/contract/rest";
-import { PROPERTY_DESCRIPTIONS, type PropertyId } from "../../../shared/rulebook/prove";
-import type { Rulebook } from "../../../shared/rulebook/schema";
+import type { ProofPropertyDto, ProofResultDto } from "@shared/contract/rest";
+import { PROPERTY_DESCRIPTIONS, type PropertyId } from "@shared/rulebook/prove";
+import type { Rulebook } from "@shared/rulebook/schema";
 import { SafetyNote } from "../ui/SafetyNote";
 import { Counterexample } from "./Counterexample";
 

@@ -1,8 +1,8 @@
 import { useState } from "react";
 import { useForm } from "react-hook-form";
 import { z } from "zod";
-import { PUBLISH_REASON_MAX } from "../../../shared/contract/layoutEdit";
-import type { RulebookVersionSummary } from "../../../shared/contract/rest";
+import { PUBLISH_REASON_MAX } from "@shared/contract/layoutEdit";
+import type { RulebookVersionSummary } from "@shared/contract/rest";
 import { usePublishMutation } from "../../api/rulebooks";
 import { zodResolver } from "../../lib/zodResolver";
 import { FormField, INPUT } from "../records/FormField";

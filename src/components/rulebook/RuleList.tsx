@@ -1,5 +1,5 @@
-import type { Rulebook } from "../../../shared/rulebook/schema";
-import { describeRule } from "../../../shared/rulebook/describe";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { describeRule } from "@shared/rulebook/describe";
 
 interface RuleListProps {
   rulebook: Rulebook;

@@ -1,6 +1,6 @@
 import { useId, useMemo, useState, type ReactNode } from "react";
-import type { RulebookVersionDetail, RulebookVersionSummary } from "../../../shared/contract/rest";
-import { describeTriggerAlone } from "../../../shared/rulebook/describe";
+import type { RulebookVersionDetail, RulebookVersionSummary } from "@shared/contract/rest";
+import { describeTriggerAlone } from "@shared/rulebook/describe";
 import {
   countChanges,
   diffRulebooks,
@@ -10,8 +10,8 @@ import {
   type RuleMove,
   type RulePartChange,
   type SelectorDeclaration,
-} from "../../../shared/rulebook/diff";
-import { rulebookSchema, type ProvingRoute, type Rulebook } from "../../../shared/rulebook/schema";
+} from "@shared/rulebook/diff";
+import { rulebookSchema, type ProvingRoute, type Rulebook } from "@shared/rulebook/schema";
 import { useRulebookVersion } from "../../api/rulebooks";
 import { readDraft } from "../../lib/draftStore";
 import { Panel } from "../ui/Panel";

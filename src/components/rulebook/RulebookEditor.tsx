@@ -1,8 +1,8 @@
 import { useDeferredValue, useEffect, useId, useMemo, useState } from "react";
 import { useNavigate } from "react-router-dom";
-import type { RulebookVersionDetail } from "../../../shared/contract/rest";
-import type { Rulebook } from "../../../shared/rulebook/schema";
-import { validateRulebookFile, type RulebookContext } from "../../../shared/rulebook/validate";
+import type { RulebookVersionDetail } from "@shared/contract/rest";
+import type { Rulebook } from "@shared/rulebook/schema";
+import { validateRulebookFile, type RulebookContext } from "@shared/rulebook/validate";
 import { ApiError, type FieldError } from "../../api/http";
 import { useSaveDraftMutation } from "../../api/rulebooks";
 import { clearDraft, readDraft, writeDraft } from "../../lib/draftStore";

@@ -1,5 +1,5 @@
 import { useMemo } from "react";
-import type { RulebookStatus, RulebookVersionSummary } from "../../../shared/contract/rest";
+import type { RulebookStatus, RulebookVersionSummary } from "@shared/contract/rest";
 import { formatDateTime } from "../../lib/format";
 import { columnsFor, DataTable } from "../ui/DataTable";
 

@@ -1,5 +1,5 @@
 import type { PointerEvent } from "react";
-import type { LayoutLine } from "../../../shared/layout/schema";
+import type { LayoutLine } from "@shared/layout/schema";
 import { Button } from "../ui/Button";
 import type { ItemKind } from "./format";
 import { KIND_NOUN, type EditorMode } from "./selection";

@@ -6,7 +6,7 @@
  * The records stay the truth: an item is drawn at its `at` on its line, so dragging it
  * changes `at` (and maybe `line`), and editing `at` in a table moves it on the drawing.
  */
-import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "../../../shared/layout/schema";
+import type { LayoutDetector, LayoutLine, LayoutPoints, LayoutSignal } from "@shared/layout/schema";
 import { isPt, MAX_COORD, MAX_TRACK_POINTS, type ItemKind, type Pt, type Schematic, type SchematicTrack } from "./format";
 import { nearestSegment, pointAlong, polylineLength, project } from "./polyline";
 import { snapMetres, snapToGrid } from "./snap";

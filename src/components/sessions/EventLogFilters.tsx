@@ -1,6 +1,6 @@
 import { useId, useState, type FormEvent } from "react";
-import { EVENT_KINDS, EVENT_STATUSES } from "../../../shared/contract/live";
-import type { SessionEventFilter } from "../../../shared/contract/sessions";
+import { EVENT_KINDS, EVENT_STATUSES } from "@shared/contract/live";
+import type { SessionEventFilter } from "@shared/contract/sessions";
 import { Button } from "../ui/Button";
 
 const KINDS = EVENT_KINDS;

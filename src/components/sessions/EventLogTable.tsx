@@ -1,4 +1,4 @@
-import type { SessionEventDto } from "../../../shared/contract/sessions";
+import type { SessionEventDto } from "@shared/contract/sessions";
 import { changeCause, describeChange } from "../../lib/simulation";
 import { columnsFor, DataTable } from "../ui/DataTable";
 

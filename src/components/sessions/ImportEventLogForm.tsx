@@ -1,6 +1,6 @@
 import { useId, useState, type FormEvent } from "react";
 import { Link } from "react-router-dom";
-import type { SessionImportResponse } from "../../../shared/contract/sessions";
+import type { SessionImportResponse } from "@shared/contract/sessions";
 import { ApiError, type FieldError } from "../../api/http";
 import { useImportSessionMutation } from "../../api/sessions";
 import { Button } from "../ui/Button";

@@ -1,5 +1,5 @@
 import { Link } from "react-router-dom";
-import type { SessionSummaryDto } from "../../../shared/contract/sessions";
+import type { SessionSummaryDto } from "@shared/contract/sessions";
 import { formatDateTimeSeconds as formatDateTime } from "../../lib/format";
 import { columnsFor, DataTable } from "../ui/DataTable";
 import { paths } from "../../lib/paths";

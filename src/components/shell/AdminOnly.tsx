@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { allows, type Action } from "../../../shared/contract/permissions";
+import { allows, type Action } from "@shared/contract/permissions";
 import { useCurrentUser } from "../../hooks/useCurrentUser";
 import { ROLE_LABELS } from "../../lib/permissions";
 

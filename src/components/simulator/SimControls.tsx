@@ -1,6 +1,6 @@
 import { useId, useState } from "react";
-import type { EngineInput, EngineState } from "../../../shared/rulebook/engine";
-import { POINTS_LIES } from "../../../shared/rulebook/schema";
+import type { EngineInput, EngineState } from "@shared/rulebook/engine";
+import { POINTS_LIES } from "@shared/rulebook/schema";
 import type { SignalPanelLayout } from "../mimic/SignalPanel";
 import { Button } from "../ui/Button";
 

@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import type { EngineState } from "../../../shared/rulebook/engine";
+import type { EngineState } from "@shared/rulebook/engine";
 import { formatClock } from "../../lib/format";
 
 function Row({ label, children }: { label: string; children: ReactNode }) {

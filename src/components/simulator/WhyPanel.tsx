@@ -1,5 +1,5 @@
-import type { LayoutSignal } from "../../../shared/layout/schema";
-import type { ShownAspect } from "../../../shared/rulebook/schema";
+import type { LayoutSignal } from "@shared/layout/schema";
+import type { ShownAspect } from "@shared/rulebook/schema";
 import { explainSignal, type SimEntry } from "../../lib/simulation";
 
 interface WhyPanelProps {

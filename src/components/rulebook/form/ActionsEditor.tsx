@@ -1,7 +1,7 @@
 import { useState, type ReactNode } from "react";
-import { matchAction } from "../../../../shared/rulebook/kinds";
-import { ASPECTS, POINTS_POSITIONS, type Action, type Aspect, type PointsPosition } from "../../../../shared/rulebook/schema";
-import type { ValidationError } from "../../../../shared/rulebook/validate";
+import { matchAction } from "@shared/rulebook/kinds";
+import { ASPECTS, POINTS_POSITIONS, type Action, type Aspect, type PointsPosition } from "@shared/rulebook/schema";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { actionKind, defaultAction, moveItem, removeItem, replaceItem, type ActionKind, type Declared } from "../../../lib/ruleEdit";
 import { Button } from "../../ui/Button";
 import { FieldErrors, NumberField, SelectField, TextField, errorsUnder, namesWith } from "./fields";

@@ -1,6 +1,6 @@
 import { useState } from "react";
-import { ASPECTS, COMPARISONS, POINTS_CONDITION_LIES, type Aspect, type Comparison, type Condition, type PointsConditionLie } from "../../../../shared/rulebook/schema";
-import { toJsonPath, type ValidationError } from "../../../../shared/rulebook/validate";
+import { ASPECTS, COMPARISONS, POINTS_CONDITION_LIES, type Aspect, type Comparison, type Condition, type PointsConditionLie } from "@shared/rulebook/schema";
+import { toJsonPath, type ValidationError } from "@shared/rulebook/validate";
 import {
   addCondition,
   defaultLeaf,

@@ -1,7 +1,7 @@
 import { useId, useState, type ReactNode } from "react";
-import type { Aspect, Rulebook } from "../../../../shared/rulebook/schema";
-import type { RulebookContext, ValidationError } from "../../../../shared/rulebook/validate";
-import { toJsonPath } from "../../../../shared/rulebook/validate";
+import type { Aspect, Rulebook } from "@shared/rulebook/schema";
+import type { RulebookContext, ValidationError } from "@shared/rulebook/validate";
+import { toJsonPath } from "@shared/rulebook/validate";
 import { renameKey, withoutKey } from "../../../lib/ruleEdit";
 import { Button } from "../../ui/Button";
 import { CommitTextField, FieldErrors, NumberField, SelectField, errorsUnder } from "./fields";

@@ -1,6 +1,6 @@
 import { useMemo, useRef, type ReactNode } from "react";
-import type { Rulebook } from "../../../../shared/rulebook/schema";
-import type { RulebookContext } from "../../../../shared/rulebook/validate";
+import type { Rulebook } from "@shared/rulebook/schema";
+import type { RulebookContext } from "@shared/rulebook/validate";
 import { asFormRulebook } from "../../../lib/ruleEdit";
 import { RuleFormEditor } from "./RuleFormEditor";
 

@@ -1,5 +1,5 @@
-import type { Proving, ProvingRoute, Rulebook } from "../../../../shared/rulebook/schema";
-import type { RulebookContext, ValidationError } from "../../../../shared/rulebook/validate";
+import type { Proving, ProvingRoute, Rulebook } from "@shared/rulebook/schema";
+import type { RulebookContext, ValidationError } from "@shared/rulebook/validate";
 import { replaceItem, removeItem, uniqueName } from "../../../lib/ruleEdit";
 import { Button } from "../../ui/Button";
 import { CommitTextField, FieldErrors, NumberField, SelectField, errorsUnder, namesWith } from "./fields";

@@ -1,6 +1,6 @@
-import { TRIGGER_KINDS, type TriggerKind } from "../../../../shared/rulebook/kinds";
-import type { Rule, Trigger } from "../../../../shared/rulebook/schema";
-import type { ValidationError } from "../../../../shared/rulebook/validate";
+import { TRIGGER_KINDS, type TriggerKind } from "@shared/rulebook/kinds";
+import type { Rule, Trigger } from "@shared/rulebook/schema";
+import type { ValidationError } from "@shared/rulebook/validate";
 import { withField, type Declared } from "../../../lib/ruleEdit";
 import { ActionsEditor } from "./ActionsEditor";
 import { ConditionEditor } from "./ConditionEditor";

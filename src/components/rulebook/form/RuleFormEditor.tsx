@@ -1,7 +1,7 @@
 import { Fragment, useMemo, useState } from "react";
-import { describeRule } from "../../../../shared/rulebook/describe";
-import type { Rule, Rulebook } from "../../../../shared/rulebook/schema";
-import { validateRulebookFile, type RulebookContext, type ValidationError } from "../../../../shared/rulebook/validate";
+import { describeRule } from "@shared/rulebook/describe";
+import type { Rule, Rulebook } from "@shared/rulebook/schema";
+import { validateRulebookFile, type RulebookContext, type ValidationError } from "@shared/rulebook/validate";
 import { duplicateRule, moveItem, removeItem, replaceItem, uniqueName, type Declared } from "../../../lib/ruleEdit";
 import { Button } from "../../ui/Button";
 import { ErrorList } from "../../ui/ErrorList";

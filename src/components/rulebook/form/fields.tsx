@@ -1,5 +1,5 @@
 import { useState, type ReactNode } from "react";
-import type { ValidationError } from "../../../../shared/rulebook/validate";
+import type { ValidationError } from "@shared/rulebook/validate";
 
 /** Errors whose path is `path` itself or anything inside it. */
 export function errorsUnder(errors: readonly ValidationError[], path: string): ValidationError[] {
