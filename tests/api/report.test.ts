@@ -147,6 +147,8 @@ describe("running-day report", () => {
       "route,signal,trains,waits,median_wait_s,max_wait_s,priority_checks",
       "main,M1,3,2,24.25,30,1",
       "branch,B1,3,0,,,",
+      // Kestrel Bank's shed road ran no train in this session: listed, with nothing to say.
+      "shed,S1,0,0,,,",
       "",
     ]);
     const checks = await viewer.get(`/api/sessions/${sessionId}/report?format=csv&table=checks`);
