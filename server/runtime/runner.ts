@@ -31,6 +31,7 @@ import type { LayoutLink } from "./layoutLink";
 import { Mailbox } from "./mailbox";
 import type { RuntimeDeps } from "./ports";
 import { systemClock, type Cancel, type Clock } from "../clock";
+import { recoverPointsChecks } from "./pointsRecovery";
 import { loadNodes, recoverCore } from "./recovery";
 
 /** CONTRACT.md §2: the wait for a missing seq. */
@@ -114,6 +115,7 @@ export class LayoutRunner {
   async start(link: LayoutLink): Promise<void> {
     const { core, batch } = await recoverCore(poolQuery(this.pool), { id: this.layoutId, slug: this.slug }, this.options, this.options.now());
     this.core = core;
+    await recoverPointsChecks(poolQuery(this.pool), core, () => this.deps.alarms.listOpen(this.layoutId), this.options.now());
     if (batch) await commitBatch(this.pool, batch);
     await this.committer.start();
     await this.pool.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [this.layoutId, revReservation(this.core)]);

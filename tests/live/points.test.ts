@@ -13,19 +13,15 @@ import { DEMO_PASSWORD, demoEmail } from "../../server/db/seed/demo";
 import { startTestApp, type TestApp } from "../support/testApp";
 import { connectBoard, connectBrowser, join, onManualClock, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { ManualClock } from "../support/manualClock";
+import { registerWrenfoldBoards } from "../fixtures/wrenfoldBoards";
 
 const SLUG = "wrenfold-loop";
 const DETECTION_MS = 1_500;
-const BOARDS = [
-  { id: "wrenfold-home", detectors: ["WA", "WE"], signals: ["W1"], points: [] },
-  { id: "loop-points", detectors: ["TX", "LX"], signals: [], points: ["P2"] },
-  { id: "loop-end", detectors: ["TZ", "LZ"], signals: [], points: [] },
-];
 
 describe("live power points", () => {
   let t: TestApp;
   let h: LiveHarness;
-  const secrets = new Map<string, string>();
+  let secrets = new Map<string, string>();
   let cookie = "";
   const boards: Board[] = [];
   // The server's clock moves by hand: the detection check falls due when the test says, however slow the board.
@@ -43,12 +39,7 @@ describe("live power points", () => {
   beforeAll(async () => {
     t = await startTestApp();
     h = await startLiveHarness(t, onManualClock(clock, { pointsDetectionMs: DETECTION_MS }));
-    const engineer = await t.signIn("engineer");
-    for (const b of BOARDS) {
-      const res = await engineer.post(`/api/layouts/${SLUG}/nodes`).send({ ...b, name: b.id });
-      expect(res.status, JSON.stringify(res.body)).toBe(201);
-      secrets.set(b.id, res.body.secret);
-    }
+    secrets = await registerWrenfoldBoards(t);
     const login = await request(t.app).post("/api/auth/login").send({ email: demoEmail("signaller"), password: DEMO_PASSWORD });
     cookie = (login.headers["set-cookie"] as unknown as string[]).map((c) => c.split(";")[0]).join("; ");
   });

@@ -4,7 +4,8 @@
  * proving, but for movement: a board that has not reported the points lying as thrown within
  * `POINTS_DETECTION_MS` raises a "points-detection" alarm, cleared when the report comes.
  * The rulebook itself decides what to do meanwhile (its `points` conditions see `moving` or the
- * old position, so a sound rulebook keeps the route's signal at danger).
+ * old position, so a sound rulebook keeps the route's signal at danger). The checks are rebuilt
+ * on recovery (`restorePointsChecks`), so a restart does not forget one.
  */
 import type { Change } from "@shared/rulebook/engine";
 import { ALARM_KIND } from "@shared/contract/alarmKinds";
@@ -82,4 +83,22 @@ export function nextPointsDue(core: Core): number | null {
   const limit = detectionMs(core);
   for (const check of core.pointsChecks.values()) if (!check.alarmed) due = due === null ? check.since + limit : Math.min(due, check.since + limit);
   return due;
+}
+
+/** Points the state has thrown somewhere they are not reported lying (each needs a check). */
+export function pendingThrows(core: Core): string[] {
+  return Object.entries(core.state.thrown ?? {})
+    .filter(([points, to]) => (core.state.points?.[points] ?? "unknown") !== to)
+    .map(([points]) => points);
+}
+
+/**
+ * Recovery (server/runtime/pointsRecovery.ts): a check for every pending throw, from when it was
+ * thrown (`now` when the log does not say), alarmed when its alarm is still open.
+ */
+export function restorePointsChecks(core: Core, thrownAt: ReadonlyMap<string, number>, alarmed: ReadonlySet<string>, now: number): void {
+  for (const points of pendingThrows(core)) {
+    const to = core.state.thrown![points] as PointsPosition;
+    core.pointsChecks.set(points, { to, since: thrownAt.get(points) ?? now, alarmed: alarmed.has(points) });
+  }
 }

@@ -4,3 +4,4 @@
  */
 export * from "./commit";
 export * from "./read";
+export * from "./throws";
