@@ -115,7 +115,7 @@ export class LayoutRunner {
   async start(link: LayoutLink): Promise<void> {
     const { core, batch } = await recoverCore(poolQuery(this.pool), { id: this.layoutId, slug: this.slug }, this.options, this.options.now());
     this.core = core;
-    await recoverPointsChecks(poolQuery(this.pool), core, () => this.deps.alarms.listOpen(this.layoutId), this.options.now());
+    await recoverPointsChecks(poolQuery(this.pool), core, () => this.deps.alarms.listOpen(this.layoutId), this.options.now(), this.deps.logger);
     if (batch) await commitBatch(this.pool, batch);
     await this.committer.start();
     await this.pool.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [this.layoutId, revReservation(this.core)]);
