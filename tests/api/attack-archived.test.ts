@@ -82,6 +82,16 @@ describe("an archived layout is read-only", () => {
     expect(open.find((a) => a.id === alarmId)?.acknowledgedAt).toBeNull();
   });
 
+  it("no signaller command or session change is taken for it", async () => {
+    const signaller = await t.signIn("signaller");
+    const command = await signaller.post(`/api/layouts/${SLUG}/commands`).send({ type: "hold", signal: "W1", reason: "test" });
+    expect(command.status, JSON.stringify(command.body)).toBe(409);
+    expect(command.body.error.code).toBe("archived");
+    const session = await signaller.post(`/api/layouts/${SLUG}/sessions`).send({ action: "open" });
+    expect(session.status, JSON.stringify(session.body)).toBe(409);
+    expect(session.body.error.code).toBe("archived");
+  });
+
   it("held: records, drafts and boards were already refused", async () => {
     const engineer = await t.signIn("engineer");
     expect((await engineer.post(`/api/layouts/${SLUG}/rulebooks`).send({ rulebook: {} })).status).toBe(409);

@@ -61,12 +61,14 @@ export function liveRoutes(deps: AppDeps): Router {
 
   router.post("/layouts/:slug/commands", requirePermission("live.control"), async (req, res) => {
     const body = parseWith(commandBodySchema, req.body);
+    refuseIfArchived(await findLayout(deps, String(req.params.slug)));
     res.json(await live().command(String(req.params.slug), body, { id: req.user!.id, name: req.user!.name }));
   });
 
   router.post("/layouts/:slug/sessions", requirePermission("live.control"), async (req, res) => {
     const { action, note } = parseWith(sessionBodySchema, req.body);
     const slug = String(req.params.slug);
+    refuseIfArchived(await findLayout(deps, slug));
     const before = action === "close" ? (await live().liveState(slug)).session : null;
     const state = await live().session(slug, action, { id: req.user!.id, name: req.user!.name });
     // Who ended it and the note are the sessions feature's; the runtime only opens and closes.
