@@ -16,7 +16,8 @@ import { describe, expect, it } from "vitest";
 import { toPromela, toPromelaBatch, SPIN_PROPERTIES, type PromelaOptions, type SpinProperty } from "@shared/rulebook/promela";
 import { prove } from "@shared/rulebook/prove";
 import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "@shared/rulebook/schema";
-import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
+import { convergingJunction } from "@shared/rulebook/templates";
+import { kestrelRoutes, wrenfoldFacing } from "../fixtures/junctions";
 import { unthrownPointsRulebook } from "../fixtures/unthrownPoints";
 import { convergingRulebookArb, COUNTERS, COUNT_CAP } from "../support/randomRulebooks";
 import { runSpin, spinAvailable, type SpinRun } from "../support/spin";
@@ -135,10 +136,7 @@ describe(`prover verdicts agree with ${SPIN_SOURCE}`, async () => {
 
   it.skipIf(!haveSpin)(`Kestrel Bank template: proved by us and by ${SPIN_SOURCE}, with the same state count`, async () => {
     const rulebook = convergingJunction({
-      routes: [
-        { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-        { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-      ],
+      routes: kestrelRoutes(),
       order: "priority",
       priority: "main",
       maxAxles: 2,
@@ -157,10 +155,7 @@ describe(`prover verdicts agree with ${SPIN_SOURCE}`, async () => {
   it.skipIf(!haveSpin)(`a model too big for pan's memory or time is reported incomplete by ${SPIN_SOURCE}, never as a proof`, async () => {
     // Kestrel Bank at 4 axles × 3 trains: about 3.8 M plain states, far more than 64 MB or 0.5 s hold.
     const rulebook = convergingJunction({
-      routes: [
-        { id: "main", signal: "M1", approach: ["MA"], entry: "ME", exit: ["JX"] },
-        { id: "branch", signal: "B1", approach: ["BA"], entry: "BE", exit: ["JX"] },
-      ],
+      routes: kestrelRoutes(),
       order: "priority",
       priority: "main",
       maxAxles: 4,
@@ -180,19 +175,7 @@ describe(`prover verdicts agree with ${SPIN_SOURCE}`, async () => {
     ["power", 8, 3],
     ["hand", 8, 3],
   ] as const)(`Wrenfold Loop facing template, %s points, %i axles × %i trains: proved by us and by ${SPIN_SOURCE}, with the same state count`, async (worked, maxAxles, maxTrainsPerRoute) => {
-    const rulebook = facingJunction({
-      signal: "W1",
-      approach: ["WA"],
-      entry: "WE",
-      points: "P2",
-      roads: [
-        { id: "through", exit: ["TX", "TZ"] },
-        { id: "loop", exit: ["LX", "LZ"] },
-      ],
-      worked,
-      maxAxles,
-      maxTrainsPerRoute,
-    });
+    const rulebook = wrenfoldFacing(worked, { maxAxles, maxTrainsPerRoute });
     const points = { P2: worked };
     // SPIN explores the plain §5 environment, so the state counts are compared with the plain search.
     const ours = prove(rulebook, { points, plain: true });
