@@ -135,6 +135,33 @@ export function betweenMask(model: Model, pack: Packing, cur: Uint8Array): numbe
   return mask;
 }
 
+/**
+ * How far the trains still have to go: per train, the detectors each shown axle has yet to
+ * cross, plus `maxAxles − shown` whole paths for an open train's hidden axles (a train whose
+ * route is not fixed counts its group's longest path). Every pulse and every reveal lowers it
+ * (a reveal adds an axle one detector in but takes a whole path from the hidden ones), fixing a
+ * route can only lower it, and a train leaves only from 1; quiet firings and points moves leave
+ * it as it is. `no-stuck-train` orders its pass by it (stuck.ts).
+ */
+export function remainingProgress(model: Model, pack: Packing, cur: Uint8Array): number {
+  const { base, slotWidth } = pack;
+  let left = 0;
+  for (const group of model.groups) {
+    const b = base[group.index];
+    let longest = 0;
+    for (const r of group.routes) longest = Math.max(longest, model.routes[r].path.length);
+    for (let t = 0; t < cur[b]; t++) {
+      const slot = b + 1 + t * slotWidth;
+      const tag = cur[slot + SLOT_ROUTE];
+      const length = tag === 0 ? longest : model.routes[group.routes[tag - 1]].path.length;
+      const axles = cur[slot + SLOT_AXLES];
+      for (let k = 0; k < axles; k++) left += length - cur[slot + SLOT_POS + k];
+      if (cur[slot + SLOT_OPEN] !== 0) left += (model.maxAxles - axles) * length;
+    }
+  }
+  return left;
+}
+
 /** Which environment {@link forEachMove} enumerates (module notes). */
 export type Reduction = 0 | 1 | 2;
 export const PLAIN = 0;

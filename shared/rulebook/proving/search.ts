@@ -19,13 +19,15 @@ import {
   MOVE_UNLOCKED,
   packing,
   PLAIN,
+  remainingProgress,
   SLOT_AXLES,
   SLOT_OPEN,
   type Reduction,
 } from "./environment";
 import { compileModel, type Model, type PointsWorking } from "./model";
 import { decodePath, type Move, type PathStep } from "./moves";
-import { findStuckTrain, judgeState, propertiesOf, type Hidden, type PropertyId } from "./properties";
+import { judgeState, propertiesOf, type PropertyId } from "./properties";
+import { findStuckTrain, type Hidden, type StuckPass } from "./stuck";
 import { IntVec, StateTable, vecFor } from "./stateTable";
 import { TrainCodec } from "./trainCodec";
 
@@ -43,7 +45,14 @@ export type StopCause = "states" | "memory" | "time" | "cancelled";
 export interface ProofResult {
   verdict: "proved" | "refuted" | "unfinished";
   properties: PropertyResult[];
-  stats: { states: number; ms: number; transitions: number; bytes: number };
+  stats: {
+    states: number;
+    ms: number;
+    transitions: number;
+    bytes: number;
+    /** How `no-stuck-train` was decided, when it was (stuck.ts): one pass in progress order, or a worklist. */
+    noStuckPass?: StuckPass;
+  };
   /** Why the verdict is "unfinished" (limit reached, cancelled, nothing to prove), in words. */
   reason?: string;
   /** Which limit stopped the search, when one did. */
@@ -70,6 +79,8 @@ export interface ProveOptions {
    * environment.ts). Same verdicts and counterexample lengths, many more states: for cross-checks.
    */
   plain?: boolean;
+  /** Decide `no-stuck-train` by the worklist even when the progress order would do (cross-checks). */
+  stuckByWorklist?: boolean;
 }
 
 /** No fixed state limit: memory and time decide (issue 16). Kept for callers that pass one on. */
@@ -126,6 +137,11 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const moveOf = vecFor(codes.total, 1 << 14);
   const depthOf = new IntVec(1 << 14);
   const waitMaskOf = vecFor(2 ** model.groups.length - 1, 1 << 14);
+  // Per state: remaining progress, then armed quiet triggers; every non-arrival edge lowers it
+  // unless quiet rules or points go round in circles (stuck.ts orders its pass by it).
+  const quietSpan = model.quietRuleIds.length + 1;
+  const longestPath = Math.max(...model.routes.map((r) => r.path.length));
+  const orderOf = vecFor((model.groups.length * model.maxTrains * model.maxAxles * longestPath + 1) * quietSpan, 1 << 14);
   // Non-arrival edges, grouped by source: the first and the number of each state's, then per edge
   // its target and kind (0, or 1 + g for an edge that reveals an axle in group g).
   const edgeStart = new IntVec(1 << 14);
@@ -136,7 +152,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const buckets = [new IntVec(1 << 12), new IntVec(1 << 12), new IntVec(1 << 12)];
   const bytesUsed = (): number =>
     table.bytes +
-    [parent, moveOf, depthOf, waitMaskOf, edgeStart, edgeCount, edgeTo, edgeKind, ...buckets].reduce((sum, v) => sum + v.bytes, 0) +
+    [parent, moveOf, depthOf, waitMaskOf, orderOf, edgeStart, edgeCount, edgeTo, edgeKind, ...buckets].reduce((sum, v) => sum + v.bytes, 0) +
     engines.bytes;
   let transitions = 0;
 
@@ -152,6 +168,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     const facts = engines.facts[engine];
     const verdict = judgeState(model, pack, facts, v);
     waitMaskOf.put(id, verdict.waitMask);
+    orderOf.put(id, remainingProgress(model, pack, v) * quietSpan + facts.armed.length);
     if (verdict.waitMask !== 0) stuckCandidates++;
     if (facts.faulted) noteBad("settles", depth, id);
     if (facts.conflictingProceeds) noteBad("no-conflicting-proceeds", depth, id);
@@ -252,6 +269,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const nStates = table.size;
 
   let stuck: { state: number; group: number; extra: number[] } | undefined;
+  let stuckPass: StuckPass | undefined;
   if (finished && stuckCandidates > 0) {
     const hidden: Hidden = {
       base: level === LAZY_LENGTH ? model.maxAxles : 1,
@@ -270,7 +288,16 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       },
     };
     const edges = { start: edgeStart.data, count: edgeCount.data, to: edgeTo.data, kind: edgeKind.data, total: edgeTo.length };
-    stuck = findStuckTrain(model, nStates, (s) => engines.facts[table.engine[s]].proceedMask, waitMaskOf, depthOf, edges, hidden);
+    ({ stuck, pass: stuckPass } = findStuckTrain({
+      model,
+      nStates,
+      proceedMaskOf: (s) => engines.facts[table.engine[s]].proceedMask,
+      waitMaskOf,
+      depthOf,
+      edges,
+      hidden,
+      order: options.stuckByWorklist ? undefined : orderOf.data,
+    }));
   }
 
   /** The moves from the start to `state`, then `lastMove` (if any). */
@@ -315,6 +342,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     properties: results,
     stats: { states: nStates, ms: elapsed(), transitions, bytes: bytesUsed() },
   };
+  if (stuckPass) result.stats.noStuckPass = stuckPass;
   if (stoppedBy) {
     result.reason = stoppedBy.reason;
     result.stoppedBy = stoppedBy.cause;
