@@ -59,6 +59,15 @@ describe("the reduced search agrees with the plain search", () => {
     }
   }, 240_000);
 
+  it("on random converging junctions with 3 trains a route (streams of several trains, lazy split)", () => {
+    const samples = fc.sample(convergingRulebookArb({ maxAxles: 2, maxTrains: 3, priority: true }), { numRuns: 80, seed: 20261206 });
+    const seen = samples.map(compare).filter((c): c is Compared => c !== null);
+    expect(seen.length).toBeGreaterThan(40);
+    for (const id of ["no-stuck-train", "no-conflicting-proceeds", "one-train-per-section", "no-underflow"] as const) {
+      expect(seen.filter((c) => c.refuted.includes(id)).length, id).toBeGreaterThan(0);
+    }
+  }, 240_000);
+
   it("on random facing junctions with points (rulebook /2, power and hand, up to 3 axles, 2 trains)", () => {
     const samples = fc.sample(facingRulebookArb({ maxAxles: 3, maxTrains: 2 }), { numRuns: 120, seed: 20261203 });
     const seen = samples.map(compare).filter((c): c is Compared => c !== null);

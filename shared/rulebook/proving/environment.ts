@@ -40,17 +40,22 @@ export interface Packing {
   /** Offset of each group's block. */
   base: number[];
   slotWidth: number;
+  /** Offset of each group's stream byte (lazy split: axles past the first detector whose trains are not told apart; else 0). */
+  stream: number[];
 }
 
 export function packing(model: Model): Packing {
   const slotWidth = 3 + model.maxAxles;
   const base: number[] = [];
+  const stream: number[] = [];
   let width = 0;
   for (let g = 0; g < model.groups.length; g++) {
     base.push(width);
     width += 1 + model.maxTrains * slotWidth;
+    stream.push(width);
+    width += 1;
   }
-  return { width, base, slotWidth };
+  return { width, base, slotWidth, stream };
 }
 
 /** Offsets into a slot. */
@@ -73,6 +78,12 @@ export const MOVE_REVEAL = 16;
 /** Reduced environment: the move closes an open train (in group `flags >> MOVE_GROUP_SHIFT`) at its shown axles. */
 export const MOVE_CLOSE = 32;
 export const MOVE_GROUP_SHIFT = 8;
+/** Lazy split: the front of a stream crosses entry as a train of the axles the code names (one branch of the split). */
+export const MOVE_SPLIT = 64;
+/** Lazy split: that train is open (it may have more axles than the stream held). */
+export const MOVE_SPLIT_OPEN = 128;
+/** Lazy split: the route choice of a split (index in its group) sits at this shift of the flags. */
+export const MOVE_CHOICE_SHIFT = 16;
 
 export interface MoveCodes {
   pulseBase: number;
@@ -162,11 +173,19 @@ export function remainingProgress(model: Model, pack: Packing, cur: Uint8Array):
   return left;
 }
 
+/** Axles in all groups' streams (lazy split; 0 otherwise). */
+export function streamAxles(pack: Packing, cur: Uint8Array): number {
+  let n = 0;
+  for (const at of pack.stream) n += cur[at];
+  return n;
+}
+
 /** Which environment {@link forEachMove} enumerates (module notes). */
-export type Reduction = 0 | 1 | 2;
+export type Reduction = 0 | 1 | 2 | 3;
 export const PLAIN = 0;
 export const LAZY_ARRIVAL = 1;
 export const LAZY_LENGTH = 2;
+export const LAZY_SPLIT = 3;
 
 /** Receives one move: its code, the engine input it gives (-1: none) and MOVE_* flags; `nxt` holds the trains after it. */
 export type MoveVisitor = (code: number, input: number, flags: number) => void;
@@ -206,6 +225,8 @@ export function forEachMove(
         nxt[b + 1 + n * slotWidth + SLOT_AXLES] = a;
         visit(g * maxAxles + (a - 1), -1, MOVE_ARRIVAL);
       }
+    } else if (level === LAZY_SPLIT) {
+      streamMoves(model, pack, codes, facts, cur, nxt, visit, g);
     } else if (n < maxTrains && (n === 0 || lastAxle(cur, b + 1 + (n - 1) * slotWidth) > 0)) {
       // Lazy arrival: the new train's leading axle crosses the first detector at once (the train
       // ahead has cleared it). With lazy length it is one open train, and a train ahead that was
@@ -313,6 +334,86 @@ export function forEachMove(
     if ((under & model.points[move.points].neededBy) !== 0) continue;
     nxt.set(cur);
     visit(codes.pointsBase + (move.input - model.pointsBase), move.input, 0);
+  }
+}
+
+/**
+ * Lazy split (module notes): the moves of group `g`'s stream — `N` axles past the first detector
+ * (the only approach detector) whose division into trains is not yet told. Its trains stand for
+ * every division into at most the group's free train places of at most `maxAxles` axles each.
+ * - One more axle crosses the first detector (a reveal or an arrival: the stream does not say
+ *   which). The first axle of a stream is an arrival, and closes an open train ahead.
+ * - The front crosses entry while the signal shows a proceed and the train ahead has cleared it:
+ *   that decides the front train's length `j` — one branch per `j` (`MOVE_SPLIT`), the last one
+ *   open when it takes the whole stream ({@link MOVE_SPLIT_OPEN}). The rest stays a stream.
+ * Prices (the search's depth): a stream of `N` axles is taken to hold the fewest trains it can,
+ * `⌈N/maxAxles⌉`, each an arrival worth one move more; a move that needs one more train than that
+ * is worth two ({@link MOVE_FUSED}). So every state is at the depth of the shortest §5 run to any
+ * of the states it stands for, and a path's price is that of a §5 run (moves.ts decodes it).
+ */
+function streamMoves(model: Model, pack: Packing, codes: MoveCodes, facts: EngineFacts, cur: Uint8Array, nxt: Uint8Array, visit: MoveVisitor, g: number): void {
+  const { maxAxles: B, maxTrains, groups, routes } = model;
+  const { base, slotWidth } = pack;
+  const group = groups[g];
+  const b = base[g];
+  const at = pack.stream[g];
+  const n = cur[b];
+  const N = cur[at];
+  const free = maxTrains - n;
+  const first = routes[group.routes[0]];
+  const groupFlag = g << MOVE_GROUP_SHIFT;
+  const lastSlot = b + 1 + (n - 1) * slotWidth;
+  if (N === 0) {
+    if (free > 0 && (n === 0 || lastAxle(cur, lastSlot) > 0)) {
+      let flags = MOVE_ARRIVAL | MOVE_FUSED;
+      nxt.set(cur);
+      if (n > 0 && cur[lastSlot + SLOT_OPEN] !== 0) {
+        flags |= MOVE_CLOSE | groupFlag;
+        nxt[lastSlot + SLOT_OPEN] = 0;
+      }
+      nxt[at] = 1;
+      visit(g * B, first.pathInput[0], flags);
+    }
+    return;
+  }
+  if (N + 1 <= free * B) {
+    nxt.set(cur);
+    nxt[at] = N + 1;
+    visit(g * B, first.pathInput[0], MOVE_ARRIVAL | (Math.ceil((N + 1) / B) > Math.ceil(N / B) ? MOVE_FUSED : 0));
+  }
+  const entry = group.entryIndex;
+  if ((facts.proceedMask & (1 << group.routes[0])) === 0) return;
+  if (n > 0 && lastAxle(cur, lastSlot) <= entry) return;
+  const input = first.pathInput[entry];
+  const slotCode = codes.pulseBase + (g * maxTrains + n) * B * codes.choices;
+  const matching = group.routeMask & facts.routesSetMask;
+  if (matching === 0) {
+    nxt.set(cur);
+    visit(slotCode, input, MOVE_MISROUTED);
+    return;
+  }
+  const slot = b + 1 + n * slotWidth;
+  for (let c = 0; c < group.routes.length; c++) {
+    if ((matching & (1 << group.routes[c])) === 0) continue;
+    // j < N: closed at j, the rest a stream; j = N: the whole stream, open while it may grow.
+    // A one-axle stream enters only as a one-axle train (the axle behind has not crossed the first detector).
+    for (let j = 1; j <= Math.min(N, B); j++) {
+      const rest = N - j;
+      if (rest > (free - 1) * B) continue;
+      const open = j === N && N > 1 && N < B;
+      nxt.set(cur);
+      nxt[b] = n + 1;
+      nxt[at] = rest;
+      nxt[slot + SLOT_AXLES] = j;
+      nxt[slot + SLOT_ROUTE] = c + 1;
+      nxt[slot + SLOT_OPEN] = open ? 1 : 0;
+      nxt[slot + SLOT_POS] = entry + 1;
+      for (let k = 1; k < j; k++) nxt[slot + SLOT_POS + k] = entry;
+      const extra = 1 + Math.ceil(rest / B) - Math.ceil(N / B);
+      let flags = MOVE_SPLIT | groupFlag | (c << MOVE_CHOICE_SHIFT) | (extra > 0 ? MOVE_FUSED : 0);
+      if (open) flags |= MOVE_SPLIT_OPEN;
+      visit(slotCode + (j - 1) * codes.choices + c + 1, input, flags);
+    }
   }
 }
 

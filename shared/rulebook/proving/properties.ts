@@ -111,6 +111,14 @@ export function judgeState(model: Model, pack: env.Packing, facts: EngineFacts, 
       }
       if (g !== priorityGroup && lead > 0) othersAway = false;
     }
+    // Lazy split: a stream's front train has crossed the only approach detector, so it waits.
+    if (cur[pack.stream[g]] > 0) {
+      if (!signalProceeds) {
+        waitMask |= 1 << g;
+        if (g === priorityGroup) priorityWaits = true;
+      }
+      if (g !== priorityGroup) othersAway = false;
+    }
   }
   const priorityHindered =
     priorityGroup >= 0 && priorityWaits && !anyOccupied && othersAway && (proceed & (1 << model.priority)) === 0;

@@ -10,6 +10,10 @@ import {
   forEachMove,
   LAZY_ARRIVAL,
   LAZY_LENGTH,
+  LAZY_SPLIT,
+  MOVE_CHOICE_SHIFT,
+  MOVE_SPLIT,
+  MOVE_SPLIT_OPEN,
   moveCodes,
   MOVE_ARRIVAL,
   MOVE_FUSED,
@@ -20,14 +24,16 @@ import {
   packing,
   PLAIN,
   remainingProgress,
+  streamAxles,
   SLOT_AXLES,
   SLOT_OPEN,
   type Reduction,
 } from "./environment";
 import { compileModel, type Model, type PointsWorking } from "./model";
 import { decodePath, type Move, type PathStep } from "./moves";
+import { decodeSplitPath } from "./splitMoves";
 import { judgeState, propertiesOf, type PropertyId } from "./properties";
-import { findStuckTrain, type Hidden, type StuckPass } from "./stuck";
+import { findStuckTrain, splitKind, type Hidden, type StuckPass } from "./stuck";
 import { IntVec, StateTable, vecFor } from "./stateTable";
 import { TrainCodec } from "./trainCodec";
 
@@ -95,7 +101,9 @@ const MAX_HIDDEN_BITS = 1024;
 /** The environment a proof explores: plain §5, or reduced (the default; see environment.ts). */
 export function reductionFor(model: Model, plain: boolean): Reduction {
   if (plain) return PLAIN;
-  return Math.pow(model.maxAxles, model.groups.length) <= MAX_HIDDEN_BITS ? LAZY_LENGTH : LAZY_ARRIVAL;
+  if (Math.pow(model.maxAxles, model.groups.length) > MAX_HIDDEN_BITS) return LAZY_ARRIVAL;
+  // Lazy split keeps a stream's axles as a count: exact with one approach detector a group.
+  return model.groups.every((g) => g.entryIndex === 1) ? LAZY_SPLIT : LAZY_LENGTH;
 }
 
 /**
@@ -114,6 +122,19 @@ export function reductionFor(model: Model, plain: boolean): Reduction {
 export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResult {
   const now = options.now;
   const started = now ? now() : 0;
+  const { result, stuckUnsure } = search(rulebook, options);
+  if (!stuckUnsure) return result;
+  // Lazy split decides no-stuck-train only when it finds no stuck train (stuck.ts): ask the
+  // lazy-length search, which tells every train apart, for the exact answer and counterexample.
+  const spent = now ? now() - started : 0;
+  const exact = search(rulebook, { ...options, maxMs: options.maxMs === undefined ? undefined : Math.max(0, options.maxMs - spent) }, LAZY_LENGTH).result;
+  exact.stats.ms = now ? now() - started : 0;
+  return exact;
+}
+
+function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): { result: ProofResult; stuckUnsure: boolean } {
+  const now = options.now;
+  const started = now ? now() : 0;
   const elapsed = (): number => (now ? now() - started : 0);
   const maxStates = options.maxStates ?? DEFAULT_MAX_STATES;
   const maxBytes = options.maxBytes ?? DEFAULT_MAX_BYTES;
@@ -122,9 +143,13 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   try {
     model = compileModel(rulebook, options.points);
   } catch (err) {
-    return { verdict: "unfinished", properties: [], stats: { states: 0, ms: elapsed(), transitions: 0, bytes: 0 }, reason: (err as Error).message };
+    return {
+      result: { verdict: "unfinished", properties: [], stats: { states: 0, ms: elapsed(), transitions: 0, bytes: 0 }, reason: (err as Error).message },
+      stuckUnsure: false,
+    };
   }
-  const level = reductionFor(model, options.plain === true);
+  const level = forced ?? reductionFor(model, options.plain === true);
+  const lazyLength = level === LAZY_LENGTH || level === LAZY_SPLIT;
   const properties = propertiesOf(model);
   const pack = packing(model);
   const codes = moveCodes(model);
@@ -139,15 +164,18 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const waitMaskOf = vecFor(2 ** model.groups.length - 1, 1 << 14);
   // Per state: remaining progress, then armed quiet triggers; every non-arrival edge lowers it
   // unless quiet rules or points go round in circles (stuck.ts orders its pass by it).
+  // With lazy split, first the axles in streams (a split takes some out; only the stream's own
+  // next axle, which is not an edge here, puts one in).
   const quietSpan = model.quietRuleIds.length + 1;
   const longestPath = Math.max(...model.routes.map((r) => r.path.length));
-  const orderOf = vecFor((model.groups.length * model.maxTrains * model.maxAxles * longestPath + 1) * quietSpan, 1 << 14);
+  const progressSpan = model.groups.length * model.maxTrains * model.maxAxles * longestPath + 1;
+  const orderOf = vecFor((model.groups.length * model.maxTrains * model.maxAxles + 1) * progressSpan * quietSpan, 1 << 14);
   // Non-arrival edges, grouped by source: the first and the number of each state's, then per edge
   // its target and kind (0, or 1 + g for an edge that reveals an axle in group g).
   const edgeStart = new IntVec(1 << 14);
   const edgeCount = vecFor(codes.total, 1 << 14);
   const edgeTo = new IntVec(1 << 16);
-  const edgeKind = vecFor(model.groups.length + 1, 1 << 16);
+  const edgeKind = vecFor(splitKind(model.groups.length, model.groups.length - 1, model.widestGroup - 1, true), 1 << 16);
   // States waiting to be expanded, by depth modulo 3 (moves are worth one or two).
   const buckets = [new IntVec(1 << 12), new IntVec(1 << 12), new IntVec(1 << 12)];
   const bytesUsed = (): number =>
@@ -168,7 +196,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     const facts = engines.facts[engine];
     const verdict = judgeState(model, pack, facts, v);
     waitMaskOf.put(id, verdict.waitMask);
-    orderOf.put(id, remainingProgress(model, pack, v) * quietSpan + facts.armed.length);
+    orderOf.put(id, (streamAxles(pack, v) * progressSpan + remainingProgress(model, pack, v)) * quietSpan + facts.armed.length);
     if (verdict.waitMask !== 0) stuckCandidates++;
     if (facts.faulted) noteBad("settles", depth, id);
     if (facts.conflictingProceeds) noteBad("no-conflicting-proceeds", depth, id);
@@ -197,6 +225,10 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   const ARRIVAL = MOVE_ARRIVAL;
   const REVEAL = MOVE_REVEAL;
   const GROUP_SHIFT = MOVE_GROUP_SHIFT;
+  const CHOICE_SHIFT = MOVE_CHOICE_SHIFT;
+  const SPLIT = MOVE_SPLIT;
+  const SPLIT_OPEN = MOVE_SPLIT_OPEN;
+  const groupCount = model.groups.length;
   const visit = (code: number, input: number, flags: number): void => {
     transitions++;
     const length = currentDepth + ((flags & FUSED) !== 0 ? 2 : 1);
@@ -220,7 +252,14 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     }
     if ((flags & ARRIVAL) === 0) {
       edgeTo.push(id);
-      edgeKind.push((flags & REVEAL) !== 0 ? 1 + (flags >>> GROUP_SHIFT) : 0);
+      const group = (flags >>> GROUP_SHIFT) & 0xff;
+      edgeKind.push(
+        (flags & SPLIT) !== 0
+          ? splitKind(groupCount, group, flags >>> CHOICE_SHIFT, (flags & SPLIT_OPEN) !== 0)
+          : (flags & REVEAL) !== 0
+            ? 1 + group
+            : 0,
+      );
     }
   };
 
@@ -272,9 +311,9 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
   let stuckPass: StuckPass | undefined;
   if (finished && stuckCandidates > 0) {
     const hidden: Hidden = {
-      base: level === LAZY_LENGTH ? model.maxAxles : 1,
+      base: lazyLength ? model.maxAxles : 1,
       groups: model.groups.length,
-      words: level === LAZY_LENGTH ? Math.ceil(Math.pow(model.maxAxles, model.groups.length) / 32) : 1,
+      words: lazyLength ? Math.ceil(Math.pow(model.maxAxles, model.groups.length) / 32) : 1,
       openOf: (state, out) => {
         const v = table.load(state, cur);
         for (const group of model.groups) {
@@ -300,6 +339,9 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     }));
   }
 
+  const stuckUnsure = level === LAZY_SPLIT && (stuck !== undefined || stuckPass === "unsupported");
+  if (stuckUnsure) return { result: { verdict: "unfinished", properties: [], stats: { states: nStates, ms: elapsed(), transitions, bytes: bytesUsed() } }, stuckUnsure };
+
   /** The moves from the start to `state`, then `lastMove` (if any). */
   const pathTo = (state: number, lastMove?: number, extra: number[] = []): Move[] => {
     const chain: number[] = [];
@@ -312,6 +354,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
       if (code === undefined) break;
       steps.push({ facts: engines.facts[table.engine[s]], trains: table.load(s, new Uint8Array(width)), code });
     }
+    if (level === LAZY_SPLIT) return decodeSplitPath(model, pack, codes, steps);
     return decodePath(model, pack, codes, steps, level, (g) => extra[g] ?? 0);
   };
   const undecided = { holds: null, detail: "not decided: the search did not finish" } as const;
@@ -347,7 +390,7 @@ export function prove(rulebook: Rulebook, options: ProveOptions = {}): ProofResu
     result.reason = stoppedBy.reason;
     result.stoppedBy = stoppedBy.cause;
   }
-  return result;
+  return { result, stuckUnsure: false };
 }
 
 function describeViolation(pid: PropertyId, model: Model, moves: Move[]): string {

@@ -29,9 +29,18 @@ export interface EdgeStore {
   start: Int32Array;
   count: ArrayLike<number>;
   to: Int32Array;
-  /** 0, or 1 + g for an edge that reveals an axle of the open train of group g (environment.ts). */
+  /**
+   * 0; or 1 + g for an edge that reveals an axle of the open train of group g; or, with G
+   * groups, `1 + G + 2·(c·G + g) + open` for one branch of a lazy split of group g's stream taking
+   * route choice c (open: the branch's train is open). See {@link splitKind}.
+   */
   kind: ArrayLike<number>;
   total: number;
+}
+
+/** The edge kind of a branch of a lazy split (EdgeStore.kind). */
+export function splitKind(groups: number, group: number, choice: number, open: boolean): number {
+  return 1 + groups + 2 * (choice * groups + group) + (open ? 1 : 0);
 }
 
 /**
@@ -68,8 +77,11 @@ export interface StuckTrain {
   extra: number[];
 }
 
-/** How the sets were computed (for tests and the bench). */
-export type StuckPass = "progress-order" | "worklist";
+/**
+ * How the sets were computed (for tests and the bench). "unsupported": the graph has lazy
+ * splits but goes round in circles, and the worklist cannot take splits; nothing was decided.
+ */
+export type StuckPass = "progress-order" | "worklist" | "unsupported";
 
 /** The earliest stuck train, if any, and which pass found the sets. */
 export function findStuckTrain(q: StuckQuestion): { stuck: StuckTrain | undefined; pass: StuckPass } {
@@ -77,6 +89,7 @@ export function findStuckTrain(q: StuckQuestion): { stuck: StuckTrain | undefine
   const { words } = hidden;
   const valid = validSets(model, nStates, hidden);
   const ascending = q.order ? ascendingIfAcyclic(q.order, nStates, q.edges) : undefined;
+  if (!ascending && hasSplits(q.edges, model.groups.length)) return { stuck: undefined, pass: "unsupported" };
   const reach = ascending ? new InOrder(q, valid, ascending) : new Worklist(q, valid);
 
   let best: StuckTrain | undefined;
@@ -162,28 +175,46 @@ function ascendingIfAcyclic(order: ArrayLike<number>, nStates: number, edges: Ed
   return out;
 }
 
+function hasSplits(edges: EdgeStore, groups: number): boolean {
+  for (let e = 0; e < edges.total; e++) if (edges.kind[e] > groups) return true;
+  return false;
+}
+
 /** Reachability sets for one signal: bit sets per state, `words` words each. */
 interface Reach {
   run(signalBit: number): Int32Array;
 }
 
-/** One pass in ascending progress order: each state's successors are final when it is taken. */
+/**
+ * One pass in ascending progress order: each state's successors are final when it is taken.
+ * The branches of a lazy split are one edge together: the state stands for every division of
+ * the stream, each of which takes exactly one branch, so it can reach the proceed through the
+ * split only if every branch can (for an open branch, with every hidden length). That answer is
+ * on the safe side — a stream's own next axles are not used, since for some divisions they are
+ * arrivals — so a stuck train it finds is only a candidate (search.ts then asks exactly).
+ */
 class InOrder implements Reach {
   private readonly canReach: Int32Array;
   private readonly add: Int32Array;
+  private readonly all: Int32Array;
+  private readonly part: Int32Array;
   constructor(
     private readonly q: StuckQuestion,
     private readonly valid: ValidSets,
     private readonly ascending: Int32Array,
   ) {
-    this.canReach = new Int32Array(q.nStates * q.hidden.words);
-    this.add = new Int32Array(q.hidden.words);
+    const words = q.hidden.words;
+    this.canReach = new Int32Array(q.nStates * words);
+    this.add = new Int32Array(words);
+    this.all = new Int32Array(words);
+    this.part = new Int32Array(words);
   }
   run(signalBit: number): Int32Array {
-    const { canReach, add, ascending, valid } = this;
-    const { edges, proceedMaskOf } = this.q;
-    const words = this.q.hidden.words;
-    const shift = this.q.model.groups.map((g) => Math.pow(this.q.hidden.base, g.index));
+    const { canReach, add, all, ascending, valid } = this;
+    const { edges, proceedMaskOf, model, hidden } = this.q;
+    const words = hidden.words;
+    const G = model.groups.length;
+    const shift = model.groups.map((g) => Math.pow(hidden.base, g.index));
     const { start, count, to, kind } = edges;
     for (let i = 0; i < ascending.length; i++) {
       const s = ascending[i];
@@ -191,19 +222,43 @@ class InOrder implements Reach {
       const mine = valid.of(s);
       const proceeds = (proceedMaskOf(s) & signalBit) !== 0;
       for (let w = 0; w < words; w++) canReach[at + w] = proceeds ? mine[w] : 0;
+      let split = -1;
       for (let e = start[s], end = e + count[s]; e < end; e++) {
-        const t = to[e] * words;
+        const t = to[e];
         const k = kind[e];
         if (k === 0) {
-          for (let w = 0; w < words; w++) canReach[at + w] |= canReach[t + w];
-        } else {
+          for (let w = 0; w < words; w++) canReach[at + w] |= canReach[t * words + w];
+        } else if (k <= G) {
           // Source bit d ↔ target bit d − B^g (one axle fewer still hidden).
-          shiftUp(canReach, t, add, words, shift[k - 1]);
+          shiftUp(canReach, t * words, add, words, shift[k - 1]);
           for (let w = 0; w < words; w++) canReach[at + w] |= add[w] & mine[w];
+        } else {
+          const branch = (k - 1 - G) >>> 1;
+          if (branch !== split) {
+            if (split >= 0) for (let w = 0; w < words; w++) canReach[at + w] |= all[w] & mine[w];
+            split = branch;
+            all.fill(-1);
+          }
+          const open = ((k - 1 - G) & 1) !== 0;
+          if (!open) for (let w = 0; w < words; w++) all[w] &= canReach[t * words + w];
+          else this.everyHiddenLength(t, shift[branch % G], all);
         }
       }
+      if (split >= 0) for (let w = 0; w < words; w++) canReach[at + w] |= all[w] & mine[w];
     }
     return canReach;
+  }
+  /** `all` &= for every hidden length d of the target's open train (digit step `by`): its bits at d, moved to d = 0. */
+  private everyHiddenLength(t: number, by: number, all: Int32Array): void {
+    const { canReach, add, part } = this;
+    const words = this.q.hidden.words;
+    const theirs = this.valid.of(t);
+    for (let d = 0; d < this.q.hidden.base; d++) {
+      // A length the open train cannot have counts as reaching (nothing to show there).
+      shiftDown(canReach, t * words, add, words, d * by);
+      shiftDown(theirs, 0, part, words, d * by);
+      for (let w = 0; w < words; w++) all[w] &= add[w] | ~part[w];
+    }
   }
 }
 
@@ -288,6 +343,18 @@ class Worklist implements Reach {
       }
     }
     return canReach;
+  }
+}
+
+/** `out` = the bit set at `src[from…from+words)` moved `by` bits down (towards lower indices). */
+function shiftDown(src: Int32Array, from: number, out: Int32Array, words: number, by: number): void {
+  const wordShift = by >>> 5;
+  const bitShift = by & 31;
+  for (let w = 0; w < words; w++) {
+    const lo = w + wordShift;
+    const a = lo < words ? src[from + lo] : 0;
+    const b = lo + 1 < words ? src[from + lo + 1] : 0;
+    out[w] = bitShift === 0 ? a : (a >>> bitShift) | (b << (32 - bitShift));
   }
 }
 

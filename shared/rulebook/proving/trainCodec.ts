@@ -9,6 +9,7 @@
  * (docs/prover.md, "Axle order"): the axle rule keeps every step 0 or 1, and a new train starts
  * with all its axles level. Positions past a slot's axle count, and unused slots, are all zero in
  * the byte form, so equal bytes ⇔ equal words. {@link TrainCodec.encode} refuses anything else.
+ * Each group's stream count (lazy split, environment.ts) is one more field.
  */
 import * as env from "./environment";
 import type { Model } from "./model";
@@ -82,6 +83,7 @@ export class TrainCodec {
       const b = pack.base[g.index];
       add(b, false, bitsFor(model.maxTrains));
       for (let t = 0; t < model.maxTrains; t++) add(b + 1 + t * pack.slotWidth, true, slotBits);
+      add(pack.stream[g.index], false, bitsFor(model.maxTrains * model.maxAxles));
     }
     this.words = w + 1;
     this.unitAt = Int32Array.from(at);
