@@ -41,6 +41,11 @@ export interface IngestRejected {
   node: string | null;
   kind: EventKind;
   reason: string;
+  /**
+   * Refused only by the directory of boards (an unknown node; a detector, points or signal the
+   * node does not serve): records being saved may make it right (recordsHold.ts).
+   */
+  directory?: true;
   /** For the log: the detector / boot / seq read from a payload that was otherwise refused. */
   detector?: string;
   boot?: string;
@@ -106,6 +111,7 @@ export function ingestMessage(
   const nodes = nodesOf(slug);
   if (!nodes) return reject(`unknown layout "${slug}" (or it has no live rulebook)`);
   const entry = nodes.get(node);
+  const unknownNode = `unknown node "${node}" on layout "${slug}"`;
 
   switch (kind) {
     case "pulse": {
@@ -113,8 +119,8 @@ export function ingestMessage(
       if (!result.success) return reject(`invalid pulse: ${describeIssues(result.error)}`);
       const p = result.data;
       const seen = { detector: p.detector, boot: p.boot, seq: p.seq };
-      if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`, seen);
-      if (!entry.detectors.has(p.detector)) return reject(`detector "${p.detector}" is not served by node "${node}"`, seen);
+      if (!entry) return reject(unknownNode, { ...seen, directory: true });
+      if (!entry.detectors.has(p.detector)) return reject(`detector "${p.detector}" is not served by node "${node}"`, { ...seen, directory: true });
       return { ok: true, slug, node, kind, payload: p };
     }
     case "points": {
@@ -122,21 +128,21 @@ export function ingestMessage(
       if (!result.success) return reject(`invalid points report: ${describeIssues(result.error)}`);
       const p = result.data;
       const seen = { boot: p.boot, seq: p.seq };
-      if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`, seen);
-      if (entry.points && !entry.points.has(p.points)) return reject(`points "${p.points}" are not reported by node "${node}"`, seen);
+      if (!entry) return reject(unknownNode, { ...seen, directory: true });
+      if (entry.points && !entry.points.has(p.points)) return reject(`points "${p.points}" are not reported by node "${node}"`, { ...seen, directory: true });
       return { ok: true, slug, node, kind, payload: p };
     }
     case "status": {
       const result = statusPayloadSchema.safeParse(json);
       if (!result.success) return reject(`invalid status: ${describeIssues(result.error)}`);
-      if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`);
+      if (!entry) return reject(unknownNode, { directory: true });
       return { ok: true, slug, node, kind, payload: result.data };
     }
     case "shown": {
       const result = shownPayloadSchema.safeParse(json);
       if (!result.success) return reject(`invalid lamp-proving report: ${describeIssues(result.error)}`);
-      if (!entry) return reject(`unknown node "${node}" on layout "${slug}"`);
-      if (!entry.signals.has(result.data.signal)) return reject(`signal "${result.data.signal}" is not served by node "${node}"`);
+      if (!entry) return reject(unknownNode, { directory: true });
+      if (!entry.signals.has(result.data.signal)) return reject(`signal "${result.data.signal}" is not served by node "${node}"`, { directory: true });
       return { ok: true, slug, node, kind, payload: result.data };
     }
   }

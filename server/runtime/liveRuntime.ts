@@ -1,14 +1,14 @@
 /**
  * The live pipeline of the whole server: for every layout with a live rulebook, one runner
  * and its own MQTT client (`blocklight-server.{layout}`, layoutLink.ts), and the bus
- * listeners that switch rulebooks and reload nodes.
+ * listeners that switch rulebooks, follow saved records and boards (recordsFollower.ts) and
+ * stop archived layouts.
  */
 import pg from "pg";
 import type { CommandBody, LiveState } from "@shared/contract/live";
 import { signalIds } from "@shared/rulebook/engine";
 import type { Rulebook } from "@shared/rulebook/schema";
 import type { Database } from "../db/database";
-import { ingestMessage } from "./ingest";
 import { connectLayoutLink } from "./layoutLink";
 import { LiveError, type RuntimeDeps } from "./ports";
 import { followRecords, syncRecords } from "./recordsFollower";
@@ -90,10 +90,7 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
       logger: deps.logger,
       now: runnerOptions.now,
       onMessage(packet, payload, ack, receivedAt) {
-        const deliver = () => {
-          const result = ingestMessage(packet.topic, payload, (slug) => (slug === layout.slug ? runner.nodeDirectory() : undefined));
-          runner.message({ topic: packet.topic, payload, retain: packet.retain, receivedAt, result, ack });
-        };
+        const deliver = () => runner.message({ topic: packet.topic, payload, retain: packet.retain, receivedAt, ack });
         if (ready) deliver();
         else early.push(deliver);
       },
@@ -130,7 +127,6 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
       }
     })();
   };
-  const onNodes = ({ layoutId }: { layoutId: number }) => void byId.get(layoutId)?.reloadNodes().catch((err) => deps.logger.error({ err }, "could not reload nodes"));
   // Seam for archive/restore (server/features/layouts/edit.ts): an archived layout stops at
   // once with every signal at danger; a restored one starts again from its stored state.
   const onArchived = ({ layoutId, slug }: { layoutId: number; slug: string }) => {
@@ -147,7 +143,6 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
     })().catch((err) => deps.logger.error({ err, slug }, "could not start a restored layout"));
   };
   deps.bus.on("rulebook.published", onPublished);
-  deps.bus.on("layout.nodes-changed", onNodes);
   deps.bus.on("layout.archived", onArchived);
   deps.bus.on("layout.restored", onRestored);
   const unfollowRecords = followRecords({ bus: deps.bus, logger: deps.logger, pool, now: runnerOptions.now, runnerOf: (id) => byId.get(id) });
@@ -159,7 +154,6 @@ export async function startLiveRuntime(options: LiveRuntimeOptions): Promise<Liv
   };
   const detach = () => {
     deps.bus.off("rulebook.published", onPublished);
-    deps.bus.off("layout.nodes-changed", onNodes);
     deps.bus.off("layout.archived", onArchived);
     deps.bus.off("layout.restored", onRestored);
     unfollowRecords();

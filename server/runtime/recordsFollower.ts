@@ -1,8 +1,11 @@
 /**
  * Keeps a running layout in step with its records (lines, detectors, signals, points, nodes)
- * when the workbench saves them, without a restart: on `layout.records-changed` the records
- * are read again and handed to the runner between two batches (never inside one, so no
- * pulse is lost, duplicated or applied against half-old records).
+ * when the workbench saves them or a board is registered, without a restart: on
+ * `layout.records-changed` or `layout.nodes-changed` the records are read again and handed to
+ * the runner between two batches (never inside one, so no pulse is lost, duplicated or applied
+ * against half-old records). From the announcement until the adoption, a board message that
+ * only the new records can make right waits for them (recordsHold.ts) instead of being
+ * rejected against the old ones.
  *
  * Signals: the boards must hear of every signal the layout has, not only the ones the live
  * rulebook mentions. A signal in the records that the runner has never commanded gets a
@@ -32,6 +35,8 @@ export interface RecordsTarget {
   readonly layoutId: number;
   readonly slug: string;
   betweenBatches(change: (core: Core, link: LayoutLink | null) => void): Promise<void>;
+  /** A change was announced; the returned function says it is adopted or given up. */
+  expectRecords(): () => void;
 }
 
 export async function loadLiveRecords(query: Query, layoutId: number): Promise<LiveRecords> {
@@ -62,8 +67,11 @@ export function adoptRecords(core: Core, records: LiveRecords): { commands: { si
   return { commands, cleared };
 }
 
-/** Reads the records and applies them to `runner` between batches; publishes what changed. */
-export async function syncRecords(pool: pg.Pool, runner: RecordsTarget, now: () => number): Promise<void> {
+/**
+ * Reads the records and applies them to `runner` between batches; publishes what changed.
+ * `adopted` runs as soon as the runner has them (the messages waiting for them go on at once).
+ */
+export async function syncRecords(pool: pg.Pool, runner: RecordsTarget, now: () => number, adopted: () => void = () => {}): Promise<void> {
   const records = await loadLiveRecords(poolQuery(pool), runner.layoutId);
   let reservation: number | null = null;
   await runner.betweenBatches((core, link) => {
@@ -72,24 +80,30 @@ export async function syncRecords(pool: pg.Pool, runner: RecordsTarget, now: () 
     for (const { signal, rev } of commands) link?.publishAspect(signal, "danger", rev, at);
     for (const signal of cleared) link?.clearAspect(signal);
     if (commands.length > 0) reservation = revReservation(core);
+    adopted();
   });
   // Those revs are new: keep the stored reservation ahead of them (a restart never reuses a rev).
   if (reservation !== null) await pool.query(`UPDATE layouts SET aspect_rev = GREATEST(aspect_rev, $2) WHERE id = $1`, [runner.layoutId, reservation]);
 }
 
 /**
- * Listens for saved records and syncs the running layout they belong to. Syncs of one layout
- * run one after another, so two quick saves can never apply in the wrong order. Returns the
- * function that stops listening.
+ * Listens for saved records and registered boards and syncs the running layout they belong
+ * to. Syncs of one layout run one after another, so two quick saves can never apply in the
+ * wrong order. The runner hears of each change when it is announced, not when its turn comes
+ * (`expectRecords`), and of its end however it ends. Returns the function that stops listening.
  */
 export function followRecords(options: { bus: Bus; logger: Logger; pool: pg.Pool; now: () => number; runnerOf(layoutId: number): RecordsTarget | undefined }): () => void {
   const chains = new Map<number, Promise<void>>();
   const onChanged = ({ layoutId, slug }: { layoutId: number; slug: string }) => {
+    const announced = options.runnerOf(layoutId);
+    const adopted = announced?.expectRecords() ?? (() => {});
     const previous = chains.get(layoutId) ?? Promise.resolve();
-    const next = previous.then(async () => {
-      const runner = options.runnerOf(layoutId);
-      if (runner) await syncRecords(options.pool, runner, options.now);
-    });
+    const next = previous
+      .then(async () => {
+        const runner = options.runnerOf(layoutId);
+        if (runner) await syncRecords(options.pool, runner, options.now, runner === announced ? adopted : undefined);
+      })
+      .finally(adopted);
     const tail = next.catch((err: unknown) => options.logger.error({ err, slug }, "could not reload the records of a running layout"));
     chains.set(layoutId, tail);
     void tail.then(() => {
@@ -97,5 +111,9 @@ export function followRecords(options: { bus: Bus; logger: Logger; pool: pg.Pool
     });
   };
   options.bus.on("layout.records-changed", onChanged, "live-records");
-  return () => options.bus.off("layout.records-changed", onChanged);
+  options.bus.on("layout.nodes-changed", onChanged, "live-records");
+  return () => {
+    options.bus.off("layout.records-changed", onChanged);
+    options.bus.off("layout.nodes-changed", onChanged);
+  };
 }

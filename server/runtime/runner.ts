@@ -26,13 +26,14 @@ import { currentBoots, waitingCount } from "./core/sequencer";
 import { pointsCommands } from "./core/points";
 import { aspectCommands, faultedDto, fullPatch, revReservation, sessionDto, shownNow, type Core, type CoreOptions, type Effect } from "./core/state";
 import { toChangeDto, toEventDto } from "./dto";
-import type { IngestResult, NodeEntry } from "./ingest";
+import { ingestMessage, type NodeEntry } from "./ingest";
 import type { LayoutLink } from "./layoutLink";
 import { Mailbox } from "./mailbox";
 import type { RuntimeDeps } from "./ports";
+import { RECORDS_WAIT_MS, RecordsHold } from "./recordsHold";
 import { systemClock, type Cancel, type Clock } from "../clock";
 import { recoverPointsChecks } from "./pointsRecovery";
-import { loadNodes, recoverCore } from "./recovery";
+import { recoverCore } from "./recovery";
 
 /** CONTRACT.md §2: the wait for a missing seq. */
 export const REORDER_WAIT_MS = 10_000;
@@ -63,6 +64,8 @@ export type { CommandUser, LayoutHealth };
 
 type Item = { input: CoreInput; at: number };
 type Settle = (error: string | null) => void;
+/** A board message as the link hands it over: judged (ingest.ts) when it joins the mailbox. */
+export type BoardMessage = { topic: string; payload: Buffer; retain: boolean; receivedAt: number; ack: () => void };
 
 export class LayoutRunner {
   readonly layoutId: number;
@@ -90,6 +93,8 @@ export class LayoutRunner {
   private alarmsSeen: AlarmDto[] = [];
   /** Changes waiting for the batch in hand to finish (`betweenBatches`). */
   private between: (() => void)[] = [];
+  /** Boards' messages waiting for records being saved (recordsHold.ts). */
+  private readonly hold: RecordsHold<BoardMessage>;
 
   constructor(
     private readonly deps: RuntimeDeps,
@@ -101,6 +106,7 @@ export class LayoutRunner {
     this.slug = layout.slug;
     this.committer = new Committer(pool, layout.id, deps.logger, options.now);
     this.alarms = new AlarmOutbox(deps, layout.id, layout.slug);
+    this.hold = new RecordsHold({ clock: options, waitMs: RECORDS_WAIT_MS, release: (messages, final) => messages.forEach((m) => this.receive(m, final)) });
   }
 
   get rulebook(): Rulebook {
@@ -138,8 +144,12 @@ export class LayoutRunner {
     for (const { node, boot, seq } of currentBoots(this.core.seqs)) if (seq > 0) this.link?.publishApplied(node, { boot, seq });
   }
 
-  async reloadNodes(): Promise<void> {
-    this.core.nodes = await loadNodes(poolQuery(this.pool), this.layoutId);
+  /**
+   * A change of the records was announced (recordsFollower.ts): until the returned function is
+   * called (adopted or given up), a message only the new records can make right waits for them.
+   */
+  expectRecords(): () => void {
+    return this.hold.expect();
   }
 
   /**
@@ -180,9 +190,20 @@ export class LayoutRunner {
     if (!this.busy) void this.drain();
   }
 
-  message(m: { topic: string; payload: Buffer; retain: boolean; receivedAt: number; result: IngestResult; ack: () => void }): void {
+  message(m: BoardMessage): void {
+    this.receive(m, false);
+  }
+
+  /** Judges a board message against the directory adopted now; it waits instead when records being saved may decide it. */
+  private receive(m: BoardMessage, final: boolean): void {
+    if (this.stopped) return;
+    const result = ingestMessage(m.topic, m.payload, (slug) => (slug === this.slug ? this.nodeDirectory() : undefined));
+    if (!final && result.node !== null && this.hold.mustWait(result.node, !result.ok && result.directory === true)) {
+      this.hold.add(result.node, m);
+      return;
+    }
     const ref = this.ref(() => m.ack());
-    this.push({ type: "message", retain: m.retain, message: { topic: m.topic, payload: m.payload, receivedAt: m.receivedAt, result: m.result, ref } }, m.receivedAt);
+    this.push({ type: "message", retain: m.retain, message: { topic: m.topic, payload: m.payload, receivedAt: m.receivedAt, result, ref } }, m.receivedAt);
   }
 
   private ask(make: (ref: number) => CoreInput): Promise<void> {
@@ -244,6 +265,7 @@ export class LayoutRunner {
     this.pushes = [];
     this.committer.stop();
     this.mailbox.clear();
+    this.hold.clear();
     this.clockTimer?.();
     this.watchdog?.();
     for (const waiter of this.idleWaiters.splice(0)) waiter();
@@ -273,8 +295,11 @@ export class LayoutRunner {
     } finally {
       this.busy = false;
       for (const run of this.between.splice(0)) run();
-      if (this.mailbox.size === 0 || this.stopped) this.wakeIdle();
-      else void this.drain();
+      // A change run just now may have queued messages (those waiting for records) and started the next drain itself.
+      if (!this.busy) {
+        if (this.mailbox.size === 0 || this.stopped) this.wakeIdle();
+        else void this.drain();
+      }
     }
   }
 
@@ -460,6 +485,11 @@ export class LayoutRunner {
   /** Messages waiting for a missing seq (for tests and health). */
   waiting(): number {
     return waitingCount(this.core.seqs);
+  }
+
+  /** Board messages waiting for records being saved, and the changes of the records announced and not yet adopted (for tests and health). */
+  held(): { messages: number; changes: number } {
+    return { messages: this.hold.size, changes: this.hold.changesExpected };
   }
 
   /**

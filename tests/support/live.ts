@@ -38,7 +38,11 @@ export interface LiveHarness {
   close(): Promise<void>;
 }
 
-export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions> = {}): Promise<LiveHarness> {
+/**
+ * `using.pool`: the pool the runtime runs on (the harness does not end it), e.g. one whose
+ * chosen queries a test holds back (tests/support/queryGate.ts); by default its own.
+ */
+export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions> = {}, using: { pool?: pg.Pool } = {}): Promise<LiveHarness> {
   const serverPassword = randomBytes(12).toString("hex");
   // One connection of the pool stays with the credential watch's LISTEN.
   const authPool: pg.Pool = poolFromDeps(t.deps, 3);
@@ -55,6 +59,7 @@ export async function startLiveHarness(t: TestApp, runner: Partial<RunnerOptions
     const runtime = await startLiveRuntime({
       deps: runtimeDeps(t.deps),
       db: t.deps.db,
+      pool: using.pool,
       mqtt: { url: mqttUrl, username: SERVER_MQTT_USERNAME, password: serverPassword },
       runner: { ...runner, ...options },
     });
