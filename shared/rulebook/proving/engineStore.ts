@@ -15,46 +15,139 @@ const EVERY_FIELD_KEYED: Exclude<keyof EngineState, Named | "held" | "faulted" |
 
 /**
  * The interning key of a normalised engine state: its values in a fixed order of the names the
- * rulebook declares, as one JSON array (absent: null). Equal key ⇔ equal state, as with
- * {@link canonical}, at a fraction of its cost (the search interns hundreds of thousands). A state
- * with a name outside those lists (none is expected) falls back to the canonical text.
+ * rulebook declares, as a row of integers (absent: {@link ABSENT}; a string by its number in a
+ * small table; a quiet trigger armed or not; held signals as bits). Equal row ⇔ equal state, as
+ * with {@link canonical}, at a fraction of its cost: a proof interns hundreds of thousands of
+ * states and steps each with every input. A state with a name outside those lists, or a clock
+ * not taken out (neither is expected), is keyed by its canonical text instead.
  */
+const ABSENT = -0x80000000;
 class EngineKeys {
   private readonly names: Record<Named, string[]>;
-  private readonly values: unknown[] = [];
+  private readonly signals: string[];
+  private readonly strings = new Map<string, number>();
+  /** Integers per row. */
+  readonly width: number;
   constructor(model: Model) {
     if (!EVERY_FIELD_KEYED) throw new Error("an engine state field is missing from its key");
     const rb = model.rulebook;
     const points = model.points.map((p) => p.id);
+    this.signals = signalIds(rb);
     this.names = {
       latches: Object.keys(rb.latches ?? {}),
       counters: Object.keys(rb.counters ?? {}),
       selectors: Object.keys(rb.selectors ?? {}),
-      wanted: signalIds(rb),
+      wanted: this.signals,
       quiet: model.quietRuleIds,
       points,
       thrown: points,
     };
+    let width = 1 + Math.ceil(this.signals.length / 31);
+    for (const field of NAMED) width += this.names[field].length;
+    this.width = width;
   }
-  of(s: EngineState): string {
-    const values = this.values;
-    values.length = 0;
+  /** Writes the row of `s` to `out`; false when `s` must be keyed by its canonical text. */
+  row(s: EngineState, out: Int32Array): boolean {
+    if (s.clock !== 0) return false;
+    let i = 0;
     for (const field of NAMED) {
       const record = s[field] as Record<string, unknown>;
-      const names = this.names[field];
       let present = 0;
-      for (const name of names) {
+      for (const name of this.names[field]) {
         const v = record[name];
-        if (v === undefined) values.push(null);
+        if (v === undefined) out[i++] = ABSENT;
         else {
-          values.push(v);
           present++;
+          if (field === "quiet") out[i++] = 1;
+          else if (typeof v === "string") out[i++] = this.code(v);
+          else if (typeof v === "boolean") out[i++] = v ? 1 : 0;
+          else if (Number.isInteger(v) && (v as number) > ABSENT && (v as number) <= 0x7fffffff) out[i++] = v as number;
+          else return false;
         }
       }
-      if (present !== Object.keys(record).length) return `c${canonical(s)}`;
+      if (present !== Object.keys(record).length) return false;
     }
-    values.push(s.held, s.faulted === null ? null : s.faulted.reason, s.clock);
-    return JSON.stringify(values);
+    out[i++] = s.faulted === null ? ABSENT : this.code(s.faulted.reason);
+    const heldAt = i;
+    for (let w = 0; w < this.width - heldAt; w++) out[heldAt + w] = 0;
+    for (const signal of s.held) {
+      const b = this.signals.indexOf(signal);
+      if (b < 0) return false;
+      out[heldAt + Math.floor(b / 31)] |= 1 << (b % 31);
+    }
+    return true;
+  }
+  private code(text: string): number {
+    let c = this.strings.get(text);
+    if (c === undefined) {
+      c = this.strings.size;
+      this.strings.set(text, c);
+    }
+    return c;
+  }
+}
+
+/** Rows of integers of one width, each with an id, found again by open addressing (linear probing). */
+class RowTable {
+  private rows: Int32Array;
+  private ids: Int32Array;
+  private slots: Int32Array;
+  private count = 0;
+  constructor(private readonly width: number) {
+    this.rows = new Int32Array(width * 1024);
+    this.ids = new Int32Array(1024);
+    this.slots = new Int32Array(2048).fill(-1);
+  }
+  /** The id of `row`, or -1. */
+  find(row: Int32Array): number {
+    const mask = this.slots.length - 1;
+    for (let i = this.hash(row, 0) & mask; ; i = (i + 1) & mask) {
+      const at = this.slots[i];
+      if (at < 0) return -1;
+      if (this.equals(at, row)) return this.ids[at];
+    }
+  }
+  add(row: Int32Array, id: number): void {
+    if (this.count === this.ids.length) {
+      const rows = new Int32Array(this.rows.length * 2);
+      rows.set(this.rows);
+      this.rows = rows;
+      const ids = new Int32Array(this.ids.length * 2);
+      ids.set(this.ids);
+      this.ids = ids;
+    }
+    const at = this.count++;
+    this.rows.set(row, at * this.width);
+    this.ids[at] = id;
+    if (this.count * 2 > this.slots.length) this.rehash(this.slots.length * 2);
+    else this.place(at, this.slots);
+  }
+  get bytes(): number {
+    return this.rows.byteLength + this.ids.byteLength + this.slots.byteLength;
+  }
+  private place(at: number, slots: Int32Array): void {
+    const mask = slots.length - 1;
+    let i = this.hash(this.rows, at * this.width) & mask;
+    while (slots[i] >= 0) i = (i + 1) & mask;
+    slots[i] = at;
+  }
+  private rehash(size: number): void {
+    const slots = new Int32Array(size).fill(-1);
+    for (let at = 0; at < this.count; at++) this.place(at, slots);
+    this.slots = slots;
+  }
+  private equals(at: number, row: Int32Array): boolean {
+    const off = at * this.width;
+    for (let k = 0; k < this.width; k++) if (this.rows[off + k] !== row[k]) return false;
+    return true;
+  }
+  private hash(src: Int32Array, from: number): number {
+    let h = 0x811c9dc5;
+    for (let k = 0; k < this.width; k++) {
+      h = Math.imul(h ^ src[from + k], 0x01000193);
+      h ^= h >>> 15;
+    }
+    return h >>> 0;
   }
 }
 
@@ -62,22 +155,29 @@ class EngineKeys {
 export class EngineStore {
   readonly states: EngineState[] = [];
   readonly facts: EngineFacts[] = [];
+  /** States keyed by canonical text (only those {@link EngineKeys.row} cannot key). */
   private ids = new Map<string, number>();
   private memoNext: Int32Array;
   private memoUnderflow: Uint8Array;
   private readonly keys: EngineKeys;
+  private readonly rows: RowTable;
+  private readonly row: Int32Array;
   constructor(private readonly model: Model) {
     this.keys = new EngineKeys(model);
+    this.rows = new RowTable(this.keys.width);
+    this.row = new Int32Array(this.keys.width);
     this.memoNext = new Int32Array(1024 * Math.max(1, model.inputs.length)).fill(-1);
     this.memoUnderflow = new Uint8Array(this.memoNext.length);
   }
   intern(s: EngineState): number {
     const n = normalise(s);
-    const key = this.keys.of(n);
-    let id = this.ids.get(key);
-    if (id === undefined) {
+    const byRow = this.keys.row(n, this.row);
+    const key = byRow ? "" : canonical(n);
+    let id = byRow ? this.rows.find(this.row) : (this.ids.get(key) ?? -1);
+    if (id < 0) {
       id = this.states.length;
-      this.ids.set(key, id);
+      if (byRow) this.rows.add(this.row, id);
+      else this.ids.set(key, id);
       this.states.push(n);
       this.facts.push(engineFacts(this.model, n));
       const nInputs = this.model.inputs.length;
@@ -108,7 +208,7 @@ export class EngineStore {
     return this.memoUnderflow[engine * this.model.inputs.length + input] === 1;
   }
   get bytes(): number {
-    return this.memoNext.byteLength + this.memoUnderflow.byteLength;
+    return this.memoNext.byteLength + this.memoUnderflow.byteLength + this.rows.bytes;
   }
 }
 

@@ -229,6 +229,9 @@ function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): 
   const SPLIT = MOVE_SPLIT;
   const SPLIT_OPEN = MOVE_SPLIT_OPEN;
   const groupCount = model.groups.length;
+  const { pulseBase, quietBase } = codes;
+  const maxAxles = model.maxAxles;
+  const pulsesPerGroup = model.maxTrains * model.maxAxles * codes.choices;
   const visit = (code: number, input: number, flags: number): void => {
     transitions++;
     const length = currentDepth + ((flags & FUSED) !== 0 ? 2 : 1);
@@ -243,7 +246,9 @@ function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): 
       if (engines.underflows(currentEngine, input)) noteBad("no-underflow", length, currentId, code);
     }
     const before = table.size;
-    const id = table.findOrAdd(engine, nxt);
+    // Only the group that moved changed its trains (none for quiet firings and points).
+    const moved = code < pulseBase ? (code / maxAxles) | 0 : code < quietBase ? ((code - pulseBase) / pulsesPerGroup) | 0 : -1;
+    const id = table.findOrAddNear(engine, nxt, currentId, moved);
     if (table.size > before || depthOf.data[id] > length) {
       parent.put(id, currentId);
       moveOf.put(id, code);

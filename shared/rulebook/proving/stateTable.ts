@@ -96,6 +96,20 @@ export class StateTable {
   /** The id of (engine, trains `v` in byte form), adding it if new (then `size` grows). */
   findOrAdd(engine: number, v: Uint8Array): number {
     this.codec.encode(v, this.key, 0);
+    return this.findOrAddKey(engine);
+  }
+
+  /**
+   * The same, for trains that differ from state `from`'s only in group `group` (-1: not at all):
+   * only that group is encoded again.
+   */
+  findOrAddNear(engine: number, v: Uint8Array, from: number, group: number): number {
+    this.key.set(this.trains.subarray(from * this.words, from * this.words + this.words));
+    if (group >= 0) this.codec.encodeGroup(v, group, this.key, 0);
+    return this.findOrAddKey(engine);
+  }
+
+  private findOrAddKey(engine: number): number {
     let i = this.hash(engine, this.key, 0) & this.mask;
     for (;;) {
       const id = this.slots[i];

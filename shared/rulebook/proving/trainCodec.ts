@@ -36,6 +36,9 @@ export class TrainCodec {
   private readonly unitWord: Int32Array;
   private readonly unitShift: Int32Array;
   private readonly unitBits: Int32Array;
+  /** Group g's words are `groupWord[g] … groupWord[g+1]`, its units `groupUnit[g] … groupUnit[g+1]`. */
+  private readonly groupWord: Int32Array;
+  private readonly groupUnit: Int32Array;
   /** Bit offsets inside a slot's value: route, open flag, leading position, first step. */
   private readonly routeShift: number;
   private readonly openShift: number;
@@ -79,13 +82,26 @@ export class TrainCodec {
       bits.push(n);
       used += n;
     };
+    const groupWords: number[] = [];
+    const groupUnits: number[] = [];
     for (const g of model.groups) {
       const b = pack.base[g.index];
+      // Each group starts a word of its own, so one group can be encoded again alone.
+      if (used > 0) {
+        w++;
+        used = 0;
+      }
+      groupWords.push(w);
+      groupUnits.push(at.length);
       add(b, false, bitsFor(model.maxTrains));
       for (let t = 0; t < model.maxTrains; t++) add(b + 1 + t * pack.slotWidth, true, slotBits);
       add(pack.stream[g.index], false, bitsFor(model.maxTrains * model.maxAxles));
     }
     this.words = w + 1;
+    groupWords.push(this.words);
+    groupUnits.push(at.length);
+    this.groupWord = Int32Array.from(groupWords);
+    this.groupUnit = Int32Array.from(groupUnits);
     this.unitAt = Int32Array.from(at);
     this.unitIsSlot = Uint8Array.from(isSlot);
     this.unitWord = Int32Array.from(word);
@@ -95,9 +111,14 @@ export class TrainCodec {
 
   /** Writes the compact form of `v` to `out[at … at + words)`. */
   encode(v: Uint8Array, out: Int32Array, at: number): void {
-    out.fill(0, at, at + this.words);
+    for (let g = 0; g + 1 < this.groupWord.length; g++) this.encodeGroup(v, g, out, at);
+  }
+
+  /** Writes the words of group `g` only (the others in `out` are left as they are). */
+  encodeGroup(v: Uint8Array, g: number, out: Int32Array, at: number): void {
+    out.fill(0, at + this.groupWord[g], at + this.groupWord[g + 1]);
     const { unitAt, unitIsSlot, unitWord, unitShift, unitBits } = this;
-    for (let i = 0; i < unitAt.length; i++) {
+    for (let i = this.groupUnit[g], end = this.groupUnit[g + 1]; i < end; i++) {
       const a = unitAt[i];
       let value = v[a];
       if (unitIsSlot[i] !== 0) {
