@@ -208,131 +208,158 @@ export function forEachMove(
   visit: MoveVisitor,
   level: Reduction = PLAIN,
 ): void {
+  for (let g = 0; g < model.groups.length; g++) groupMoves(model, pack, codes, facts, cur, nxt, visit, level, g);
+  const points = facts.powerMoves.length > 0 || facts.handMoves.length > 0;
+  sharedMoves(model, codes, facts, points ? betweenMask(model, pack, cur) : 0, visit, cur, nxt);
+}
+
+/**
+ * The moves of group `g`'s trains: they read only the group's own block of `cur` and, of the
+ * engine, whether its signal shows a proceed and which of its routes are set; `nxt` differs from
+ * `cur` only in that block. (The search compiles each group's moves once per block, search.ts.)
+ */
+export function groupMoves(
+  model: Model,
+  pack: Packing,
+  codes: MoveCodes,
+  facts: EngineFacts,
+  cur: Uint8Array,
+  nxt: Uint8Array,
+  visit: MoveVisitor,
+  level: Reduction,
+  g: number,
+): void {
   const { maxAxles, maxTrains, groups, routes } = model;
   const { base, slotWidth } = pack;
   const proceedMask = facts.proceedMask;
-  for (let g = 0; g < groups.length; g++) {
-    const group = groups[g];
-    const b = base[g];
-    const n = cur[b];
-    const groupFlag = g << MOVE_GROUP_SHIFT;
-    const first = routes[group.routes[0]];
-    if (n < maxTrains && level === PLAIN) {
-      // A train arrives at the back of the group's queue.
-      for (let a = 1; a <= maxAxles; a++) {
-        nxt.set(cur);
-        nxt[b] = n + 1;
-        nxt[b + 1 + n * slotWidth + SLOT_AXLES] = a;
-        visit(g * maxAxles + (a - 1), -1, MOVE_ARRIVAL);
-      }
-    } else if (level === LAZY_SPLIT) {
-      streamMoves(model, pack, codes, facts, cur, nxt, visit, g);
-    } else if (n < maxTrains && (n === 0 || lastAxle(cur, b + 1 + (n - 1) * slotWidth) > 0)) {
-      // Lazy arrival: the new train's leading axle crosses the first detector at once (the train
-      // ahead has cleared it). With lazy length it is one open train, and a train ahead that was
-      // open is closed; otherwise one train of each length.
-      const slot = b + 1 + n * slotWidth;
-      const open = level === LAZY_LENGTH && maxAxles > 1;
-      let flags = MOVE_ARRIVAL | MOVE_FUSED;
-      if (n > 0 && cur[slot - slotWidth + SLOT_OPEN] !== 0) flags |= MOVE_CLOSE | groupFlag;
-      for (let a = 1; a <= (open ? 1 : maxAxles); a++) {
-        nxt.set(cur);
-        if (n > 0) nxt[slot - slotWidth + SLOT_OPEN] = 0;
-        nxt[b] = n + 1;
-        nxt[slot + SLOT_AXLES] = a;
-        nxt[slot + SLOT_OPEN] = open ? 1 : 0;
-        nxt[slot + SLOT_POS] = 1;
-        visit(g * maxAxles + (a - 1), first.pathInput[0], flags);
-      }
+  const group = groups[g];
+  const b = base[g];
+  const n = cur[b];
+  const groupFlag = g << MOVE_GROUP_SHIFT;
+  const first = routes[group.routes[0]];
+  if (n < maxTrains && level === PLAIN) {
+    // A train arrives at the back of the group's queue.
+    for (let a = 1; a <= maxAxles; a++) {
+      nxt.set(cur);
+      nxt[b] = n + 1;
+      nxt[b + 1 + n * slotWidth + SLOT_AXLES] = a;
+      visit(g * maxAxles + (a - 1), -1, MOVE_ARRIVAL);
     }
-    const entry = group.entryIndex;
-    const proceed = (proceedMask & (1 << group.routes[0])) !== 0;
-    for (let t = 0; t < n; t++) {
-      const slot = b + 1 + t * slotWidth;
-      const axles = cur[slot + SLOT_AXLES];
-      const tag = cur[slot + SLOT_ROUTE];
-      const open = cur[slot + SLOT_OPEN] !== 0;
-      // Before entry the train ahead in the group; past it the train ahead on the same route.
-      const aheadShared = t > 0 ? lastAxle(cur, slot - slotWidth) : NONE_AHEAD;
-      let aheadOwn = NONE_AHEAD;
-      if (tag !== 0) {
-        for (let u = t - 1; u >= 0; u--) {
-          const other = b + 1 + u * slotWidth;
-          if (cur[other + SLOT_ROUTE] === tag) {
-            aheadOwn = lastAxle(cur, other);
-            break;
-          }
-        }
-      }
-      const route = tag === 0 ? first : routes[group.routes[tag - 1]];
-      // An unfixed train's path ends at entry: crossing it fixes the route.
-      const length = tag === 0 ? entry + 1 : route.path.length;
-      for (let k = 0; k < axles; k++) {
-        const p = cur[slot + SLOT_POS + k];
-        const ahead = p <= entry ? aheadShared : aheadOwn;
-        if (!axleMayCross(cur, slot, k, length, ahead, entry, proceed)) continue;
-        const input = route.pathInput[p];
-        const code = codes.pulseBase + ((g * maxTrains + t) * maxAxles + k) * codes.choices;
-        // The last shown axle of an open train goes on: only a train of exactly these axles can.
-        const closes = open && k === axles - 1;
-        const flags = closes ? MOVE_CLOSE | groupFlag : 0;
-        if (tag === 0 && k === 0 && p === entry) {
-          // §5: the route is the one of the group whose points all lie as reported now.
-          const matching = group.routeMask & facts.routesSetMask;
-          if (matching === 0) {
-            nxt.set(cur);
-            visit(code, input, MOVE_MISROUTED | flags);
-            continue;
-          }
-          for (let c = 0; c < group.routes.length; c++) {
-            if ((matching & (1 << group.routes[c])) === 0) continue;
-            nxt.set(cur);
-            nxt[slot + SLOT_POS] = p + 1;
-            nxt[slot + SLOT_ROUTE] = c + 1;
-            if (closes) nxt[slot + SLOT_OPEN] = 0;
-            visit(code + c + 1, input, flags);
-          }
-          continue;
-        }
-        nxt.set(cur);
-        nxt[slot + SLOT_POS + k] = p + 1;
-        if (closes) nxt[slot + SLOT_OPEN] = 0;
-        if (k === axles - 1 && p + 1 === length) {
-          // The last axle crossed the last exit: the train leaves; the trains behind move up.
-          nxt.copyWithin(slot, slot + slotWidth, b + 1 + maxTrains * slotWidth);
-          nxt.fill(0, b + 1 + (maxTrains - 1) * slotWidth, b + 1 + maxTrains * slotWidth);
-          nxt[b] = n - 1;
-        }
-        visit(code, input, flags);
-      }
-      if (open) {
-        // One more axle of an open train crosses the first detector (the one ahead has).
-        nxt.set(cur);
-        nxt[slot + SLOT_AXLES] = axles + 1;
-        nxt[slot + SLOT_POS + axles] = 1;
-        nxt[slot + SLOT_OPEN] = axles + 1 < maxAxles ? 1 : 0;
-        visit(codes.pulseBase + ((g * maxTrains + t) * maxAxles + axles) * codes.choices, route.pathInput[0], MOVE_REVEAL | groupFlag);
-      }
+  } else if (level === LAZY_SPLIT) {
+    streamMoves(model, pack, codes, facts, cur, nxt, visit, g);
+  } else if (n < maxTrains && (n === 0 || lastAxle(cur, b + 1 + (n - 1) * slotWidth) > 0)) {
+    // Lazy arrival: the new train's leading axle crosses the first detector at once (the train
+    // ahead has cleared it). With lazy length it is one open train, and a train ahead that was
+    // open is closed; otherwise one train of each length.
+    const slot = b + 1 + n * slotWidth;
+    const open = level === LAZY_LENGTH && maxAxles > 1;
+    let flags = MOVE_ARRIVAL | MOVE_FUSED;
+    if (n > 0 && cur[slot - slotWidth + SLOT_OPEN] !== 0) flags |= MOVE_CLOSE | groupFlag;
+    for (let a = 1; a <= (open ? 1 : maxAxles); a++) {
+      nxt.set(cur);
+      if (n > 0) nxt[slot - slotWidth + SLOT_OPEN] = 0;
+      nxt[b] = n + 1;
+      nxt[slot + SLOT_AXLES] = a;
+      nxt[slot + SLOT_OPEN] = open ? 1 : 0;
+      nxt[slot + SLOT_POS] = 1;
+      visit(g * maxAxles + (a - 1), first.pathInput[0], flags);
     }
   }
+  const entry = group.entryIndex;
+  const proceed = (proceedMask & (1 << group.routes[0])) !== 0;
+  for (let t = 0; t < n; t++) {
+    const slot = b + 1 + t * slotWidth;
+    const axles = cur[slot + SLOT_AXLES];
+    const tag = cur[slot + SLOT_ROUTE];
+    const open = cur[slot + SLOT_OPEN] !== 0;
+    // Before entry the train ahead in the group; past it the train ahead on the same route.
+    const aheadShared = t > 0 ? lastAxle(cur, slot - slotWidth) : NONE_AHEAD;
+    let aheadOwn = NONE_AHEAD;
+    if (tag !== 0) {
+      for (let u = t - 1; u >= 0; u--) {
+        const other = b + 1 + u * slotWidth;
+        if (cur[other + SLOT_ROUTE] === tag) {
+          aheadOwn = lastAxle(cur, other);
+          break;
+        }
+      }
+    }
+    const route = tag === 0 ? first : routes[group.routes[tag - 1]];
+    // An unfixed train's path ends at entry: crossing it fixes the route.
+    const length = tag === 0 ? entry + 1 : route.path.length;
+    for (let k = 0; k < axles; k++) {
+      const p = cur[slot + SLOT_POS + k];
+      const ahead = p <= entry ? aheadShared : aheadOwn;
+      if (!axleMayCross(cur, slot, k, length, ahead, entry, proceed)) continue;
+      const input = route.pathInput[p];
+      const code = codes.pulseBase + ((g * maxTrains + t) * maxAxles + k) * codes.choices;
+      // The last shown axle of an open train goes on: only a train of exactly these axles can.
+      const closes = open && k === axles - 1;
+      const flags = closes ? MOVE_CLOSE | groupFlag : 0;
+      if (tag === 0 && k === 0 && p === entry) {
+        // §5: the route is the one of the group whose points all lie as reported now.
+        const matching = group.routeMask & facts.routesSetMask;
+        if (matching === 0) {
+          nxt.set(cur);
+          visit(code, input, MOVE_MISROUTED | flags);
+          continue;
+        }
+        for (let c = 0; c < group.routes.length; c++) {
+          if ((matching & (1 << group.routes[c])) === 0) continue;
+          nxt.set(cur);
+          nxt[slot + SLOT_POS] = p + 1;
+          nxt[slot + SLOT_ROUTE] = c + 1;
+          if (closes) nxt[slot + SLOT_OPEN] = 0;
+          visit(code + c + 1, input, flags);
+        }
+        continue;
+      }
+      nxt.set(cur);
+      nxt[slot + SLOT_POS + k] = p + 1;
+      if (closes) nxt[slot + SLOT_OPEN] = 0;
+      if (k === axles - 1 && p + 1 === length) {
+        // The last axle crossed the last exit: the train leaves; the trains behind move up.
+        nxt.copyWithin(slot, slot + slotWidth, b + 1 + maxTrains * slotWidth);
+        nxt.fill(0, b + 1 + (maxTrains - 1) * slotWidth, b + 1 + maxTrains * slotWidth);
+        nxt[b] = n - 1;
+      }
+      visit(code, input, flags);
+    }
+    if (open) {
+      // One more axle of an open train crosses the first detector (the one ahead has).
+      nxt.set(cur);
+      nxt[slot + SLOT_AXLES] = axles + 1;
+      nxt[slot + SLOT_POS + axles] = 1;
+      nxt[slot + SLOT_OPEN] = axles + 1 < maxAxles ? 1 : 0;
+      visit(codes.pulseBase + ((g * maxTrains + t) * maxAxles + axles) * codes.choices, route.pathInput[0], MOVE_REVEAL | groupFlag);
+    }
+  }
+}
+
+/**
+ * The moves of no train: an armed quiet trigger fires, points move. `under` is
+ * {@link betweenMask} of the trains. When `cur` and `nxt` are given, `nxt` is set to `cur`
+ * before each visit (the trains do not change).
+ */
+export function sharedMoves(model: Model, codes: MoveCodes, facts: EngineFacts, under: number, visit: MoveVisitor, cur?: Uint8Array, nxt?: Uint8Array): void {
+  const proceedMask = facts.proceedMask;
   // An armed quiet trigger fires (at any time: the prover does not trust timing).
   const firstQuiet = model.pointsBase - model.quietRuleIds.length;
   for (const input of facts.armed) {
-    nxt.set(cur);
+    if (cur && nxt) nxt.set(cur);
     visit(codes.quietBase + (input - firstQuiet), input, 0);
   }
   // Points move: power-worked towards where last thrown, hand-worked while nothing is under them.
   if (facts.powerMoves.length === 0 && facts.handMoves.length === 0) return;
-  const under = betweenMask(model, pack, cur);
   for (const move of facts.powerMoves) {
     const neededBy = model.points[move.points].neededBy;
     const unlocked = move.starting && ((under | proceedMask) & neededBy) !== 0;
-    nxt.set(cur);
+    if (cur && nxt) nxt.set(cur);
     visit(codes.pointsBase + (move.input - model.pointsBase), move.input, unlocked ? MOVE_UNLOCKED : 0);
   }
   for (const move of facts.handMoves) {
     if ((under & model.points[move.points].neededBy) !== 0) continue;
-    nxt.set(cur);
+    if (cur && nxt) nxt.set(cur);
     visit(codes.pointsBase + (move.input - model.pointsBase), move.input, 0);
   }
 }
