@@ -75,54 +75,80 @@ export interface StateVerdict {
 }
 
 /**
- * Reads the state properties off a state. A train *occupies* its route's section from its
- * leading axle crossing entry (when its route is fixed) until it leaves; it *waits at its
- * signal* when its leading axle has crossed every approach detector but not entry.
- * `priority-unhindered` is broken when a train of the priority route's group waits at a danger
- * signal, no section is occupied and no other group has a train past its first approach detector.
+ * What one group's block of packed trains says, whatever the engine shows: the parts the state
+ * properties are made of ({@link combineGroups}). A train *occupies* its route's section from its
+ * leading axle crossing entry (when its route is fixed) until it leaves; it *waits at its signal*
+ * (when that shows danger) once its leading axle has crossed every approach detector but not entry.
  */
-export function judgeState(model: Model, pack: env.Packing, facts: EngineFacts, cur: Uint8Array): StateVerdict {
-  const proceed = facts.proceedMask;
+export interface GroupSummary {
+  /** A train of the group has crossed every approach detector but not entry. */
+  atSignal: boolean;
+  /** Bits of the routes whose sections the group's trains occupy. */
+  occupied: number;
+  /** Bits of those routes and of every route they conflict with. */
+  conflicts: number;
+  /** Two of the group's trains occupy sections of the same or conflicting routes. */
+  overlap: boolean;
+  /** A train of the group has crossed its first approach detector. */
+  crossed: boolean;
+}
+
+export function summariseGroup(model: Model, pack: env.Packing, cur: Uint8Array, g: number): GroupSummary {
   const { base, slotWidth } = pack;
+  const group = model.groups[g];
+  const n = cur[base[g]];
+  const out: GroupSummary = { atSignal: false, occupied: 0, conflicts: 0, overlap: false, crossed: false };
+  for (let t = 0; t < n; t++) {
+    const slot = base[g] + 1 + t * slotWidth;
+    const lead = cur[slot + SLOT_POS];
+    const tag = cur[slot + SLOT_ROUTE];
+    if (tag !== 0) {
+      // Fixed route ⇔ the leading axle has crossed entry: the train occupies the section.
+      const r = group.routes[tag - 1];
+      if ((out.conflicts & (1 << r)) !== 0) out.overlap = true;
+      out.occupied |= 1 << r;
+      out.conflicts |= (1 << r) | model.routes[r].conflictMask;
+    } else if (lead === group.entryIndex) out.atSignal = true;
+    if (lead > 0) out.crossed = true;
+  }
+  // Lazy split: a stream's front train has crossed the only approach detector.
+  if (cur[pack.stream[g]] > 0) {
+    out.atSignal = true;
+    out.crossed = true;
+  }
+  return out;
+}
+
+/**
+ * The state properties from the groups' summaries and the engine's facts. `priority-unhindered`
+ * is broken when a train of the priority route's group waits at a danger signal, no section is
+ * occupied and no other group has a train past its first approach detector.
+ */
+export function combineGroups(model: Model, facts: EngineFacts, summary: (g: number) => GroupSummary): StateVerdict {
+  const proceed = facts.proceedMask;
   const priorityGroup = model.priority >= 0 ? model.routes[model.priority].group : -1;
   let waitMask = 0;
-  let occupied = 0;
   let overlap = false;
-  let priorityWaits = false;
-  let othersAway = true;
+  let conflicts = 0;
   let anyOccupied = false;
+  let othersAway = true;
   for (const group of model.groups) {
     const g = group.index;
-    const n = cur[base[g]];
-    const signalProceeds = (proceed & (1 << group.routes[0])) !== 0;
-    for (let t = 0; t < n; t++) {
-      const slot = base[g] + 1 + t * slotWidth;
-      const lead = cur[slot + SLOT_POS];
-      const tag = cur[slot + SLOT_ROUTE];
-      if (tag !== 0) {
-        // Fixed route ⇔ the leading axle has crossed entry: the train occupies the section.
-        const r = group.routes[tag - 1];
-        anyOccupied = true;
-        if ((occupied & ((1 << r) | model.routes[r].conflictMask)) !== 0) overlap = true;
-        occupied |= 1 << r;
-      } else if (lead === group.entryIndex && !signalProceeds) {
-        waitMask |= 1 << g;
-        if (g === priorityGroup) priorityWaits = true;
-      }
-      if (g !== priorityGroup && lead > 0) othersAway = false;
-    }
-    // Lazy split: a stream's front train has crossed the only approach detector, so it waits.
-    if (cur[pack.stream[g]] > 0) {
-      if (!signalProceeds) {
-        waitMask |= 1 << g;
-        if (g === priorityGroup) priorityWaits = true;
-      }
-      if (g !== priorityGroup) othersAway = false;
-    }
+    const s = summary(g);
+    if (s.atSignal && (proceed & (1 << group.routes[0])) === 0) waitMask |= 1 << g;
+    if (s.overlap || (s.occupied & conflicts) !== 0) overlap = true;
+    conflicts |= s.conflicts;
+    if (s.occupied !== 0) anyOccupied = true;
+    if (g !== priorityGroup && s.crossed) othersAway = false;
   }
-  const priorityHindered =
-    priorityGroup >= 0 && priorityWaits && !anyOccupied && othersAway && (proceed & (1 << model.priority)) === 0;
+  const priorityWaits = priorityGroup >= 0 && (waitMask & (1 << priorityGroup)) !== 0;
+  const priorityHindered = priorityWaits && !anyOccupied && othersAway && (proceed & (1 << model.priority)) === 0;
   return { waitMask, overlap, priorityHindered };
+}
+
+/** Reads the state properties off a state (packed trains). */
+export function judgeState(model: Model, pack: env.Packing, facts: EngineFacts, cur: Uint8Array): StateVerdict {
+  return combineGroups(model, facts, (g) => summariseGroup(model, pack, cur, g));
 }
 
 /** Axles of a packed slot, for views: the number of detectors each axle has crossed. */
