@@ -8,14 +8,13 @@
 import mqtt, { type MqttClient } from "mqtt";
 import { QueryTypes } from "sequelize";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { LayoutDetail } from "@shared/contract/rest";
 import { topics } from "@shared/contract/live";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, SERVER_MQTT_USERNAME, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
+import { layoutRecords } from "../support/layoutRecords";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 const SLUG = "kestrel-bank";
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;
-type Records = Omit<LayoutDetail, "versions" | "liveVersion" | "archivedAt"> & { format: string };
 
 describe("records saved while a layout runs", () => {
   let t: TestApp;
@@ -40,18 +39,7 @@ describe("records saved while a layout runs", () => {
     await client.subscribeAsync(`blocklight/v1/${SLUG}/signal/#`, { qos: 1 });
     return seen;
   };
-  const recordsOf = async (): Promise<Records> => {
-    const res = await engineer.get(`/api/layouts/${SLUG}`);
-    expect(res.status).toBe(200);
-    const { versions: _v, liveVersion: _l, archivedAt: _a, schematic, ...rest } = res.body.layout as LayoutDetail;
-    return { format: "blocklight.layout/1", ...rest, ...(schematic ? { schematic } : {}) } as Records;
-  };
-  const save = async (change: (r: Records) => void) => {
-    const records = await recordsOf();
-    change(records);
-    const res = await engineer.put(`/api/layouts/${SLUG}`).send(records);
-    expect(res.status, JSON.stringify(res.body)).toBe(200);
-  };
+  const { save } = layoutRecords(() => engineer, SLUG);
   const q = <T extends object>(sql: string, replacements: Record<string, unknown> = {}) => t.deps.db.sequelize.query<T>(sql, { type: QueryTypes.SELECT, replacements });
 
   beforeAll(async () => {

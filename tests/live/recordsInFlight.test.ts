@@ -10,18 +10,18 @@
  */
 import { QueryTypes } from "sequelize";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
-import type { LayoutDetail } from "@shared/contract/rest";
 import { poolFromDeps } from "../../server/runtime/liveRuntime";
 import { RECORDS_WAIT_MS } from "../../server/runtime/recordsHold";
 import type { LayoutRunner } from "../../server/runtime/runner";
 import { connectBoard, issueBoardSecrets, KESTREL_BOARDS, onManualClock, startLiveHarness, waitFor, type Board, type LiveHarness } from "../support/live";
 import { ManualClock } from "../support/manualClock";
 import { gateQueries, type QueryGate } from "../support/queryGate";
+import { layoutRecords, type LayoutRecords } from "../support/layoutRecords";
 import { startTestApp, type TestApp } from "../support/testApp";
 
 const SLUG = "kestrel-bank";
 type Agent = Awaited<ReturnType<TestApp["signIn"]>>;
-type Records = Omit<LayoutDetail, "versions" | "liveVersion" | "archivedAt"> & { format: string };
+type Records = LayoutRecords;
 type Row = { seq: string | null; status: string; reason: string | null; detector: string | null; kind: string };
 
 describe("board messages while saved records are being reloaded", () => {
@@ -41,18 +41,7 @@ describe("board messages while saved records are being reloaded", () => {
   /** What is stored for one boot of a board, in the order the runner stored it. */
   const rows = (node: string, boot: string) =>
     q<Row>(`SELECT seq, status, reason, detector, kind FROM events WHERE node_id = :node AND boot = :boot AND kind <> 'status' ORDER BY id`, { node, boot });
-  const recordsOf = async (): Promise<Records> => {
-    const res = await engineer.get(`/api/layouts/${SLUG}`);
-    expect(res.status).toBe(200);
-    const { versions: _v, liveVersion: _l, archivedAt: _a, schematic, ...rest } = res.body.layout as LayoutDetail;
-    return { format: "blocklight.layout/1", ...rest, ...(schematic ? { schematic } : {}) } as Records;
-  };
-  const save = async (change: (r: Records) => void) => {
-    const records = await recordsOf();
-    change(records);
-    const res = await engineer.put(`/api/layouts/${SLUG}`).send(records);
-    expect(res.status, JSON.stringify(res.body)).toBe(200);
-  };
+  const { save } = layoutRecords(() => engineer, SLUG);
   const node = (r: Records, id: string) => r.nodes.find((n) => n.id === id)!;
   const move = (r: Records, what: "detectors" | "points", id: string, from: string, to: string) => {
     const source = node(r, from);

@@ -195,8 +195,8 @@ export type MoveVisitor = (code: number, input: number, flags: number) => void;
  * for each group its arrivals then its axle crossings, then quiet firings, then points moves.
  * Before each call of `visit`, `nxt` is filled with the trains after the move (for a misrouted
  * crossing, which has no successor, with the trains as they were). `level` selects the
- * environment: {@link PLAIN} (§5 as written), {@link LAZY_ARRIVAL} or {@link LAZY_LENGTH} (both
- * reductions of the module notes).
+ * environment: {@link PLAIN} (§5 as written), {@link LAZY_ARRIVAL}, {@link LAZY_LENGTH} or
+ * {@link LAZY_SPLIT} (the reductions of the module notes).
  */
 export function forEachMove(
   model: Model,
@@ -213,10 +213,38 @@ export function forEachMove(
   sharedMoves(model, codes, facts, points ? betweenMask(model, pack, cur) : 0, visit, cur, nxt);
 }
 
+/** The move `code` from (facts, trains `cur`): its input, flags and the trains after it (throws when it is none of the state's moves). */
+export function findMove(
+  model: Model,
+  pack: Packing,
+  codes: MoveCodes,
+  facts: EngineFacts,
+  cur: Uint8Array,
+  code: number,
+  level: Reduction,
+): { input: number; flags: number; after: Uint8Array } {
+  const nxt = new Uint8Array(pack.width);
+  let found: { input: number; flags: number; after: Uint8Array } | undefined;
+  forEachMove(
+    model,
+    pack,
+    codes,
+    facts,
+    cur,
+    nxt,
+    (c, input, flags) => {
+      if (c === code && found === undefined) found = { input, flags, after: nxt.slice() };
+    },
+    level,
+  );
+  if (!found) throw new Error(`move code ${code} is not a move of this state`);
+  return found;
+}
+
 /**
  * The moves of group `g`'s trains: they read only the group's own block of `cur` and, of the
  * engine, whether its signal shows a proceed and which of its routes are set; `nxt` differs from
- * `cur` only in that block. (The search compiles each group's moves once per block, search.ts.)
+ * `cur` only in that block.
  */
 export function groupMoves(
   model: Model,

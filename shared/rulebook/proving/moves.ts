@@ -4,7 +4,7 @@
  * means exactly what the search meant by it.
  */
 import type { EngineFacts } from "./abstraction";
-import { forEachMove, MOVE_FUSED, MOVE_REVEAL, PLAIN, SLOT_OPEN, SLOT_ROUTE, type MoveCodes, type Packing, type Reduction } from "./environment";
+import { findMove, MOVE_FUSED, MOVE_REVEAL, PLAIN, SLOT_OPEN, SLOT_ROUTE, type MoveCodes, type Packing, type Reduction } from "./environment";
 import { REPORTED_LIES, type Model } from "./model";
 import type { PointsLie } from "../schema";
 
@@ -70,21 +70,7 @@ export function describeMove(
   level: Reduction = PLAIN,
 ): { moves: Move[]; after: Uint8Array; input: number; flags: number; train: number } {
   const cur = step.trains;
-  const nxt = new Uint8Array(pack.width);
-  let found: { input: number; after: Uint8Array; flags: number } | undefined;
-  forEachMove(
-    model,
-    pack,
-    codes,
-    step.facts,
-    cur,
-    nxt,
-    (code, input, flags) => {
-      if (code === step.code && found === undefined) found = { input, after: nxt.slice(), flags };
-    },
-    level,
-  );
-  if (!found) throw new Error(`move code ${step.code} is not a move of this state`);
+  const found = findMove(model, pack, codes, step.facts, cur, step.code, level);
   const { input, after, flags } = found;
   const c = step.code;
   const detectorOf = (i: number): string => (model.inputs[i] as { detector: string }).detector;

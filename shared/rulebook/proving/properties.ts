@@ -93,11 +93,16 @@ export interface GroupSummary {
   crossed: boolean;
 }
 
-export function summariseGroup(model: Model, pack: env.Packing, cur: Uint8Array, g: number): GroupSummary {
+/** Fills `out` (a fresh summary by default) with group g's summary of `cur`. */
+export function summariseGroup(model: Model, pack: env.Packing, cur: Uint8Array, g: number, out: GroupSummary = emptySummary()): GroupSummary {
   const { base, slotWidth } = pack;
   const group = model.groups[g];
   const n = cur[base[g]];
-  const out: GroupSummary = { atSignal: false, occupied: 0, conflicts: 0, overlap: false, crossed: false };
+  out.atSignal = false;
+  out.occupied = 0;
+  out.conflicts = 0;
+  out.overlap = false;
+  out.crossed = false;
   for (let t = 0; t < n; t++) {
     const slot = base[g] + 1 + t * slotWidth;
     const lead = cur[slot + SLOT_POS];
@@ -146,9 +151,16 @@ export function combineGroups(model: Model, facts: EngineFacts, summary: (g: num
   return { waitMask, overlap, priorityHindered };
 }
 
+function emptySummary(): GroupSummary {
+  return { atSignal: false, occupied: 0, conflicts: 0, overlap: false, crossed: false };
+}
+
+/** One summary filled for each group in turn (the search calls this for every state). */
+const scratch = emptySummary();
+
 /** Reads the state properties off a state (packed trains). */
 export function judgeState(model: Model, pack: env.Packing, facts: EngineFacts, cur: Uint8Array): StateVerdict {
-  return combineGroups(model, facts, (g) => summariseGroup(model, pack, cur, g));
+  return combineGroups(model, facts, (g) => summariseGroup(model, pack, cur, g, scratch));
 }
 
 /** Axles of a packed slot, for views: the number of detectors each axle has crossed. */

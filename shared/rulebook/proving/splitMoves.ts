@@ -7,8 +7,7 @@
  * written out with each train's `arrive` just before its first crossing and trains numbered in
  * order of arrival.
  */
-import type { EngineFacts } from "./abstraction";
-import { forEachMove, LAZY_SPLIT, MOVE_REVEAL, MOVE_SPLIT, type MoveCodes, type Packing } from "./environment";
+import { findMove, LAZY_SPLIT, MOVE_REVEAL, MOVE_SPLIT, type MoveCodes, type Packing } from "./environment";
 import { REPORTED_LIES, type Model } from "./model";
 import type { Move, PathStep } from "./moves";
 
@@ -42,7 +41,7 @@ export function decodeSplitPath(model: Model, pack: Packing, codes: MoveCodes, s
   };
 
   for (const step of steps) {
-    const found = moveOf(model, pack, codes, step.facts, step.trains, step.code);
+    const found = findMove(model, pack, codes, step.facts, step.trains, step.code, LAZY_SPLIT);
     const c = step.code;
     if (c < codes.pulseBase) {
       // One more axle of the group's stream crosses the first detector.
@@ -103,24 +102,4 @@ export function decodeSplitPath(model: Model, pack: Packing, codes: MoveCodes, s
     out.push({ type: "pulse", detector: e.pulse, route: e.routeFixed && train.route ? train.route : firstRoute, train: train.number! });
   });
   return out;
-}
-
-/** The move of `code` from (facts, trains): its input, flags and the trains after it. */
-function moveOf(model: Model, pack: Packing, codes: MoveCodes, facts: EngineFacts, cur: Uint8Array, code: number): { input: number; flags: number; after: Uint8Array } {
-  const nxt = new Uint8Array(pack.width);
-  let found: { input: number; flags: number; after: Uint8Array } | undefined;
-  forEachMove(
-    model,
-    pack,
-    codes,
-    facts,
-    cur,
-    nxt,
-    (c, input, flags) => {
-      if (c === code && found === undefined) found = { input, flags, after: nxt.slice() };
-    },
-    LAZY_SPLIT,
-  );
-  if (!found) throw new Error(`move code ${code} is not a move of this state`);
-  return found;
 }
