@@ -2,8 +2,8 @@
  * Proving over REST and socket.io: `POST /api/prove` on a layout file, and proof jobs of
  * stored versions that run in worker threads, report progress, can be cancelled, and store
  * their result on the version (draft → proved only when every property holds).
- * State spaces are kept small where the test allows (the demo junction, 8 axles × 2 trains a
- * route, proves in about 170,000 states).
+ * State spaces are kept small where the test allows (the demo junction, 8 axles × 3 trains a
+ * route, proves in about 675,000 states).
  */
 import http from "node:http";
 import type { AddressInfo } from "node:net";
@@ -42,7 +42,8 @@ function brokenKestrelBank(): LayoutFile {
 /** The demo rulebook with a state space big enough to be still running when cancelled. */
 function slowRulebook(): Rulebook {
   const rulebook = structuredClone(kestrelBankLayout().rulebook);
-  rulebook.proving = { ...rulebook.proving!, maxAxles: 4, maxTrainsPerRoute: 4 };
+  // About 2,000,000 states (some seconds): cancelled after its first progress report.
+  rulebook.proving = { ...rulebook.proving!, maxAxles: 8, maxTrainsPerRoute: 4 };
   return rulebook;
 }
 
@@ -221,8 +222,8 @@ describe("proof jobs of stored versions", () => {
 
   it("pushes progress and the end of a job to a watching socket", async () => {
     const rulebook = structuredClone(kestrelBankLayout().rulebook);
-    // About 400,000 states: long enough for several progress pushes.
-    rulebook.proving = { ...rulebook.proving!, maxAxles: 3, maxTrainsPerRoute: 3 };
+    // About 440,000 states: long enough for several progress pushes.
+    rulebook.proving = { ...rulebook.proving!, maxAxles: 6, maxTrainsPerRoute: 4 };
     const version = await saveDraft(engineer, rulebook);
     const socket: Socket<ServerToClientEvents, ClientToServerEvents> = ioClient(url, {
       transports: ["websocket"],

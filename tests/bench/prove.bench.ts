@@ -3,13 +3,14 @@
  * heap and the machine's load average (other processes share the 2 cores: read the times with it):
  * - `prove.kestrel_bank_ms`: the demo's Kestrel Bank Junction as published (three routes since
  *   its loco-shed road: main, branch, shed; 4 axles × 2 trains a route).
- * - `prove.kestrel_bank_8x3_ms`: the same at 8 axles × 3 trains a route (goal < 10 s; today it
- *   stops at the limit below); `…_verdict` says which: 1 proved, 0 unfinished.
+ * - `prove.kestrel_bank_8x3_ms`: the same at 8 axles × 3 trains a route (goal < 10 s);
+ *   `…_verdict` says whether it finished: 1 proved, 0 unfinished.
  * - `prove.kestrel_two_route_8x2_ms` / `_8x3_ms`: Kestrel Bank as issue 13 measured it, before
- *   the shed road (tests/fixtures/kestrelTwoRoutes.ts): 8 × 3 proves with 10,932,481 states in
- *   about 1 GB of search storage, when the CPU it needs fits in the limit below.
- * - `prove.three_route_8x3_ms`: the three-route converging template at 8 axles × 3 trains (same),
- *   and `prove.three_route_3x2_ms`, the largest three-route case that finishes quickly.
+ *   the shed road (tests/fixtures/kestrelTwoRoutes.ts).
+ * - `prove.three_route_8x3_ms`: the three-route converging template at 8 axles × 3 trains,
+ *   and `prove.three_route_3x2_ms`, a small three-route case.
+ * - `…_deferred_groups`: how many groups' stream axles waited until their group was ready
+ *   (shared/rulebook/proving/deferral.ts); 0 where the rulebook does not allow it.
  * - `prove.wrenfold_power_ms`, `prove.wrenfold_hand_ms`: the facing template as at Wrenfold Loop
  *   (8 axles × 3 trains), power- and hand-worked points.
  * - `spin.*`: SPIN 6.5.2 (Debian package spin) on the same rulebook and §5 environment (the
@@ -27,7 +28,7 @@ import { toPromela } from "@shared/rulebook/promela";
 import { prove } from "@shared/rulebook/prove";
 import type { Rulebook } from "@shared/rulebook/schema";
 import { convergingJunction } from "@shared/rulebook/templates";
-import { wrenfoldFacing } from "../fixtures/junctions";
+import { threeRoutes, wrenfoldFacing } from "../fixtures/junctions";
 import { runSpin, spinAvailable, type SpinRun } from "../support/spin";
 import type { Report } from "./run";
 
@@ -39,13 +40,9 @@ const BENCH_SPIN_MAX_MS = 300_000;
 /** pan's memory limit in the bench (the machine has 23 GB, shared). */
 const BENCH_SPIN_MEMORY_MB = 3072;
 
-function threeRoutes(maxAxles: number, maxTrainsPerRoute: number): Rulebook {
+function threeRouteJunction(maxAxles: number, maxTrainsPerRoute: number): Rulebook {
   return convergingJunction({
-    routes: [
-      { id: "up", signal: "U1", approach: ["UA"], entry: "UE", exit: ["JX"] },
-      { id: "down", signal: "D1", approach: ["DA"], entry: "DE", exit: ["JX"] },
-      { id: "goods", signal: "G1", approach: ["GA"], entry: "GE", exit: ["JX"] },
-    ],
+    routes: threeRoutes(),
     order: "priority",
     priority: "up",
     maxAxles,
@@ -87,6 +84,7 @@ function measure(report: Report, name: string, rulebook: Rulebook, points?: Reco
   report(`${name}_states_per_s`, Math.round(result.stats.states / (result.stats.ms / 1000)), "states/s");
   report(`${name}_peak_heap_mb`, peakHeap / 1048576, "MB");
   report(`${name}_search_mb`, result.stats.bytes / 1048576, "MB");
+  report(`${name}_deferred_groups`, result.stats.deferredGroups ?? 0, "groups whose stream axles wait until the group is ready");
   report(`${name}_load_avg`, load, "");
   return { cpuMs, proved: result.verdict === "proved" };
 }
@@ -140,8 +138,8 @@ export async function run(report: Report): Promise<void> {
     kestrel_bank_8x3: measure(report, "prove.kestrel_bank_8x3", withTrains(kestrel, 8, 3)),
     kestrel_two_route_8x2: measure(report, "prove.kestrel_two_route_8x2", withTrains(twoRoute, 8, 2)),
     kestrel_two_route_8x3: measure(report, "prove.kestrel_two_route_8x3", withTrains(twoRoute, 8, 3)),
-    three_route_3x2: measure(report, "prove.three_route_3x2", threeRoutes(3, 2)),
-    three_route_8x3: measure(report, "prove.three_route_8x3", threeRoutes(8, 3)),
+    three_route_3x2: measure(report, "prove.three_route_3x2", threeRouteJunction(3, 2)),
+    three_route_8x3: measure(report, "prove.three_route_8x3", threeRouteJunction(8, 3)),
     wrenfold_power: measure(report, "prove.wrenfold_power", wrenfold("power"), { P2: "power" }),
     wrenfold_hand: measure(report, "prove.wrenfold_hand", wrenfold("hand"), { P2: "hand" }),
   };
@@ -152,10 +150,10 @@ export async function run(report: Report): Promise<void> {
     // where the hash table gets the largest size the memory limit allows.
     await measureSpin(report, "kestrel_bank", ours.kestrel_bank, kestrel, { states: 10_000_000 });
     await measureSpin(report, "kestrel_two_route_8x2", ours.kestrel_two_route_8x2, withTrains(twoRoute, 8, 2), { states: 9_795_350 });
-    await measureSpin(report, "three_route_3x2", ours.three_route_3x2, threeRoutes(3, 2), { states: 1_327_148 });
+    await measureSpin(report, "three_route_3x2", ours.three_route_3x2, threeRouteJunction(3, 2), { states: 1_327_148 });
     await measureSpin(report, "wrenfold_power", ours.wrenfold_power, wrenfold("power"), { states: 459_812, points: { P2: "power" } });
     await measureSpin(report, "wrenfold_hand", ours.wrenfold_hand, wrenfold("hand"), { states: 535_880, points: { P2: "hand" } });
     await measureSpin(report, "kestrel_bank_8x3", ours.kestrel_bank_8x3, withTrains(kestrel, 8, 3), { states: 1e9 });
-    await measureSpin(report, "three_route_8x3", ours.three_route_8x3, threeRoutes(8, 3), { states: 1e9 });
+    await measureSpin(report, "three_route_8x3", ours.three_route_8x3, threeRouteJunction(8, 3), { states: 1e9 });
   }
 }

@@ -6,6 +6,7 @@
  */
 import fc from "fast-check";
 import { rulebookSchema, type Action, type Condition, type Rule, type Rulebook } from "@shared/rulebook/schema";
+import { convergingJunction } from "@shared/rulebook/templates";
 import { kestrelRoutes } from "../fixtures/junctions";
 
 export const COUNTERS = ["a", "b"] as const;
@@ -145,6 +146,58 @@ export function facingRulebookArb(limits: { maxAxles: number; maxTrains: number 
           maxAxles,
           maxTrainsPerRoute,
         },
+      });
+    });
+}
+
+/**
+ * The converging template (priority or first-come, two routes) with random rules added: the
+ * template's approach counters are the kind whose stream axles the prover may defer
+ * (shared/rulebook/proving/deferral.ts), and the added rules read them, sometimes in ways that
+ * tell "one" from "more" and sometimes change them or react to the approach detector, which
+ * must turn the deferral off for that route. The approach step is 1 or 2 a axle.
+ */
+export function countingRulebookArb(limits: { maxAxles: number; maxTrains: number }): fc.Arbitrary<Rulebook> {
+  const approach = ["mainApproach", "branchApproach"] as const;
+  const condition = conditionArb(
+    [
+      fc.record({ selector: fc.constant("route"), is: fc.constantFrom("none", "main", "branch") }),
+      fc.record({ count: fc.constantFrom(...approach, "junction"), op: fc.constantFrom("==", "!=", ">", "<=", ">=", "<"), value: fc.integer({ min: 0, max: 3 }) }) as fc.Arbitrary<Condition>,
+    ],
+    fc.record({ aspect: fc.constantFrom("M1", "B1"), is: fc.constantFrom("danger" as const, "clear" as const) }),
+  );
+  const action = fc.oneof(
+    { arbitrary: fc.oneof(...counterActions), weight: 3 },
+    { arbitrary: fc.record({ select: fc.constant("route"), value: fc.constantFrom("none", "main", "branch") }), weight: 2 },
+    { arbitrary: fc.record({ show: fc.constantFrom("M1", "B1"), aspect: fc.constantFrom("danger" as const, "clear" as const) }), weight: 2 },
+    { arbitrary: fc.record({ add: fc.constantFrom(...approach), by: fc.constantFrom(1, -1) }), weight: 1 },
+  );
+  const trigger = fc.oneof(
+    { arbitrary: fc.constant("standing" as const), weight: 4 },
+    { arbitrary: fc.constantFrom("ME", "BE", "JX").map((pass) => ({ pass })), weight: 3 },
+    { arbitrary: fc.constantFrom("MA", "BA").map((pass) => ({ pass })), weight: 1 },
+    { arbitrary: fc.constantFrom("ME", "JX", "MA").map((quiet) => ({ quiet, ms: 2000 })), weight: 1 },
+  );
+  const rule = fc.record({ on: trigger, if: fc.option(condition, { nil: undefined }), do: fc.array(action, { minLength: 1, maxLength: 2 }) });
+  return fc
+    .record({
+      extra: fc.array(rule, { minLength: 0, maxLength: 3 }),
+      step: fc.constantFrom(1, 2),
+      order: fc.constantFrom("priority" as const, "first-come" as const),
+      maxAxles: fc.integer({ min: 1, max: limits.maxAxles }),
+      maxTrainsPerRoute: fc.integer({ min: 1, max: limits.maxTrains }),
+    })
+    .map(({ extra, step, order, maxAxles, maxTrainsPerRoute }) => {
+      const base = convergingJunction({ routes: kestrelRoutes(), order, priority: "main", maxAxles, maxTrainsPerRoute });
+      const stepped = base.rules.map((r) => ({
+        ...r,
+        do: r.do.map((a) => ("add" in a && (approach as readonly string[]).includes(a.add) ? { add: a.add, by: a.by * step } : a)),
+      }));
+      return rulebookSchema.parse({
+        ...base,
+        latches: { ...base.latches, x: false },
+        counters: { ...base.counters, a: 0, b: 0 },
+        rules: [...stepped, ...capped(extra).map((r) => ({ ...r, id: `extra-${r.id}` }))],
       });
     });
 }

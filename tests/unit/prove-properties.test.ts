@@ -10,6 +10,7 @@ import { PROPERTIES, PROPERTY_IDS, prove, replayCounterexample, type PropertyId 
 import { rulebookSchema, type Rule, type Rulebook, type RulebookInput } from "@shared/rulebook/schema";
 import { KESTREL_MAX_AXLES, KESTREL_MAX_TRAINS, kestrelBankLayout, wrenfoldLoopLayout } from "@shared/demo/fernmoor";
 import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
+import { threeRoutes } from "../fixtures/junctions";
 
 /** Two routes converging at a junction with a shared clearance detector JX. */
 const TWO_ROUTES = [
@@ -506,11 +507,7 @@ describe("the prover proves sound rulebooks", () => {
     [
       "converging, first-come, 3 routes",
       convergingJunction({
-        routes: [
-          { id: "up", signal: "U1", approach: ["UA"], entry: "UE", exit: ["JX"] },
-          { id: "down", signal: "D1", approach: ["DA"], entry: "DE", exit: ["JX"] },
-          { id: "goods", signal: "G1", approach: ["GA"], entry: "GE", exit: ["JX"] },
-        ],
+        routes: threeRoutes(),
         order: "first-come",
         maxAxles: 2,
         maxTrainsPerRoute: 1,
@@ -558,29 +555,24 @@ describe("the prover proves sound rulebooks", () => {
     expect(prove(layout.rulebook).verdict).toBe("proved");
   }, 60_000);
 
+  /** Big enough (about 150,000 states, reduced) that progress is reported several times. */
+  const threeRoutesThreeTrains = (): Rulebook =>
+    convergingJunction({
+      routes: threeRoutes(),
+      order: "priority",
+      maxAxles: 6,
+      maxTrainsPerRoute: 3,
+    });
+
   it("never says proved when it stops at a limit", () => {
-    const rulebook = templates[0][1];
-    const result = prove(rulebook, { maxStates: 100 });
+    const result = prove(threeRoutesThreeTrains(), { maxStates: 1000 });
     expect(result.verdict).toBe("unfinished");
     expect(result.reason).toMatch(/state limit/);
     expect(result.properties.every((p) => p.holds === null)).toBe(true);
   });
 
-  /** Big enough (over 100,000 states, reduced) that progress is reported several times. */
-  const threeRoutesTwoTrains = (): Rulebook =>
-    convergingJunction({
-      routes: [
-        { id: "up", signal: "U1", approach: ["UA"], entry: "UE", exit: ["JX"] },
-        { id: "down", signal: "D1", approach: ["DA"], entry: "DE", exit: ["JX"] },
-        { id: "goods", signal: "G1", approach: ["GA"], entry: "GE", exit: ["JX"] },
-      ],
-      order: "priority",
-      maxAxles: 4,
-      maxTrainsPerRoute: 2,
-    });
-
   it("stops when cancelled and reports progress", () => {
-    const rulebook = threeRoutesTwoTrains();
+    const rulebook = threeRoutesThreeTrains();
     const seen: { states: number; frontier: number; depth: number }[] = [];
     const result = prove(rulebook, { onProgress: (p) => seen.push(p), shouldCancel: () => seen.length >= 2 });
     expect(result.verdict).toBe("unfinished");
@@ -592,7 +584,7 @@ describe("the prover proves sound rulebooks", () => {
 
   it("stops at the time limit with an injected clock", () => {
     let clock = 0;
-    const result = prove(threeRoutesTwoTrains(), { now: () => (clock += 1000), maxMs: 5000 });
+    const result = prove(threeRoutesThreeTrains(), { now: () => (clock += 1000), maxMs: 5000 });
     expect(result.verdict).toBe("unfinished");
     expect(result.reason).toMatch(/time limit/);
   });

@@ -8,9 +8,11 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { prove, replayCounterexample, type ProofResult, type PropertyId } from "@shared/rulebook/prove";
+import { deferrableGroups } from "@shared/rulebook/proving/deferral";
+import { compileModel } from "@shared/rulebook/proving/model";
 import { rulebookSchema, type Rulebook } from "@shared/rulebook/schema";
 import { convergingJunction, facingJunction } from "@shared/rulebook/templates";
-import { convergingRulebookArb, facingRulebookArb } from "../support/randomRulebooks";
+import { convergingRulebookArb, countingRulebookArb, facingRulebookArb } from "../support/randomRulebooks";
 
 /** Rulebooks whose plain state space is bigger than this are left out (the plain search is slow). */
 const PLAIN_MAX_STATES = 40_000;
@@ -18,6 +20,8 @@ const PLAIN_MAX_STATES = 40_000;
 interface Compared {
   refuted: PropertyId[];
   lazyLength: boolean;
+  /** Some group's stream axles were deferred (deferral.ts). */
+  deferred: boolean;
 }
 
 function compare(rulebook: Rulebook): Compared | null {
@@ -39,6 +43,8 @@ function compare(rulebook: Rulebook): Compared | null {
   return {
     refuted: reduced.properties.filter((p) => p.holds === false).map((p) => p.id),
     lazyLength: rulebook.proving!.maxAxles > 1,
+    // From the model: a proof that finds a stuck candidate answers from a second search without deferral.
+    deferred: deferrableGroups(compileModel(rulebook)) !== 0,
   };
 }
 
@@ -66,6 +72,35 @@ describe("the reduced search agrees with the plain search", () => {
     for (const id of ["no-stuck-train", "no-conflicting-proceeds", "one-train-per-section", "no-underflow"] as const) {
       expect(seen.filter((c) => c.refuted.includes(id)).length, id).toBeGreaterThan(0);
     }
+  }, 240_000);
+
+  it("on random counting junctions, where stream axles are deferred (up to 3 axles, 3 trains a route)", () => {
+    const samples = fc.sample(countingRulebookArb({ maxAxles: 3, maxTrains: 3 }), { numRuns: 160, seed: 20261207 });
+    const seen = samples.map(compare).filter((c): c is Compared => c !== null);
+    const deferred = seen.filter((c) => c.deferred);
+    expect(seen.length).toBeGreaterThan(100);
+    expect(deferred.length).toBeGreaterThan(60);
+    // Deferral on and off both met (added rules that tell "one" from "more" turn it off).
+    expect(seen.length - deferred.length).toBeGreaterThan(5);
+    for (const id of ["no-stuck-train", "no-conflicting-proceeds", "one-train-per-section", "priority-unhindered"] as const) {
+      expect(deferred.filter((c) => c.refuted.includes(id)).length, id).toBeGreaterThan(0);
+    }
+    expect(deferred.filter((c) => c.refuted.length === 0).length, "proved with deferral").toBeGreaterThan(0);
+  }, 240_000);
+
+  it("with deferral and without, past the plain search's reach (4 axles, 3 trains a route)", () => {
+    const samples = fc.sample(countingRulebookArb({ maxAxles: 4, maxTrains: 3 }), { numRuns: 40, seed: 20261208 });
+    let deferred = 0;
+    for (const rulebook of samples) {
+      const all = prove(rulebook, { noDeferral: true, maxStates: 400_000 });
+      if (all.stoppedBy !== undefined) continue;
+      const fewer = prove(rulebook);
+      const where = `on\n${JSON.stringify(rulebook)}`;
+      expect(summary(fewer), where).toEqual(summary(all));
+      expect(fewer.stats.states).toBeLessThanOrEqual(all.stats.states);
+      if ((fewer.stats.deferredGroups ?? 0) > 0) deferred++;
+    }
+    expect(deferred).toBeGreaterThan(15);
   }, 240_000);
 
   it("on random facing junctions with points (rulebook /2, power and hand, up to 3 axles, 2 trains)", () => {

@@ -196,7 +196,8 @@ export type MoveVisitor = (code: number, input: number, flags: number) => void;
  * Before each call of `visit`, `nxt` is filled with the trains after the move (for a misrouted
  * crossing, which has no successor, with the trains as they were). `level` selects the
  * environment: {@link PLAIN} (§5 as written), {@link LAZY_ARRIVAL}, {@link LAZY_LENGTH} or
- * {@link LAZY_SPLIT} (the reductions of the module notes).
+ * {@link LAZY_SPLIT} (the reductions of the module notes). With lazy split, `defer` (bit per
+ * group, deferral.ts) leaves out the stream axles those groups may defer.
  */
 export function forEachMove(
   model: Model,
@@ -207,8 +208,9 @@ export function forEachMove(
   nxt: Uint8Array,
   visit: MoveVisitor,
   level: Reduction = PLAIN,
+  defer = 0,
 ): void {
-  for (let g = 0; g < model.groups.length; g++) groupMoves(model, pack, codes, facts, cur, nxt, visit, level, g);
+  for (let g = 0; g < model.groups.length; g++) groupMoves(model, pack, codes, facts, cur, nxt, visit, level, g, defer);
   const points = facts.powerMoves.length > 0 || facts.handMoves.length > 0;
   sharedMoves(model, codes, facts, points ? betweenMask(model, pack, cur) : 0, visit, cur, nxt);
 }
@@ -256,6 +258,7 @@ export function groupMoves(
   visit: MoveVisitor,
   level: Reduction,
   g: number,
+  defer = 0,
 ): void {
   const { maxAxles, maxTrains, groups, routes } = model;
   const { base, slotWidth } = pack;
@@ -274,7 +277,7 @@ export function groupMoves(
       visit(g * maxAxles + (a - 1), -1, MOVE_ARRIVAL);
     }
   } else if (level === LAZY_SPLIT) {
-    streamMoves(model, pack, codes, facts, cur, nxt, visit, g);
+    streamMoves(model, pack, codes, facts, cur, nxt, visit, g, (defer & (1 << g)) !== 0);
   } else if (n < maxTrains && (n === 0 || lastAxle(cur, b + 1 + (n - 1) * slotWidth) > 0)) {
     // Lazy arrival: the new train's leading axle crosses the first detector at once (the train
     // ahead has cleared it). With lazy length it is one open train, and a train ahead that was
@@ -405,8 +408,20 @@ export function sharedMoves(model: Model, codes: MoveCodes, facts: EngineFacts, 
  * `⌈N/maxAxles⌉`, each an arrival worth one move more; a move that needs one more train than that
  * is worth two ({@link MOVE_FUSED}). So every state is at the depth of the shortest §5 run to any
  * of the states it stands for, and a path's price is that of a §5 run (moves.ts decodes it).
+ * `deferred`: one more axle of a non-empty stream is taken only while the front may cross entry
+ * (deferral.ts).
  */
-function streamMoves(model: Model, pack: Packing, codes: MoveCodes, facts: EngineFacts, cur: Uint8Array, nxt: Uint8Array, visit: MoveVisitor, g: number): void {
+function streamMoves(
+  model: Model,
+  pack: Packing,
+  codes: MoveCodes,
+  facts: EngineFacts,
+  cur: Uint8Array,
+  nxt: Uint8Array,
+  visit: MoveVisitor,
+  g: number,
+  deferred: boolean,
+): void {
   const { maxAxles: B, maxTrains, groups, routes } = model;
   const { base, slotWidth } = pack;
   const group = groups[g];
@@ -431,14 +446,15 @@ function streamMoves(model: Model, pack: Packing, codes: MoveCodes, facts: Engin
     }
     return;
   }
-  if (N + 1 <= free * B) {
+  const entry = group.entryIndex;
+  // The front may cross entry: the signal shows a proceed and the train ahead has cleared entry.
+  const ready = (facts.proceedMask & (1 << group.routes[0])) !== 0 && (n === 0 || lastAxle(cur, lastSlot) > entry);
+  if (N + 1 <= free * B && (ready || !deferred)) {
     nxt.set(cur);
     nxt[at] = N + 1;
     visit(g * B, first.pathInput[0], MOVE_ARRIVAL | (Math.ceil((N + 1) / B) > Math.ceil(N / B) ? MOVE_FUSED : 0));
   }
-  const entry = group.entryIndex;
-  if ((facts.proceedMask & (1 << group.routes[0])) === 0) return;
-  if (n > 0 && lastAxle(cur, lastSlot) <= entry) return;
+  if (!ready) return;
   const input = first.pathInput[entry];
   const slotCode = codes.pulseBase + (g * maxTrains + n) * B * codes.choices;
   const matching = group.routeMask & facts.routesSetMask;

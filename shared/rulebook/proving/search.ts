@@ -29,6 +29,7 @@ import {
   SLOT_OPEN,
   type Reduction,
 } from "./environment";
+import { deferrableGroups } from "./deferral";
 import { compileModel, type Model, type PointsWorking } from "./model";
 import { decodePath, type Move, type PathStep } from "./moves";
 import { decodeSplitPath } from "./splitMoves";
@@ -58,6 +59,8 @@ export interface ProofResult {
     bytes: number;
     /** How `no-stuck-train` was decided, when it was (stuck.ts): one pass in progress order, or a worklist. */
     noStuckPass?: StuckPass;
+    /** Groups whose stream axles waited until the group was ready (deferral.ts), when any did. */
+    deferredGroups?: number;
   };
   /** Why the verdict is "unfinished" (limit reached, cancelled, nothing to prove), in words. */
   reason?: string;
@@ -87,6 +90,8 @@ export interface ProveOptions {
   plain?: boolean;
   /** Decide `no-stuck-train` by the worklist even when the progress order would do (cross-checks). */
   stuckByWorklist?: boolean;
+  /** Take every stream axle as it comes, deferring none (deferral.ts): same verdicts and lengths, for cross-checks. */
+  noDeferral?: boolean;
 }
 
 /** No fixed state limit: memory and time decide (issue 16). Kept for callers that pass one on. */
@@ -150,6 +155,7 @@ function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): 
   }
   const level = forced ?? reductionFor(model, options.plain === true);
   const lazyLength = level === LAZY_LENGTH || level === LAZY_SPLIT;
+  const defer = level === LAZY_SPLIT && options.noDeferral !== true ? deferrableGroups(model) : 0;
   const properties = propertiesOf(model);
   const pack = packing(model);
   const codes = moveCodes(model);
@@ -303,7 +309,7 @@ function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): 
       table.load(id, cur);
       examine(id, currentEngine, cur, depth);
       edgeStart.put(id, edgeTo.length);
-      forEachMove(model, pack, codes, engines.facts[currentEngine], cur, nxt, visit, level);
+      forEachMove(model, pack, codes, engines.facts[currentEngine], cur, nxt, visit, level, defer);
       edgeCount.put(id, edgeTo.length - edgeStart.data[id]);
     }
     bucket.clear();
@@ -391,6 +397,7 @@ function search(rulebook: Rulebook, options: ProveOptions, forced?: Reduction): 
     stats: { states: nStates, ms: elapsed(), transitions, bytes: bytesUsed() },
   };
   if (stuckPass) result.stats.noStuckPass = stuckPass;
+  if (defer !== 0) result.stats.deferredGroups = bitCount(defer);
   if (stoppedBy) {
     result.reason = stoppedBy.reason;
     result.stoppedBy = stoppedBy.cause;
@@ -420,4 +427,10 @@ function describeViolation(pid: PropertyId, model: Model, moves: Move[]): string
     case "no-stuck-train":
       return "";
   }
+}
+
+function bitCount(mask: number): number {
+  let n = 0;
+  for (let m = mask; m !== 0; m &= m - 1) n++;
+  return n;
 }
