@@ -68,7 +68,7 @@ describe("the groups whose stream axles are deferred", () => {
     expect(deferredRoutes(stepped(twoRoutes(), 2))).toEqual({ main: true, branch: true });
   });
 
-  it("are none on Wrenfold Loop, whose approach rule depends on where the points lie", () => {
+  it("are none on Wrenfold Loop, whose entry rules take the approach count off under a condition (the road set)", () => {
     const rulebook = wrenfoldLoopLayout().rulebook;
     expect(Object.values(deferredRoutes(rulebook)).some((d) => d)).toBe(false);
   });
